@@ -1,0 +1,132 @@
+package fem
+
+import (
+	"fmt"
+	"math"
+
+	"github.com/posteriori-fem/posteriori/internal/quadrature"
+)
+
+// edgeShape fills phi with the traces of the local basis functions on an
+// edge from vertex a (t = 0) to vertex b (t = 1): for degree 1, 1 − t and t;
+// for degree 2, (1 − t)(1 − 2t), t(2t − 1) and 4t(1 − t) for the midpoint.
+func edgeShape(degree int, t float64, phi []float64) []float64 {
+	if degree == 1 {
+		return append(phi[:0], 1-t, t)
+	}
+	return append(phi[:0], (1-t)*(1-2*t), t*(2*t-1), 4*t*(1-t))
+}
+
+// assembleNeumann adds ∫_E g_N φ_i ds over the Neumann edges to b, with a
+// Gauss–Legendre rule of degree p + LoadExtraDegree.
+func assembleNeumann(s *Space, p *Problem, b []float64) error {
+	if len(p.Neumann) == 0 {
+		return nil
+	}
+	m := s.Mesh
+	rule, err := quadrature.ForLine(s.Degree + LoadExtraDegree)
+	if err != nil {
+		return err
+	}
+	nv := int32(m.NumVertices())
+	phi := make([]float64, 0, 3)
+	for e := range m.NumEdges() {
+		if !m.IsBoundary(e) {
+			continue
+		}
+		gn, ok := p.Neumann[m.EdgeTag[e]]
+		if !ok || gn == nil {
+			continue
+		}
+		va, vb := m.Edge[2*e], m.Edge[2*e+1]
+		ax, ay := m.Vertex(int(va))
+		bx, by := m.Vertex(int(vb))
+		length := m.EdgeLength(e)
+		dofs := []int32{va, vb, nv + int32(e)}
+		for q, t := range rule.X {
+			x, y := ax+t*(bx-ax), ay+t*(by-ay)
+			v := gn(x, y)
+			if math.IsNaN(v) || math.IsInf(v, 0) {
+				return atTag(m.EdgeTag[e], fmt.Errorf("%w: Neumann data %g at (%g, %g)", ErrNotFinite, v, x, y))
+			}
+			phi = edgeShape(s.Degree, t, phi)
+			for i, f := range phi {
+				b[dofs[i]] += rule.W[q] * length * v * f
+			}
+		}
+	}
+	return nil
+}
+
+// dirichletValues returns the Dirichlet mask and the values g_D at the
+// Dirichlet nodes, taking each node's value from the smallest tag it
+// touches.
+func dirichletValues(s *Space, p *Problem) (fixed []bool, g []float64, err error) {
+	m := s.Mesh
+	n := s.NumDOF()
+	fixed = make([]bool, n)
+	g = make([]float64, n)
+	nv := int32(m.NumVertices())
+	set := func(tag int32, gd Func, d int32) error {
+		if fixed[d] {
+			return nil
+		}
+		fixed[d] = true
+		if gd == nil {
+			return nil
+		}
+		x, y := s.DOFPoint(int(d))
+		v := gd(x, y)
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return atTag(tag, fmt.Errorf("%w: Dirichlet data %g at (%g, %g)", ErrNotFinite, v, x, y))
+		}
+		g[d] = v
+		return nil
+	}
+	for _, tag := range p.DirichletTags() {
+		gd := p.Dirichlet[tag]
+		for e := range m.NumEdges() {
+			if !m.IsBoundary(e) || m.EdgeTag[e] != tag {
+				continue
+			}
+			ds := []int32{m.Edge[2*e], m.Edge[2*e+1]}
+			if s.Degree == 2 {
+				ds = append(ds, nv+int32(e))
+			}
+			for _, d := range ds {
+				if err := set(tag, gd, d); err != nil {
+					return nil, nil, err
+				}
+			}
+		}
+	}
+	return fixed, g, nil
+}
+
+// eliminate moves the Dirichlet values to the right-hand side and replaces
+// the rows and columns of the Dirichlet DOFs by those of the identity,
+// keeping A symmetric.
+func (sys *System) eliminate(fixed []bool, g []float64) {
+	a, b := sys.A, sys.B
+	for i := range a.Rows {
+		lo, hi := a.RowPtr[i], a.RowPtr[i+1]
+		if fixed[i] {
+			sys.Dirichlet = append(sys.Dirichlet, int32(i))
+			for q := lo; q < hi; q++ {
+				if int(a.Col[q]) == i {
+					a.Val[q] = 1
+				} else {
+					a.Val[q] = 0
+				}
+			}
+			b[i] = g[i]
+			continue
+		}
+		for q := lo; q < hi; q++ {
+			if j := a.Col[q]; fixed[j] {
+				b[i] -= a.Val[q] * g[j]
+				a.Val[q] = 0
+			}
+		}
+	}
+}

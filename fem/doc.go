@@ -1,0 +1,41 @@
+// Package fem discretizes the elliptic problem
+//
+//	−∇·(a ∇u) + c u = f  in Ω,   u = g_D on Γ_D,   a ∇u·n = g_N on Γ_N
+//
+// with continuous Lagrange elements of degree 1 or 2 on a mesh.Mesh: spaces,
+// problem data, assembly into a sparse system, the linear solve, discrete
+// functions and the norms of their error against a known solution.
+//
+// A typical use:
+//
+//	m, _ := mesh.LShape(8)
+//	s, _ := fem.NewSpace(m, 1)
+//	p := &fem.Problem{F: f, Dirichlet: map[int32]fem.Func{1: g, 2: g}}
+//	u, stats, err := fem.Solve(s, p)
+//	_, e, err := u.Error(nil, exact, p)
+//
+// # Conventions
+//
+// DOF numbering: vertices first (DOF i is vertex i), then, for degree 2, one
+// DOF per edge (DOF NumVertices+e is the midpoint of edge e). The local DOFs
+// of triangle (v0, v1, v2) are v0, v1, v2, then the midpoints of the edges
+// opposite v0, v1, v2. The basis is nodal: λ_i for degree 1; λ_i(2λ_i − 1)
+// and 4λ_jλ_k for degree 2, with λ the barycentric coordinates.
+//
+// "DOFs" means the dimension of the whole space (Space.NumDOF), Dirichlet
+// nodes included; the assembled system keeps all of them, with identity
+// rows and columns at the Dirichlet nodes.
+//
+// Diffusion is a symmetric positive definite 2×2 tensor, constant on each
+// region (Problem.A) or a function of position (Problem.AFunc). The energy
+// norm of an error e is (∫ a∇e·∇e + c e²)^½.
+//
+// Quadrature: Dunavant's symmetric rules on triangles and Gauss–Legendre
+// rules on edges (package internal/quadrature). The load uses degree
+// p + LoadExtraDegree; errors use degree ErrorDegree with SingularLevels
+// levels of graded subdivision on triangles containing a singular point.
+//
+// Assembly and error integration split the triangles over GOMAXPROCS
+// goroutines and sum in triangle order, so results do not depend on
+// GOMAXPROCS.
+package fem

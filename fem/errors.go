@@ -1,0 +1,58 @@
+package fem
+
+import (
+	"errors"
+	"fmt"
+)
+
+// Reasons package fem rejects its input, for errors.Is.
+var (
+	ErrArgument    = errors.New("invalid argument")
+	ErrDegree      = errors.New("degree must be 1 or 2")
+	ErrDiffusion   = errors.New("diffusion is not symmetric positive definite and finite")
+	ErrReaction    = errors.New("reaction coefficient is negative or not finite")
+	ErrNotFinite   = errors.New("value is NaN or infinite")
+	ErrIllPosed    = errors.New("problem has no Dirichlet part and no reaction, so its solution is not unique")
+	ErrTag         = errors.New("boundary tag carried by no edge, or given twice")
+	ErrRegion      = errors.New("region has no diffusion coefficient")
+	ErrNotConverge = errors.New("linear solver did not converge")
+	ErrOutside     = errors.New("point outside the mesh")
+)
+
+// DataError reports bad problem data found where it was evaluated: at a
+// triangle (Triangle ≥ 0), on a boundary tag, or in a region. Fields that do
+// not apply are -1.
+type DataError struct {
+	Triangle int
+	Tag      int
+	Region   int
+	X, Y     float64 // point of evaluation, when Triangle ≥ 0
+	Err      error
+}
+
+func (e *DataError) Error() string {
+	s := "fem:"
+	switch {
+	case e.Triangle >= 0:
+		s += fmt.Sprintf(" triangle %d at (%g, %g):", e.Triangle, e.X, e.Y)
+	case e.Tag >= 0:
+		s += fmt.Sprintf(" boundary tag %d:", e.Tag)
+	case e.Region >= 0:
+		s += fmt.Sprintf(" region %d:", e.Region)
+	}
+	return s + " " + e.Err.Error()
+}
+
+func (e *DataError) Unwrap() error { return e.Err }
+
+func atTriangle(k int, x, y float64, err error) error {
+	return &DataError{Triangle: k, Tag: -1, Region: -1, X: x, Y: y, Err: err}
+}
+
+func atTag(tag int32, err error) error {
+	return &DataError{Triangle: -1, Tag: int(tag), Region: -1, Err: err}
+}
+
+func atRegion(r int32, err error) error {
+	return &DataError{Triangle: -1, Tag: -1, Region: int(r), Err: err}
+}

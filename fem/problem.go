@@ -1,0 +1,150 @@
+package fem
+
+import (
+	"fmt"
+	"math"
+	"slices"
+
+	"github.com/posteriori-fem/posteriori/mesh"
+)
+
+// Tensor is a symmetric 2×2 diffusion tensor [[XX, XY], [XY, YY]].
+type Tensor struct{ XX, XY, YY float64 }
+
+// Scalar returns the isotropic tensor a·I.
+func Scalar(a float64) Tensor { return Tensor{XX: a, YY: a} }
+
+// Apply returns the product of t with the vector (gx, gy).
+func (t Tensor) Apply(gx, gy float64) (float64, float64) {
+	return t.XX*gx + t.XY*gy, t.XY*gx + t.YY*gy
+}
+
+// valid reports whether t is finite and positive definite.
+func (t Tensor) valid() bool {
+	ok := !math.IsNaN(t.XX+t.XY+t.YY) && !math.IsInf(t.XX+t.XY+t.YY, 0)
+	return ok && t.XX > 0 && t.YY > 0 && t.XX*t.YY-t.XY*t.XY > 0
+}
+
+// Func is a scalar function of position.
+type Func func(x, y float64) float64
+
+// Problem is the elliptic boundary value problem
+//
+//	−∇·(a ∇u) + c u = f   in Ω,
+//	u = g_D               on the Dirichlet edges,
+//	a ∇u · n = g_N        on the Neumann edges,
+//
+// with n the outward unit normal. Boundary edges whose tag is in neither map
+// carry the natural condition a ∇u · n = 0.
+type Problem struct {
+	// A gives the diffusion tensor of each region. If A and AFunc are both
+	// nil, a = 1 everywhere. A region that occurs in the mesh but not in A is
+	// an error.
+	A map[int32]Tensor
+	// AFunc, if not nil, gives the diffusion at a point of a region and
+	// takes precedence over A.
+	AFunc func(x, y float64, region int32) Tensor
+	// C is the reaction coefficient, a constant c ≥ 0.
+	C float64
+	// F is the source f; nil means 0.
+	F Func
+	// Dirichlet gives g_D by boundary tag; a nil Func means 0. Where edges of
+	// several Dirichlet tags meet, the smallest tag's data is used.
+	Dirichlet map[int32]Func
+	// Neumann gives g_N by boundary tag; a nil Func means 0.
+	Neumann map[int32]Func
+	// PureNeumann allows a problem with no Dirichlet edges and c = 0. Its
+	// solution is fixed by zero mean value; the load is made compatible by
+	// removing its component along the constants.
+	PureNeumann bool
+}
+
+// Diffusion returns the diffusion tensor at (x, y) in the given region.
+func (p *Problem) Diffusion(x, y float64, region int32) Tensor {
+	switch {
+	case p.AFunc != nil:
+		return p.AFunc(x, y, region)
+	case p.A != nil:
+		return p.A[region]
+	}
+	return Tensor{XX: 1, YY: 1}
+}
+
+// PiecewiseConstant reports whether the diffusion is constant on each
+// region (given by A, or the default a = 1).
+func (p *Problem) PiecewiseConstant() bool { return p.AFunc == nil }
+
+// Source returns f(x, y), or 0 where F is nil.
+func (p *Problem) Source(x, y float64) float64 {
+	if p.F == nil {
+		return 0
+	}
+	return p.F(x, y)
+}
+
+// Check verifies the problem against a mesh: the diffusion of every region
+// in A is finite and positive definite, c is finite and ≥ 0, every Dirichlet
+// and Neumann tag is carried by some boundary edge and no tag is in both,
+// and the problem is well posed (a Dirichlet edge or c > 0, unless
+// PureNeumann). Values of F, AFunc and the boundary data are checked where
+// they are evaluated, during assembly.
+func (p *Problem) Check(m *mesh.Mesh) error {
+	if p == nil || m == nil {
+		return fmt.Errorf("fem: nil problem or mesh: %w", ErrArgument)
+	}
+	if math.IsNaN(p.C) || math.IsInf(p.C, 0) || p.C < 0 {
+		return fmt.Errorf("fem: c = %g: %w", p.C, ErrReaction)
+	}
+	if p.AFunc == nil && p.A != nil {
+		seen := map[int32]bool{}
+		for _, r := range m.Region {
+			if seen[r] {
+				continue
+			}
+			seen[r] = true
+			t, ok := p.A[r]
+			if !ok {
+				return atRegion(r, ErrRegion)
+			}
+			if !t.valid() {
+				return atRegion(r, fmt.Errorf("%w: %+v", ErrDiffusion, t))
+			}
+		}
+	}
+	tags := map[int32]bool{}
+	for e := range m.NumEdges() {
+		if m.IsBoundary(e) {
+			tags[m.EdgeTag[e]] = true
+		}
+	}
+	for _, tag := range p.DirichletTags() {
+		if !tags[tag] {
+			return atTag(tag, fmt.Errorf("%w: Dirichlet tag not on the boundary", ErrTag))
+		}
+		if _, ok := p.Neumann[tag]; ok {
+			return atTag(tag, fmt.Errorf("%w: tag is both Dirichlet and Neumann", ErrTag))
+		}
+	}
+	for tag := range p.Neumann {
+		if !tags[tag] {
+			return atTag(tag, fmt.Errorf("%w: Neumann tag not on the boundary", ErrTag))
+		}
+	}
+	if len(p.Dirichlet) == 0 && p.C == 0 && !p.PureNeumann {
+		return fmt.Errorf("fem: %w (set PureNeumann to solve it up to a constant)", ErrIllPosed)
+	}
+	return nil
+}
+
+// DirichletTags returns the Dirichlet tags in ascending order.
+func (p *Problem) DirichletTags() []int32 {
+	tags := make([]int32, 0, len(p.Dirichlet))
+	for t := range p.Dirichlet {
+		tags = append(tags, t)
+	}
+	slices.Sort(tags)
+	return tags
+}
+
+// pureNeumann reports whether the solution is fixed only up to a constant.
+func (p *Problem) pureNeumann() bool { return len(p.Dirichlet) == 0 && p.C == 0 }

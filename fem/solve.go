@@ -1,0 +1,79 @@
+package fem
+
+import (
+	"errors"
+	"fmt"
+
+	"github.com/posteriori-fem/posteriori/internal/sparse"
+)
+
+// SolveSettings controls the linear solve. The zero value asks for the
+// defaults.
+type SolveSettings struct {
+	// Tol is the relative residual ‖B − A u‖₂ / ‖B‖₂ at which the solver
+	// stops; zero means 1e-10.
+	Tol float64
+	// MaxIter limits the iterations; zero means 10·n + 100 for n DOFs.
+	MaxIter int
+	// X0 is the initial guess (length NumDOF); nil means zero, with the
+	// Dirichlet values in place.
+	X0 []float64
+}
+
+// SolveStats reports what the linear solver did.
+type SolveStats struct {
+	Iterations int     // preconditioned conjugate gradient iterations
+	Residual   float64 // final relative residual ‖B − A u‖₂ / ‖B‖₂
+}
+
+// Solve solves the system by the conjugate gradient method preconditioned
+// with the diagonal of A (Jacobi). For a pure Neumann problem the solution
+// is shifted to zero mean value. It returns an error wrapping
+// ErrNotConverge, with the stats of the last iterate, when the tolerance is
+// not met within MaxIter iterations.
+func (sys *System) Solve(s SolveSettings) (*Function, SolveStats, error) {
+	n := sys.Space.NumDOF()
+	x := make([]float64, n)
+	if s.X0 != nil {
+		if len(s.X0) != n {
+			return nil, SolveStats{}, fmt.Errorf("fem: Solve: initial guess has length %d, want %d: %w", len(s.X0), n, ErrArgument)
+		}
+		copy(x, s.X0)
+	}
+	for _, d := range sys.Dirichlet {
+		x[d] = sys.B[d]
+	}
+	pre, err := sparse.NewJacobi(sys.A)
+	if err != nil {
+		return nil, SolveStats{}, fmt.Errorf("fem: Solve: %w", err)
+	}
+	res, err := sparse.CG(sys.A, sys.B, x, pre, sparse.CGSettings{Tol: s.Tol, MaxIter: s.MaxIter})
+	stats := SolveStats{Iterations: res.Iterations, Residual: res.Residual}
+	if err != nil {
+		if errors.Is(err, sparse.ErrNotConverged) {
+			return nil, stats, fmt.Errorf("fem: Solve: %w after %d iterations (relative residual %.3g): %w", ErrNotConverge, res.Iterations, res.Residual, err)
+		}
+		return nil, stats, fmt.Errorf("fem: Solve: %w", err)
+	}
+	u := &Function{Space: sys.Space, U: x}
+	if sys.Problem.pureNeumann() {
+		area := 0.0
+		for k := range sys.Space.Mesh.NumTriangles() {
+			area += sys.Space.Mesh.Area(k)
+		}
+		mean := u.Integral() / area
+		for i := range x {
+			x[i] -= mean
+		}
+	}
+	return u, stats, nil
+}
+
+// Solve assembles and solves p on s with the default settings.
+func Solve(s *Space, p *Problem) (*Function, SolveStats, error) {
+	sys, err := Assemble(s, p)
+	if err != nil {
+		return nil, SolveStats{}, err
+	}
+	return sys.Solve(SolveSettings{})
+}

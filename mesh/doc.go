@@ -1,0 +1,34 @@
+// Package mesh holds conforming triangle meshes: vertices, triangles,
+// region and boundary tags, and the topology derived from them (edges,
+// triangle-to-edge and edge-to-triangle maps), with generators for the
+// standard test domains, validation, refinement, quality figures, and
+// reading and writing of meshes and fields.
+//
+// Package mesh knows nothing of finite elements: it is the ground that
+// package fem builds spaces on.
+//
+// # Conventions
+//
+// Vertices are numbered from 0 and stored as X[2i], X[2i+1]. Triangles are
+// stored counter-clockwise as three int32 vertex indices. The refinement
+// edge of triangle (v0, v1, v2) is v1–v2, the edge opposite v0, which is
+// called the newest vertex. Bisection joins the midpoint m of v1–v2 to v0
+// and gives the children (m, v0, v1) and
+// (m, v2, v0), whose newest vertex is m and whose refinement edges are the
+// old edges v0–v1 and v2–v0 (newest-vertex bisection). The generators label
+// each triangle so that its refinement edge is its longest edge, and the
+// two triangles on either side of a refinement edge share it as their
+// refinement edge.
+//
+// Edge i of a triangle is the edge opposite its vertex i, so TriEdge[3k]
+// is the refinement edge of triangle k. Edges are numbered by sorting their
+// (low, high) vertex pairs. A boundary edge carries a tag ≥ 0 (0 where none
+// was given); an interior edge carries Interior (-1). A region is an
+// arbitrary int32 per triangle, 0 by default.
+//
+// Uniform refinement cuts each triangle into four by bisecting it twice,
+// so that the newest-vertex labelling, and with it the bound on the number
+// of triangle shapes, is kept.
+//
+// h_T is the diameter (longest edge) of triangle T; h_E the length of edge E.
+package mesh

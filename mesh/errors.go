@@ -1,0 +1,66 @@
+package mesh
+
+import (
+	"errors"
+	"fmt"
+)
+
+// Reasons a mesh is rejected. They are wrapped in a *ValidationError that
+// says where the problem is; match them with errors.Is.
+var (
+	ErrLength         = errors.New("array lengths do not match")
+	ErrEmpty          = errors.New("no triangles")
+	ErrIndex          = errors.New("vertex index out of range")
+	ErrRepeatedVertex = errors.New("triangle repeats a vertex")
+	ErrNotFinite      = errors.New("coordinate or area is NaN or infinite")
+	ErrZeroArea       = errors.New("zero area")
+	ErrNonManifold    = errors.New("edge shared by more than two triangles")
+	ErrOverlap        = errors.New("two triangles lie on the same side of a shared edge (duplicated or folded)")
+	ErrNotAnEdge      = errors.New("boundary edge is not an edge of any triangle")
+	ErrNotBoundary    = errors.New("tagged edge is not on the boundary")
+	ErrDuplicateEdge  = errors.New("boundary edge listed twice")
+	ErrTag            = errors.New("boundary tag is negative")
+	ErrUnusedVertex   = errors.New("vertex belongs to no triangle")
+	ErrArgument       = errors.New("invalid argument")
+)
+
+// ValidationError reports why and where a mesh was rejected. Fields that do
+// not apply are -1.
+type ValidationError struct {
+	Triangle int // index of the offending triangle
+	Vertex   int // index of the offending vertex
+	Edge     int // index into the boundary-edge list given by the caller
+	Err      error
+}
+
+func (e *ValidationError) Error() string {
+	s := "mesh:"
+	if e.Triangle >= 0 {
+		s += fmt.Sprintf(" triangle %d:", e.Triangle)
+	}
+	if e.Vertex >= 0 {
+		s += fmt.Sprintf(" vertex %d:", e.Vertex)
+	}
+	if e.Edge >= 0 {
+		s += fmt.Sprintf(" boundary edge %d:", e.Edge)
+	}
+	return s + " " + e.Err.Error()
+}
+
+func (e *ValidationError) Unwrap() error { return e.Err }
+
+func triErr(k int, err error) error {
+	return &ValidationError{Triangle: k, Vertex: -1, Edge: -1, Err: err}
+}
+
+func vertErr(v int, err error) error {
+	return &ValidationError{Triangle: -1, Vertex: v, Edge: -1, Err: err}
+}
+
+func edgeErr(b int, err error) error {
+	return &ValidationError{Triangle: -1, Vertex: -1, Edge: b, Err: err}
+}
+
+func lenErr(format string, args ...any) error {
+	return &ValidationError{Triangle: -1, Vertex: -1, Edge: -1, Err: fmt.Errorf("%w: "+format, append([]any{ErrLength}, args...)...)}
+}

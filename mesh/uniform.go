@@ -1,0 +1,69 @@
+package mesh
+
+import (
+	"fmt"
+	"math"
+)
+
+// Parents maps the entities of a refined mesh back to the mesh it was
+// refined from. Vertices of the old mesh keep their indices in the new one;
+// the new vertices follow them.
+type Parents struct {
+	Triangle []int32 // per triangle of the new mesh: the old triangle that contains it
+	Edge     []int32 // per new vertex i (vertex OldVertices+i of the new mesh): the old edge whose midpoint it is
+	// OldVertices is the number of vertices of the old mesh.
+	OldVertices int
+}
+
+// RefineUniform cuts every triangle into four by two rounds of
+// newest-vertex bisection, so that every edge of m is halved once and the
+// newest-vertex labelling is kept. For a triangle (v0, v1, v2) with
+// midpoints m0, m1, m2 of the edges opposite v0, v1, v2, the children are,
+// in this order,
+//
+//	(m2, m0, v0), (m2, v1, m0), (m1, m0, v2), (m1, v0, m0)
+//
+// so child 4k+c of the new mesh lies in triangle k. The midpoint of old edge
+// e is new vertex NumVertices()+e. Regions and boundary tags are inherited.
+// RefineUniform is linear in the size of the mesh.
+func (m *Mesh) RefineUniform() (*Mesh, *Parents, error) {
+	nv, nt, ne := m.NumVertices(), m.NumTriangles(), m.NumEdges()
+	if float64(nv+ne) > math.MaxInt32/2 || float64(4*nt) > math.MaxInt32/3 {
+		return nil, nil, fmt.Errorf("mesh: RefineUniform: %d triangles is too many for int32 indices: %w", 4*nt, ErrArgument)
+	}
+	x := make([]float64, 2*(nv+ne))
+	copy(x, m.X)
+	p := &Parents{Triangle: make([]int32, 4*nt), Edge: make([]int32, ne), OldVertices: nv}
+	for e := range ne {
+		a, b := m.Edge[2*e], m.Edge[2*e+1]
+		x[2*(nv+e)] = 0.5 * (m.X[2*a] + m.X[2*b])
+		x[2*(nv+e)+1] = 0.5 * (m.X[2*a+1] + m.X[2*b+1])
+		p.Edge[e] = int32(e)
+	}
+	tri := make([]int32, 0, 12*nt)
+	region := make([]int32, 0, 4*nt)
+	base := int32(nv)
+	for k := range nt {
+		v0, v1, v2 := m.Tri[3*k], m.Tri[3*k+1], m.Tri[3*k+2]
+		m0, m1, m2 := base+m.TriEdge[3*k], base+m.TriEdge[3*k+1], base+m.TriEdge[3*k+2]
+		tri = append(tri, m2, m0, v0, m2, v1, m0, m1, m0, v2, m1, v0, m0)
+		r := m.Region[k]
+		region = append(region, r, r, r, r)
+		for c := range 4 {
+			p.Triangle[4*k+c] = int32(k)
+		}
+	}
+	var bnd, tag []int32
+	for e := range ne {
+		if m.IsBoundary(e) {
+			a, b, mid := m.Edge[2*e], m.Edge[2*e+1], base+int32(e)
+			bnd = append(bnd, a, mid, mid, b)
+			tag = append(tag, m.EdgeTag[e], m.EdgeTag[e])
+		}
+	}
+	fine, _, err := New(Arrays{X: x, Tri: tri, Region: region, Bnd: bnd, BndTag: tag})
+	if err != nil {
+		return nil, nil, fmt.Errorf("mesh: RefineUniform: %w", err)
+	}
+	return fine, p, nil
+}
