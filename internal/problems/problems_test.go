@@ -1,0 +1,40 @@
+package problems
+
+import (
+	"math"
+	"testing"
+)
+
+// Corner(α) is harmonic with the stated gradient: checked by central
+// differences (classical second-order formulas) away from the origin.
+func TestCorner(t *testing.T) {
+	t.Parallel()
+	for _, alpha := range []float64{2.0 / 3, 0.5} {
+		ex := Corner(alpha)
+		const h = 1e-4
+		for _, p := range [][2]float64{{0.3, 0.4}, {-0.5, 0.2}, {-0.7, -0.6}, {0.1, 0.9}, {0.2, -0.8}} {
+			x, y := p[0], p[1]
+			if alpha == 0.5 && y < 0 && x > 0 {
+				continue // across the slit θ jumps; stay off it
+			}
+			gx, gy := ex.Grad(x, y)
+			fx := (ex.U(x+h, y) - ex.U(x-h, y)) / (2 * h)
+			fy := (ex.U(x, y+h) - ex.U(x, y-h)) / (2 * h)
+			if math.Abs(gx-fx) > 1e-6 || math.Abs(gy-fy) > 1e-6 {
+				t.Errorf("α=%g at %v: grad (%g, %g), differences (%g, %g)", alpha, p, gx, gy, fx, fy)
+			}
+			lap := (ex.U(x+h, y) + ex.U(x-h, y) + ex.U(x, y+h) + ex.U(x, y-h) - 4*ex.U(x, y)) / (h * h)
+			if math.Abs(lap) > 1e-4 {
+				t.Errorf("α=%g at %v: Laplacian %g", alpha, p, lap)
+			}
+		}
+		// u vanishes on θ = 0 and θ = π/α.
+		th := math.Pi / alpha
+		if v := ex.U(0.5*math.Cos(th), 0.5*math.Sin(th)); math.Abs(v) > 1e-14 {
+			t.Errorf("α=%g: u = %g on θ = π/α", alpha, v)
+		}
+		if v := ex.U(0.5, 0); v != 0 {
+			t.Errorf("α=%g: u = %g on θ = 0", alpha, v)
+		}
+	}
+}
