@@ -67,22 +67,9 @@ func (u *Function) GradLocal(k int, l [3]float64) (gx, gy float64) {
 // Hessian returns the second derivatives (∂xx, ∂xy, ∂yy) of u on triangle
 // k, which are constant there: zero for degree 1.
 func (u *Function) Hessian(k int) [3]float64 {
-	s := u.Space
-	if s.Degree == 1 {
-		return [3]float64{}
-	}
-	var g geometry
-	var hess [6][3]float64
-	var dofs [6]int32
-	s.geom(&g, k)
-	shapeHessian(&g, hess[:])
-	var h [3]float64
-	for i, d := range s.ElementDOFs(dofs[:0], k) {
-		for c := range 3 {
-			h[c] += u.U[d] * hess[i][c]
-		}
-	}
-	return h
+	ev := Evaluator{u: u}
+	ev.Load(k)
+	return ev.Hessian()
 }
 
 // At returns u(x, y). It returns an error wrapping ErrOutside if the point

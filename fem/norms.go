@@ -64,7 +64,7 @@ func (u *Function) Error(dst []float64, ex Exact, p *Problem) ([]float64, Errors
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
-			ev := newEvaluator(s)
+			ev := NewEvaluator(u)
 			for k := lo; k < hi; k++ {
 				if err := ev.triangleError(u, k, ex, p, rule, &l2[k], &h1[k], &dst[k]); err != nil {
 					errs[w] = err
@@ -96,42 +96,8 @@ func resize(dst []float64, n int) []float64 {
 	return dst[:n]
 }
 
-// evaluator evaluates a Function on one triangle at a time.
-type evaluator struct {
-	s    *Space
-	g    geometry
-	coef [6]float64
-	phi  [6]float64
-	grad [6][2]float64
-	dofs [6]int32
-}
-
-func newEvaluator(s *Space) *evaluator { return &evaluator{s: s} }
-
-// load prepares the evaluator for triangle k of u.
-func (ev *evaluator) load(u *Function, k int) {
-	ev.s.geom(&ev.g, k)
-	for i, d := range ev.s.ElementDOFs(ev.dofs[:0], k) {
-		ev.coef[i] = u.U[d]
-	}
-}
-
-// eval returns the value and gradient at barycentric point l of the
-// loaded triangle.
-func (ev *evaluator) eval(l [3]float64) (v, gx, gy float64) {
-	deg, ld := ev.s.Degree, ev.s.LocalDOFs()
-	shape(deg, l, ev.phi[:ld])
-	shapeGrad(deg, &ev.g, l, ev.grad[:ld])
-	for i := range ld {
-		v += ev.coef[i] * ev.phi[i]
-		gx += ev.coef[i] * ev.grad[i][0]
-		gy += ev.coef[i] * ev.grad[i][1]
-	}
-	return v, gx, gy
-}
-
-func (ev *evaluator) triangleError(u *Function, k int, ex Exact, p *Problem, rule *quadrature.Triangle, l2, h1, en *float64) error {
-	ev.load(u, k)
+func (ev *Evaluator) triangleError(u *Function, k int, ex Exact, p *Problem, rule *quadrature.Triangle, l2, h1, en *float64) error {
+	ev.Load(k)
 	g := &ev.g
 	var bad error
 	fn := func(l [3]float64, w float64) {
@@ -139,7 +105,7 @@ func (ev *evaluator) triangleError(u *Function, k int, ex Exact, p *Problem, rul
 			return
 		}
 		x, y := g.point(l)
-		v, gx, gy := ev.eval(l)
+		v, gx, gy := ev.Eval(l)
 		ue := ex.U(x, y)
 		ux, uy := ex.Grad(x, y)
 		e, dx, dy := ue-v, ux-gx, uy-gy

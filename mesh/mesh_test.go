@@ -156,3 +156,32 @@ func TestNewTopology(t *testing.T) {
 		}
 	}
 }
+
+func TestVertexTriangles(t *testing.T) {
+	t.Parallel()
+	m, err := LShape(2)
+	if err != nil {
+		t.Fatal(err)
+	}
+	start, tri := m.VertexTriangles()
+	for v := range m.NumVertices() {
+		for _, k := range tri[start[v]:start[v+1]] {
+			tv := m.Tri[3*k : 3*k+3]
+			if tv[0] != int32(v) && tv[1] != int32(v) && tv[2] != int32(v) {
+				t.Fatalf("vertex %d lists triangle %d = %v", v, k, tv)
+			}
+		}
+	}
+	if int(start[m.NumVertices()]) != 3*m.NumTriangles() {
+		t.Fatalf("%d entries, want %d", start[m.NumVertices()], 3*m.NumTriangles())
+	}
+	// Boundary vertices, by the geometry of the L-shape.
+	bv := m.BoundaryVertices()
+	for v := range m.NumVertices() {
+		x, y := m.Vertex(v)
+		onBoundary := x == -1 || x == 1 || y == -1 || y == 1 || (x == 0 && y <= 0) || (y == 0 && x >= 0)
+		if bv[v] != onBoundary {
+			t.Errorf("vertex %d at (%g, %g): boundary %v, want %v", v, x, y, bv[v], onBoundary)
+		}
+	}
+}

@@ -16,13 +16,6 @@ import (
 //
 // u is harmonic; it vanishes on θ = 0 and on θ = π/α.
 func Corner(alpha float64) fem.Exact {
-	polar := func(x, y float64) (r, th float64) {
-		th = math.Atan2(y, x)
-		if th < 0 {
-			th += 2 * math.Pi
-		}
-		return math.Hypot(x, y), th
-	}
 	return fem.Exact{
 		U: func(x, y float64) float64 {
 			r, th := polar(x, y)

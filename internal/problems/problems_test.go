@@ -38,3 +38,38 @@ func TestCorner(t *testing.T) {
 		}
 	}
 }
+
+// The Kellogg constants satisfy the interface conditions: u and a ∂u/∂θ
+// are continuous across the four half-axes (the transmission conditions
+// of the checkerboard problem, Kellogg 1975), and μ is periodic.
+func TestKelloggTransmission(t *testing.T) {
+	t.Parallel()
+	a := []float64{KelloggR, 1, KelloggR, 1} // quadrants 1..4
+	const eps = 1e-12
+	for q := range 4 {
+		th := float64(q+1) * math.Pi / 2
+		below, dbelow := kelloggMu(th - eps)
+		above, dabove := kelloggMu(math.Mod(th+eps, 2*math.Pi))
+		if math.Abs(below-above) > 1e-10 {
+			t.Errorf("θ = %g: μ jumps from %g to %g", th, below, above)
+		}
+		// The flux a μ' is continuous (relative to its size).
+		fb, fa := a[q]*dbelow, a[(q+1)%4]*dabove
+		if math.Abs(fb-fa) > 1e-11*math.Abs(fb) { // constants given to 16 digits
+			t.Errorf("θ = %g: flux jumps from %.15g to %.15g", th, fb, fa)
+		}
+	}
+	// u is harmonic inside each quadrant (central differences).
+	ex, _ := Kellogg()
+	const h = 1e-4
+	for _, p := range [][2]float64{{0.3, 0.4}, {-0.5, 0.2}, {-0.7, -0.6}, {0.2, -0.8}} {
+		x, y := p[0], p[1]
+		lap := (ex.U(x+h, y) + ex.U(x-h, y) + ex.U(x, y+h) + ex.U(x, y-h) - 4*ex.U(x, y)) / (h * h)
+		gx, gy := ex.Grad(x, y)
+		fx := (ex.U(x+h, y) - ex.U(x-h, y)) / (2 * h)
+		fy := (ex.U(x, y+h) - ex.U(x, y-h)) / (2 * h)
+		if math.Abs(lap) > 1e-4 || math.Abs(gx-fx) > 1e-6 || math.Abs(gy-fy) > 1e-6 {
+			t.Errorf("%v: Laplacian %g, grad (%g, %g) vs (%g, %g)", p, lap, gx, gy, fx, fy)
+		}
+	}
+}

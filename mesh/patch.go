@@ -1,0 +1,37 @@
+package mesh
+
+// VertexTriangles returns the triangles around each vertex in compressed
+// form: the triangles that contain vertex v are tri[start[v]:start[v+1]],
+// in ascending order. It is linear in the size of the mesh.
+func (m *Mesh) VertexTriangles() (start, tri []int32) {
+	nv, nt := m.NumVertices(), m.NumTriangles()
+	start = make([]int32, nv+1)
+	for _, v := range m.Tri {
+		start[v+1]++
+	}
+	for v := range nv {
+		start[v+1] += start[v]
+	}
+	tri = make([]int32, 3*nt)
+	fill := append([]int32(nil), start[:nv]...)
+	for k := range nt {
+		for _, v := range m.Tri[3*k : 3*k+3] {
+			tri[fill[v]] = int32(k)
+			fill[v]++
+		}
+	}
+	return start, tri
+}
+
+// BoundaryVertices reports, for each vertex, whether it lies on a boundary
+// edge.
+func (m *Mesh) BoundaryVertices() []bool {
+	b := make([]bool, m.NumVertices())
+	for e := range m.NumEdges() {
+		if m.IsBoundary(e) {
+			b[m.Edge[2*e]] = true
+			b[m.Edge[2*e+1]] = true
+		}
+	}
+	return b
+}
