@@ -1,0 +1,172 @@
+package mesh
+
+import (
+	"bufio"
+	"fmt"
+	"math"
+	"slices"
+	"strconv"
+)
+
+// Data holds named fields on a mesh: Point fields have one value per
+// vertex, Cell fields one per triangle. Either map may be nil.
+//
+// A field name is non-empty and made of the characters A–Z, a–z, 0–9, '_',
+// '.' and '-', so that it can be written unquoted into any of the file
+// formats of this package. The writers emit fields in sorted name order,
+// so their output is deterministic.
+type Data struct {
+	Point, Cell map[string][]float64
+}
+
+// Check reports whether d fits m: every Point field has NumVertices values
+// and every Cell field NumTriangles, all values are finite, and every name
+// is valid. The error, which names the field, wraps ErrArgument for a bad
+// name, ErrLength for a wrong length and ErrNotFinite for a NaN or infinite
+// value. A nil d passes.
+func (d *Data) Check(m *Mesh) error {
+	if d == nil {
+		return nil
+	}
+	if m == nil {
+		return fmt.Errorf("mesh: Data.Check: nil mesh: %w", ErrArgument)
+	}
+	kinds := []struct {
+		kind   string
+		fields map[string][]float64
+		n      int
+		per    string
+	}{
+		{"point", d.Point, m.NumVertices(), "vertex"},
+		{"cell", d.Cell, m.NumTriangles(), "triangle"},
+	}
+	for _, k := range kinds {
+		for _, name := range sortedNames(k.fields) {
+			v := k.fields[name]
+			if !validName(name) {
+				return fmt.Errorf("mesh: %s field %q: a name must be non-empty and made of A-Z a-z 0-9 _ . -: %w", k.kind, name, ErrArgument)
+			}
+			if len(v) != k.n {
+				return fmt.Errorf("mesh: %s field %q: %d values, want %d (one per %s): %w", k.kind, name, len(v), k.n, k.per, ErrLength)
+			}
+			for i, x := range v {
+				if math.IsNaN(x) || math.IsInf(x, 0) {
+					return fmt.Errorf("mesh: %s field %q: value %d is %v: %w", k.kind, name, i, x, ErrNotFinite)
+				}
+			}
+		}
+	}
+	return nil
+}
+
+// validName reports whether s is a valid field name.
+func validName(s string) bool {
+	if s == "" {
+		return false
+	}
+	for i := 0; i < len(s); i++ {
+		c := s[i]
+		switch {
+		case 'a' <= c && c <= 'z', 'A' <= c && c <= 'Z', '0' <= c && c <= '9':
+		case c == '_', c == '.', c == '-':
+		default:
+			return false
+		}
+	}
+	return true
+}
+
+// sortedNames returns the keys of f in increasing order.
+func sortedNames(f map[string][]float64) []string {
+	names := make([]string, 0, len(f))
+	for name := range f {
+		names = append(names, name)
+	}
+	slices.Sort(names)
+	return names
+}
+
+// checkShape checks that the arrays of m have consistent lengths and that
+// every index in them is in range, so that the writers cannot panic on a
+// Mesh value that was put together by hand instead of by New. It does not
+// repeat New's geometric checks.
+func checkShape(m *Mesh, who string) error {
+	if m == nil {
+		return fmt.Errorf("mesh: %s: nil mesh: %w", who, ErrArgument)
+	}
+	nv, nt, ne := len(m.X)/2, len(m.Tri)/3, len(m.Edge)/2
+	switch {
+	case len(m.X)%2 != 0 || len(m.Tri)%3 != 0 || len(m.Edge)%2 != 0:
+		return fmt.Errorf("mesh: %s: len(X), len(Tri) or len(Edge) is not a multiple of 2, 3, 2: %w", who, ErrLength)
+	case nt == 0:
+		return fmt.Errorf("mesh: %s: %w", who, ErrEmpty)
+	case len(m.Region) != nt || len(m.TriEdge) != 3*nt || len(m.EdgeTri) != 2*ne || len(m.EdgeTag) != ne:
+		return fmt.Errorf("mesh: %s: Region, TriEdge, EdgeTri or EdgeTag has the wrong length (build meshes with New): %w", who, ErrLength)
+	}
+	for _, v := range m.Tri {
+		if v < 0 || int(v) >= nv {
+			return fmt.Errorf("mesh: %s: triangle vertex %d out of range: %w", who, v, ErrIndex)
+		}
+	}
+	for _, v := range m.Edge {
+		if v < 0 || int(v) >= nv {
+			return fmt.Errorf("mesh: %s: edge vertex %d out of range: %w", who, v, ErrIndex)
+		}
+	}
+	for _, e := range m.TriEdge {
+		if e < 0 || int(e) >= ne {
+			return fmt.Errorf("mesh: %s: TriEdge entry %d out of range: %w", who, e, ErrIndex)
+		}
+	}
+	for i, k := range m.EdgeTri {
+		if int(k) >= nt || k < -1 || (k < 0 && i%2 == 0) {
+			return fmt.Errorf("mesh: %s: EdgeTri entry %d out of range: %w", who, k, ErrIndex)
+		}
+	}
+	return nil
+}
+
+// textWriter writes text through a bufio.Writer and remembers the first
+// error, after which it writes nothing more.
+type textWriter struct {
+	w   *bufio.Writer
+	err error
+	buf []byte
+}
+
+func (t *textWriter) str(s string) {
+	if t.err == nil {
+		_, t.err = t.w.WriteString(s)
+	}
+}
+
+func (t *textWriter) bytes(b []byte) {
+	if t.err == nil {
+		_, t.err = t.w.Write(b)
+	}
+}
+
+// float writes v in the shortest form that reads back exactly.
+func (t *textWriter) float(v float64) {
+	t.buf = strconv.AppendFloat(t.buf[:0], v, 'g', -1, 64)
+	t.bytes(t.buf)
+}
+
+func (t *textWriter) int(v int64) {
+	t.buf = strconv.AppendInt(t.buf[:0], v, 10)
+	t.bytes(t.buf)
+}
+
+func (t *textWriter) printf(format string, args ...any) {
+	if t.err == nil {
+		_, t.err = fmt.Fprintf(t.w, format, args...)
+	}
+}
+
+// flush flushes the buffer and returns the first error seen.
+func (t *textWriter) flush() error {
+	if t.err == nil {
+		t.err = t.w.Flush()
+	}
+	return t.err
+}
