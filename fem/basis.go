@@ -30,6 +30,13 @@ func (g *geometry) point(l [3]float64) (x, y float64) {
 	return l[0]*g.x[0] + l[1]*g.x[1] + l[2]*g.x[2], l[0]*g.y[0] + l[1]*g.y[1] + l[2]*g.y[2]
 }
 
+// Shape fills phi (length 3·degree) with the values of the local basis
+// functions of the given degree at barycentric point l, in the local DOF
+// order of Space: for degree 1, λ_i; for degree 2, λ_i(2λ_i − 1) for the
+// vertices, then 4λ_jλ_k for the midpoint of the edge opposite vertex i
+// ({i, j, k} = {0, 1, 2}).
+func Shape(degree int, l [3]float64, phi []float64) { shape(degree, l, phi) }
+
 // shape fills phi with the values of the local basis functions at the
 // barycentric point l: for degree 1, λ_i; for degree 2, λ_i(2λ_i − 1) for
 // the vertices and 4λ_jλ_k for the midpoint of the edge opposite vertex i.

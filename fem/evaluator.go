@@ -31,6 +31,9 @@ func (ev *Evaluator) Load(k int) {
 	}
 }
 
+// Degree returns the degree of the function's space.
+func (ev *Evaluator) Degree() int { return ev.u.Space.Degree }
+
 // Triangle returns the current triangle.
 func (ev *Evaluator) Triangle() int { return ev.k }
 

@@ -11,6 +11,10 @@ import (
 // has a rule.
 const MaxTriangleDegree = 10
 
+// MaxTrianglePoints is the largest number of points of any rule returned by
+// [ForTriangle], so that callers can size fixed buffers.
+const MaxTrianglePoints = 25
+
 // Triangle is a symmetric quadrature rule on a triangle in barycentric
 // coordinates.
 //

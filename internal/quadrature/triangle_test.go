@@ -192,6 +192,9 @@ func TestForTriangle(t *testing.T) {
 			if err != nil {
 				t.Fatalf("ForTriangle(%d): %v", d, err)
 			}
+			if r.Len() > MaxTrianglePoints {
+				t.Errorf("ForTriangle(%d) has %d points, more than MaxTrianglePoints", d, r.Len())
+			}
 			if r.Degree < d {
 				t.Errorf("ForTriangle(%d) has degree %d", d, r.Degree)
 			}

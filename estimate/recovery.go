@@ -1,0 +1,326 @@
+package estimate
+
+import (
+	"fmt"
+	"math"
+
+	"github.com/posteriori-fem/posteriori/fem"
+	"github.com/posteriori-fem/posteriori/internal/parallel"
+	"github.com/posteriori-fem/posteriori/internal/quadrature"
+	"github.com/posteriori-fem/posteriori/mesh"
+)
+
+// Method selects how Recovery recovers the gradient.
+type Method int
+
+const (
+	// Averaging takes at each node the area-weighted mean of the gradients
+	// of the triangles around it.
+	Averaging Method = iota
+	// SPR is the superconvergent patch recovery of Zienkiewicz and Zhu: at
+	// each vertex, a polynomial of degree p is fitted by least squares to
+	// the gradients at the sampling points of the triangles around it.
+	SPR
+)
+
+// String returns "averaging" or "spr".
+func (m Method) String() string {
+	switch m {
+	case Averaging:
+		return "averaging"
+	case SPR:
+		return "spr"
+	}
+	return "unknown"
+}
+
+// Recovery is the gradient recovery estimator of Zienkiewicz and Zhu:
+//
+//	η_T² = ‖a^½ (G_T(u_h) − ∇u_h)‖²_T
+//
+// where G(u_h) is a recovered gradient in the same Lagrange space as u_h
+// (each component of degree p, given by its values at the nodes) and a^½ v
+// is measured as (v · a v)^½. For a = 1 this is ‖G(u_h) − ∇u_h‖_T.
+//
+// Averaging: the value at a node is Σ |T'| ∇u_h|_T'(node) / Σ |T'| over the
+// triangles T' that contain the node (for a P2 edge midpoint, the one or two
+// triangles of the edge).
+//
+// SPR: for P1 the sampling points are the triangle centroids and a linear
+// polynomial is fitted per component; for P2 they are the three points
+// (2/3, 1/6, 1/6) of the degree-2 Dunavant rule in each triangle and a
+// quadratic is fitted. The fit of a vertex gives its recovered value; an
+// edge midpoint takes the mean of the fits of its two end vertices. The fit
+// uses coordinates centred at the vertex and scaled by the patch size.
+//
+// Boundary vertices: Averaging uses the triangles present, with no special
+// rule. SPR enlarges the patch of a boundary vertex, and of any vertex whose
+// patch has fewer sampling points than the polynomial has coefficients, by
+// the patches of the vertices of its triangles; where the fit is still not
+// determined it falls back to the averaged value.
+//
+// Interfaces: at a node where triangles of several regions meet, the
+// recovery is done separately for each region, using only the triangles of
+// that region, so that a jump of a is not smeared; the triangles of a
+// region use that region's recovered value.
+//
+// The data oscillation is computed as by Residual. η_T is integrated with
+// the Dunavant rule of degree 2p (2p + 2 for AFunc). The zero value is
+// Averaging.
+//
+// References:
+//   - O. C. Zienkiewicz and J. Z. Zhu, A simple error estimator and adaptive
+//     procedure for practical engineering analysis, Int. J. Numer. Methods
+//     Eng. 24 (1987) 337–357.
+//   - O. C. Zienkiewicz and J. Z. Zhu, The superconvergent patch recovery and
+//     a posteriori error estimates, Parts 1 and 2, Int. J. Numer. Methods
+//     Eng. 33 (1992) 1331–1382.
+type Recovery struct {
+	Method Method
+}
+
+var _ Estimator = Recovery{}
+
+// recovered holds the recovered data per vertex side: side s of vertex v
+// (start[v] ≤ s < start[v+1]) covers the triangles of region region[s] around
+// v. For Averaging coef holds the mean gradient (2 values per side); for SPR
+// the fitted polynomials (2 components × nc coefficients per side) in the
+// coordinates ((x, y) − vertex)/scale[s].
+type recovered struct {
+	start  []int32
+	region []int32
+	coef   []float64
+	scale  []float64
+	nc     int
+}
+
+// side returns the side of vertex v for region r.
+func (rc *recovered) side(v int32, r int32) int {
+	for s := rc.start[v]; s < rc.start[v+1]; s++ {
+		if rc.region[s] == r {
+			return int(s)
+		}
+	}
+	panic("estimate: vertex has no side for its triangle's region") // broken invariant
+}
+
+// eval returns the recovered gradient of side s at (x, y) of vertex (vx, vy).
+func (rc *recovered) eval(s int, vx, vy, x, y float64) (gx, gy float64) {
+	c := rc.coef[s*2*rc.nc : (s+1)*2*rc.nc]
+	if rc.nc == 1 {
+		return c[0], c[1]
+	}
+	var b [6]float64
+	basis(rc.nc, (x-vx)/rc.scale[s], (y-vy)/rc.scale[s], b[:])
+	for i := range rc.nc {
+		gx += c[i] * b[i]
+		gy += c[rc.nc+i] * b[i]
+	}
+	return gx, gy
+}
+
+// basis fills b with the monomials 1, ξ, η (nc = 3) and ξ², ξη, η² (nc = 6).
+func basis(nc int, xi, eta float64, b []float64) {
+	b[0], b[1], b[2] = 1, xi, eta
+	if nc == 6 {
+		b[3], b[4], b[5] = xi*xi, xi*eta, eta*eta
+	}
+}
+
+// Estimate computes the recovery indicators and the data oscillation. It
+// makes one pass over the vertices and one over the triangles, each split
+// over GOMAXPROCS goroutines; the result does not depend on GOMAXPROCS.
+func (r Recovery) Estimate(dst *Indicators, u *fem.Function, p *fem.Problem) (*Indicators, error) {
+	dst, err := prepare("Recovery", dst, u, p)
+	if err != nil {
+		return nil, err
+	}
+	s := u.Space
+	m := s.Mesh
+	deg := s.Degree
+	vstart, vtri := m.VertexTriangles()
+	rc := sides(m, vstart, vtri)
+	switch r.Method {
+	case SPR:
+		rc.nc = 3 * deg
+		err = fitPatches(u, rc, vstart, vtri)
+	default:
+		rc.nc = 1
+		err = averagePatches(u, rc, vstart, vtri)
+	}
+	if err != nil {
+		return nil, err
+	}
+	qd := 2 * deg
+	if !p.PiecewiseConstant() {
+		qd += 2
+	}
+	rule, err := quadrature.ForTriangle(qd)
+	if err != nil {
+		return nil, err
+	}
+	orule, err := quadrature.ForTriangle(2*deg + 2)
+	if err != nil {
+		return nil, err
+	}
+	err = parallel.For(m.NumTriangles(), 512, func(lo, hi int) error {
+		ev, nb := fem.NewEvaluator(u), fem.NewEvaluator(u)
+		var fq [quadrature.MaxTrianglePoints]float64
+		for k := lo; k < hi; k++ {
+			ev.Load(k)
+			var g [6][2]float64
+			nodeValues(ev, nb, m, rc, k, &g)
+			dst.Eta2[k] = recoveryNorm(ev, p, rule, &g)
+			for q := range orule.Len() {
+				x, y := ev.Point([3]float64{orule.Bary[3*q], orule.Bary[3*q+1], orule.Bary[3*q+2]})
+				fq[q] = p.Source(x, y)
+				if math.IsNaN(fq[q]) || math.IsInf(fq[q], 0) {
+					return fmt.Errorf("estimate: triangle %d at (%g, %g): source f = %g: %w", k, x, y, fq[q], ErrNotFinite)
+				}
+			}
+			h := m.Diameter(k)
+			dst.Osc2[k] = h * h * oscillation(ev, orule, fq[:orule.Len()])
+		}
+		return nil
+	})
+	if err != nil {
+		return nil, err
+	}
+	return dst, nil
+}
+
+// sides numbers the (vertex, region) pairs in the order the regions first
+// appear in each vertex's patch.
+func sides(m *mesh.Mesh, vstart, vtri []int32) *recovered {
+	nv := m.NumVertices()
+	rc := &recovered{start: make([]int32, nv+1)}
+	for v := range nv {
+		patch := vtri[vstart[v]:vstart[v+1]]
+		for i, k := range patch {
+			r := m.Region[k]
+			first := true
+			for _, k2 := range patch[:i] {
+				if m.Region[k2] == r {
+					first = false
+					break
+				}
+			}
+			if first {
+				rc.region = append(rc.region, r)
+			}
+		}
+		rc.start[v+1] = int32(len(rc.region))
+	}
+	return rc
+}
+
+// averagePatches stores, per vertex side, the area-weighted mean gradient.
+func averagePatches(u *fem.Function, rc *recovered, vstart, vtri []int32) error {
+	m := u.Space.Mesh
+	ns := len(rc.region)
+	rc.coef = make([]float64, 2*ns)
+	return parallel.For(m.NumVertices(), 1024, func(lo, hi int) error {
+		ev := fem.NewEvaluator(u)
+		for v := lo; v < hi; v++ {
+			for s := rc.start[v]; s < rc.start[v+1]; s++ {
+				gx, gy := sideAverage(ev, m, vtri[vstart[v]:vstart[v+1]], int32(v), rc.region[s])
+				rc.coef[2*s], rc.coef[2*s+1] = gx, gy
+			}
+		}
+		return nil
+	})
+}
+
+// sideAverage returns the area-weighted mean of the gradients at vertex v
+// of the triangles of region r in patch.
+func sideAverage(ev *fem.Evaluator, m *mesh.Mesh, patch []int32, v int32, r int32) (gx, gy float64) {
+	area := 0.0
+	for _, k := range patch {
+		if m.Region[k] != r {
+			continue
+		}
+		ev.Load(int(k))
+		var l [3]float64
+		l[localVertex(m, int(k), v)] = 1
+		_, x, y := ev.Eval(l)
+		a := ev.Area()
+		gx, gy, area = gx+a*x, gy+a*y, area+a
+	}
+	return gx / area, gy / area
+}
+
+// nodeValues fills g with the recovered gradient at the local nodes of the
+// loaded triangle k (vertices, then for P2 the midpoints opposite them).
+func nodeValues(ev, nb *fem.Evaluator, m *mesh.Mesh, rc *recovered, k int, g *[6][2]float64) {
+	r := m.Region[k]
+	var vs [3]int
+	for i := range 3 {
+		v := m.Tri[3*k+i]
+		vs[i] = rc.side(v, r)
+		vx, vy := m.Vertex(int(v))
+		g[i][0], g[i][1] = rc.eval(vs[i], vx, vy, vx, vy)
+	}
+	if ev.Degree() == 1 {
+		return
+	}
+	for i := range 3 {
+		j, l := (i+1)%3, (i+2)%3
+		var mid [3]float64
+		mid[j], mid[l] = 0.5, 0.5
+		if rc.nc == 1 { // averaging over the one or two triangles of the edge
+			_, gx, gy := ev.Eval(mid)
+			a := ev.Area()
+			gx, gy = a*gx, a*gy
+			e := m.TriEdge[3*k+i]
+			if other := m.EdgeTri[2*e] + m.EdgeTri[2*e+1] - int32(k); !m.IsBoundary(int(e)) && m.Region[other] == r {
+				nb.Load(int(other))
+				var lm [3]float64
+				lm[localVertex(m, int(other), m.Tri[3*k+j])] = 0.5
+				lm[localVertex(m, int(other), m.Tri[3*k+l])] = 0.5
+				_, hx, hy := nb.Eval(lm)
+				b := nb.Area()
+				gx, gy, a = gx+b*hx, gy+b*hy, a+b
+			}
+			g[3+i] = [2]float64{gx / a, gy / a}
+			continue
+		}
+		x, y := ev.Point(mid)
+		vj, vl := m.Tri[3*k+j], m.Tri[3*k+l]
+		jx, jy := m.Vertex(int(vj))
+		lx, ly := m.Vertex(int(vl))
+		ax, ay := rc.eval(vs[j], jx, jy, x, y)
+		bx, by := rc.eval(vs[l], lx, ly, x, y)
+		g[3+i] = [2]float64{0.5 * (ax + bx), 0.5 * (ay + by)}
+	}
+}
+
+// recoveryNorm returns ‖a^½ (G − ∇u_h)‖²_T on the loaded triangle, with G
+// given by its nodal values g.
+func recoveryNorm(ev *fem.Evaluator, p *fem.Problem, rule *quadrature.Triangle, g *[6][2]float64) float64 {
+	deg := ev.Degree()
+	ld := 3 * deg
+	var phi [6]float64
+	sum := 0.0
+	var t fem.Tensor
+	if p.PiecewiseConstant() {
+		x, y := ev.Point([3]float64{1. / 3, 1. / 3, 1. / 3})
+		t = p.Diffusion(x, y, ev.Region())
+	}
+	for q := range rule.Len() {
+		l := [3]float64{rule.Bary[3*q], rule.Bary[3*q+1], rule.Bary[3*q+2]}
+		fem.Shape(deg, l, phi[:ld])
+		_, gx, gy := ev.Eval(l)
+		dx, dy := -gx, -gy
+		for i := range ld {
+			dx += phi[i] * g[i][0]
+			dy += phi[i] * g[i][1]
+		}
+		if !p.PiecewiseConstant() {
+			x, y := ev.Point(l)
+			t = p.Diffusion(x, y, ev.Region())
+		}
+		ax, ay := t.Apply(dx, dy)
+		sum += rule.W[q] * (dx*ax + dy*ay)
+	}
+	return sum * ev.Area()
+}
