@@ -55,9 +55,10 @@ func (m Method) String() string {
 //
 // Boundary vertices: Averaging uses the triangles present, with no special
 // rule. SPR enlarges the patch of a boundary vertex, and of any vertex whose
-// patch has fewer sampling points than the polynomial has coefficients, by
-// the patches of the vertices of its triangles; where the fit is still not
-// determined it falls back to the averaged value.
+// patch (on its side of an interface) has fewer than twice as many sampling
+// points as the polynomial has coefficients, by the patches of the vertices
+// of its triangles, so that every fit is overdetermined; where the fit is
+// still not determined it falls back to the averaged value.
 //
 // Interfaces: at a node where triangles of several regions meet, the
 // recovery is done separately for each region, using only the triangles of

@@ -27,7 +27,7 @@ func fitPatches(u *fem.Function, rc *recovered, vstart, vtri []int32) error {
 			for s := rc.start[v]; s < rc.start[v+1]; s++ {
 				r := rc.region[s]
 				f.gather(vtri[vstart[v]:vstart[v+1]], r)
-				if bv[v] || f.points() < rc.nc {
+				if bv[v] || f.points() < 2*rc.nc {
 					f.enlarge(vstart, vtri, r)
 				}
 				c := rc.coef[2*rc.nc*int(s) : 2*rc.nc*int(s+1)]
