@@ -21,8 +21,9 @@
 // refinement edge.
 //
 // Edge i of a triangle is the edge opposite its vertex i, so TriEdge[3k]
-// is the refinement edge of triangle k. Edges are numbered by sorting their
-// (low, high) vertex pairs. A boundary edge carries a tag ≥ 0 (0 where none
+// is the refinement edge of triangle k. New numbers the edges by sorting
+// their (low, high) vertex pairs; Refine keeps the numbers of old edges and
+// appends new ones, so only New's result is sorted. A boundary edge carries a tag ≥ 0 (0 where none
 // was given); an interior edge carries Interior (-1). A region is an
 // arbitrary int32 per triangle, 0 by default.
 //

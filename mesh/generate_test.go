@@ -37,6 +37,7 @@ func TestGenerators(t *testing.T) {
 				t.Fatal(err)
 			}
 			checkTopology(t, m)
+			checkSorted(t, m)
 			if m.NumTriangles() != tc.triangles {
 				t.Errorf("%d triangles, want %d", m.NumTriangles(), tc.triangles)
 			}

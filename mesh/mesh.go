@@ -19,7 +19,7 @@ type Mesh struct {
 	Region []int32   // 1 per triangle: the material or subdomain tag
 
 	// Derived topology, built by sorting.
-	Edge    []int32 // 2 per edge: its end vertices, Edge[2e] < Edge[2e+1]; edges are ordered by (Edge[2e], Edge[2e+1])
+	Edge    []int32 // 2 per edge: its end vertices, Edge[2e] < Edge[2e+1]; New numbers edges in (low, high) order, Refine appends
 	TriEdge []int32 // 3 per triangle: TriEdge[3k+i] is the edge opposite local vertex i, so TriEdge[3k] is the refinement edge
 	EdgeTri []int32 // 2 per edge: the triangles on each side; EdgeTri[2e+1] is -1 on the boundary
 	EdgeTag []int32 // 1 per edge: Interior for an interior edge, else the boundary tag (0 where none was given)
@@ -267,8 +267,9 @@ func (m *Mesh) buildTopology() error {
 	return nil
 }
 
-// findEdge returns the index of the edge joining a and b, or -1. Edges are
-// sorted by (low, high) vertex, so a binary search finds it.
+// findEdge returns the index of the edge joining a and b, or -1. In a mesh
+// just built by buildTopology edges are sorted by (low, high) vertex, so a
+// binary search finds it.
 func (m *Mesh) findEdge(a, b int32) int {
 	lo, hi := min(a, b), max(a, b)
 	i, j := 0, m.NumEdges()

@@ -113,8 +113,8 @@ func checkTopology(t *testing.T, m *Mesh) {
 		}
 	}
 	for e := range ne {
-		if e > 0 && (m.Edge[2*e-2] > m.Edge[2*e] || m.Edge[2*e-2] == m.Edge[2*e] && m.Edge[2*e-1] >= m.Edge[2*e+1]) {
-			t.Fatalf("edges %d and %d out of order", e-1, e)
+		if m.Edge[2*e] >= m.Edge[2*e+1] {
+			t.Fatalf("edge %d is %d-%d: low vertex not first", e, m.Edge[2*e], m.Edge[2*e+1])
 		}
 		want := 2
 		if m.IsBoundary(e) {
@@ -140,6 +140,7 @@ func TestNewTopology(t *testing.T) {
 		t.Fatal(err)
 	}
 	checkTopology(t, m)
+	checkSorted(t, m)
 	if m.NumEdges() != 5 {
 		t.Fatalf("%d edges, want 5", m.NumEdges())
 	}
@@ -182,6 +183,17 @@ func TestVertexTriangles(t *testing.T) {
 		onBoundary := x == -1 || x == 1 || y == -1 || y == 1 || (x == 0 && y <= 0) || (y == 0 && x >= 0)
 		if bv[v] != onBoundary {
 			t.Errorf("vertex %d at (%g, %g): boundary %v, want %v", v, x, y, bv[v], onBoundary)
+		}
+	}
+}
+
+// checkSorted verifies that the edges of a mesh built by New are numbered
+// in (low, high) order.
+func checkSorted(t *testing.T, m *Mesh) {
+	t.Helper()
+	for e := 1; e < m.NumEdges(); e++ {
+		if m.Edge[2*e-2] > m.Edge[2*e] || m.Edge[2*e-2] == m.Edge[2*e] && m.Edge[2*e-1] >= m.Edge[2*e+1] {
+			t.Fatalf("edges %d and %d out of order", e-1, e)
 		}
 	}
 }

@@ -1,0 +1,220 @@
+package mesh
+
+import (
+	"fmt"
+	"math"
+	"slices"
+)
+
+// Refine bisects every marked triangle through its refinement edge, at
+// least once, by newest-vertex bisection, and keeps the mesh conforming by
+// the closure: an edge is bisected in both of its triangles, and a triangle
+// with a bisected edge has its refinement edge bisected too (which is the
+// recursive rule "bisect the neighbour across the refinement edge first"
+// written in terms of edges). There are never hanging nodes.
+//
+// A triangle (v0, v1, v2) with refinement edge v1–v2 and midpoint m0 is cut
+// into (m0, v0, v1) and (m0, v2, v0); a child whose refinement edge (v0–v1,
+// resp. v2–v0) is bisected too is cut again the same way. So a triangle is
+// replaced by 2, 3 or 4 children. The first child keeps the parent's index;
+// the others are appended after the triangles of m, in parent order. New
+// vertices (the midpoints of the bisected edges, in increasing old edge
+// order) are appended after the vertices of m. Edges keep their numbers: the
+// half of a bisected edge that holds its lower vertex keeps the edge's
+// number; the other halves and the new interior edges are appended.
+// Regions and boundary tags are inherited.
+//
+// marked must have one entry per triangle. Refine does not modify m. Its
+// cost is that of copying m's arrays plus time linear in the number of
+// triangles refined: the topology of the untouched part is not rebuilt.
+func (m *Mesh) Refine(marked []bool) (*Mesh, *Parents, error) {
+	nv, nt, ne := m.NumVertices(), m.NumTriangles(), m.NumEdges()
+	if len(marked) != nt {
+		return nil, nil, lenErr("Refine: %d marks for %d triangles", len(marked), nt)
+	}
+	// Closure: mark edges.
+	mid := make([]int32, ne) // midpoint vertex of a bisected edge, or -1
+	for i := range mid {
+		mid[i] = -1
+	}
+	var split []int32 // the bisected edges
+	var stack []int32
+	markEdge := func(e int32) {
+		if mid[e] < 0 {
+			mid[e] = 0
+			split = append(split, e)
+			stack = append(stack, e)
+		}
+	}
+	for k, mk := range marked {
+		if mk {
+			markEdge(m.TriEdge[3*k])
+		}
+	}
+	for len(stack) > 0 {
+		e := stack[len(stack)-1]
+		stack = stack[:len(stack)-1]
+		for _, t := range m.EdgeTri[2*e : 2*e+2] {
+			if t >= 0 {
+				markEdge(m.TriEdge[3*t])
+			}
+		}
+	}
+	slices.Sort(split)
+	// Count the children to size the arrays.
+	extraTri, extraEdge := 0, len(split)
+	var touched []int32
+	for _, e := range split {
+		for _, t := range m.EdgeTri[2*e : 2*e+2] {
+			if t >= 0 && m.TriEdge[3*t] == e {
+				touched = append(touched, t)
+			}
+		}
+	}
+	slices.Sort(touched)
+	for _, t := range touched {
+		c := 1
+		if mid[m.TriEdge[3*t+1]] >= 0 {
+			c++
+		}
+		if mid[m.TriEdge[3*t+2]] >= 0 {
+			c++
+		}
+		extraTri += c
+		extraEdge += c
+	}
+	nv2, nt2, ne2 := nv+len(split), nt+extraTri, ne+extraEdge
+	if float64(nv2) > math.MaxInt32/2 || float64(nt2) > math.MaxInt32/3 || float64(ne2) > math.MaxInt32/2 {
+		return nil, nil, fmt.Errorf("mesh: Refine: %d triangles is too many for int32 indices: %w", nt2, ErrArgument)
+	}
+	r := &refiner{
+		old: m,
+		m: &Mesh{
+			X:       grow(m.X, 2*nv2),
+			Tri:     grow(m.Tri, 3*nt2)[:3*nt],
+			Region:  grow(m.Region, nt2)[:nt],
+			Edge:    grow(m.Edge, 2*ne2)[:2*ne],
+			TriEdge: grow(m.TriEdge, 3*nt2)[:3*nt],
+			EdgeTri: grow(m.EdgeTri, 2*ne2)[:2*ne],
+			EdgeTag: grow(m.EdgeTag, ne2)[:ne],
+		},
+		mid:   mid,
+		other: make(map[int32]int32, len(split)),
+	}
+	p := &Parents{Triangle: make([]int32, nt, nt2), Edge: split, OldVertices: nv}
+	for k := range nt {
+		p.Triangle[k] = int32(k)
+	}
+	// Midpoints and edge halves.
+	for i, e := range split {
+		v := int32(nv + i)
+		mid[e] = v
+		a, b := m.Edge[2*e], m.Edge[2*e+1]
+		r.m.X[2*v] = 0.5 * (m.X[2*a] + m.X[2*b])
+		r.m.X[2*v+1] = 0.5 * (m.X[2*a+1] + m.X[2*b+1])
+		r.m.Edge[2*e], r.m.Edge[2*e+1] = a, v
+		r.m.EdgeTri[2*e], r.m.EdgeTri[2*e+1] = -1, -1
+		r.other[e] = r.newEdge(b, v, m.EdgeTag[e])
+	}
+	for _, t := range touched {
+		r.bisect(t, p)
+	}
+	return r.m, p, nil
+}
+
+// grow returns a copy of s with length n (n ≥ len(s)).
+func grow[T any](s []T, n int) []T {
+	c := make([]T, n)
+	copy(c, s)
+	return c
+}
+
+// refiner holds the state of one call of Refine.
+type refiner struct {
+	old   *Mesh
+	m     *Mesh
+	mid   []int32         // midpoint of each bisected old edge
+	other map[int32]int32 // the appended half of each bisected old edge
+}
+
+// newEdge appends the edge a–b with no triangles yet.
+func (r *refiner) newEdge(a, b, tag int32) int32 {
+	e := int32(len(r.m.EdgeTag))
+	r.m.Edge = append(r.m.Edge, min(a, b), max(a, b))
+	r.m.EdgeTri = append(r.m.EdgeTri, -1, -1)
+	r.m.EdgeTag = append(r.m.EdgeTag, tag)
+	return e
+}
+
+// half returns the half of bisected old edge e that holds vertex v.
+func (r *refiner) half(e, v int32) int32 {
+	if v == r.old.Edge[2*e] {
+		return e
+	}
+	return r.other[e]
+}
+
+// attach records triangle t on side of edge e; old is the parent's index,
+// replaced where the edge still lists it (an edge that was not bisected).
+func (r *refiner) attach(e, t, old int32) {
+	s := r.m.EdgeTri[2*e : 2*e+2]
+	kept := e < int32(len(r.mid)) && r.mid[e] < 0 // an old edge, not bisected
+	switch {
+	case kept && s[0] == old:
+		s[0] = t
+	case kept && s[1] == old:
+		s[1] = t
+	case s[0] < 0:
+		s[0] = t
+	default:
+		s[1] = t
+	}
+}
+
+// child writes triangle (a, b, c) with edges (ea, eb, ec) opposite its
+// vertices into slot t (the parent's index) for the first child, else into
+// a new slot.
+func (r *refiner) child(t, parent int32, p *Parents, first bool, a, b, c, ea, eb, ec int32) {
+	if !first {
+		t = int32(len(r.m.Region))
+		r.m.Tri = append(r.m.Tri, 0, 0, 0)
+		r.m.TriEdge = append(r.m.TriEdge, 0, 0, 0)
+		r.m.Region = append(r.m.Region, r.old.Region[parent])
+		p.Triangle = append(p.Triangle, parent)
+	}
+	copy(r.m.Tri[3*t:], []int32{a, b, c})
+	copy(r.m.TriEdge[3*t:], []int32{ea, eb, ec})
+	for _, e := range [3]int32{ea, eb, ec} {
+		r.attach(e, t, parent)
+	}
+}
+
+// bisect replaces triangle t by its children.
+func (r *refiner) bisect(t int32, p *Parents) {
+	o := r.old
+	v0, v1, v2 := o.Tri[3*t], o.Tri[3*t+1], o.Tri[3*t+2]
+	e0, e1, e2 := o.TriEdge[3*t], o.TriEdge[3*t+1], o.TriEdge[3*t+2]
+	m0 := r.mid[e0]
+	c := r.newEdge(v0, m0, Interior)
+	first := true
+	put := func(a, b, cc, ea, eb, ec int32) {
+		r.child(t, t, p, first, a, b, cc, ea, eb, ec)
+		first = false
+	}
+	// Child A = (m0, v0, v1), refinement edge v0–v1 = e2.
+	if m2 := r.mid[e2]; m2 >= 0 {
+		d := r.newEdge(m0, m2, Interior)
+		put(m2, m0, v0, c, r.half(e2, v0), d)
+		put(m2, v1, m0, r.half(e0, v1), d, r.half(e2, v1))
+	} else {
+		put(m0, v0, v1, e2, r.half(e0, v1), c)
+	}
+	// Child B = (m0, v2, v0), refinement edge v2–v0 = e1.
+	if m1 := r.mid[e1]; m1 >= 0 {
+		d := r.newEdge(m0, m1, Interior)
+		put(m1, m0, v2, r.half(e0, v2), r.half(e1, v2), d)
+		put(m1, v0, m0, c, d, r.half(e1, v0))
+	} else {
+		put(m0, v2, v0, e1, c, r.half(e0, v2))
+	}
+}
