@@ -1,5 +1,31 @@
-// Package adapt will hold the marking strategies (Dörfler, maximum, fixed
-// fraction) and the solve–estimate–mark–refine loop that a caller drives
-// from a Go program, with this library's solver or their own. It holds only
-// its documentation until those are written.
+// Package adapt holds marking strategies and the solve–estimate–mark–refine
+// loop that a caller drives from a Go program, with this library's solver
+// or their own.
+//
+// Run takes a Problem (initial mesh, degree, data, optional exact
+// solution), Settings (stop rules: a tolerance on the estimate, a DOF
+// budget, a step limit, and cancellation by context; an observer OnStep)
+// and a Method (a Solver, an estimate.Estimator and a Marker, each
+// replaceable). Each step
+//
+//	solve on the current mesh, starting from the previous solution carried to it,
+//	estimate η_T² per triangle,
+//	measure the true error (when an exact solution is given),
+//	record the step,
+//	mark with the Marker and refine by newest-vertex bisection (mesh.Refine).
+//
+// The result holds the last completed step's mesh, solution and indicators,
+// and the records of every step, which WriteCSV writes with the documented
+// CSVHeader.
+//
+// # Conventions
+//
+// "DOFs" is the dimension of the whole space, Dirichlet nodes included;
+// FreeDOFs leaves them out. Markers take squared indicators η_T² and order
+// triangles by (η_T² descending, index ascending), so marks are unique and
+// deterministic. The loop never solves on more than Settings.MaxDOFs DOFs.
+//
+// The estimates measure discretization error only, not modelling error;
+// engineering use of the results follows local codes and licensed
+// practice.
 package adapt

@@ -3,6 +3,8 @@ package problems
 import (
 	"math"
 	"testing"
+
+	"github.com/posteriori-fem/posteriori/fem"
 )
 
 // Corner(α) is harmonic with the stated gradient: checked by central
@@ -70,6 +72,31 @@ func TestKelloggTransmission(t *testing.T) {
 		fy := (ex.U(x, y+h) - ex.U(x, y-h)) / (2 * h)
 		if math.Abs(lap) > 1e-4 || math.Abs(gx-fx) > 1e-6 || math.Abs(gy-fy) > 1e-6 {
 			t.Errorf("%v: Laplacian %g, grad (%g, %g) vs (%g, %g)", p, lap, gx, gy, fx, fy)
+		}
+	}
+}
+
+// Each smooth problem's f is −Δu of its exact solution (central
+// differences, classical), and its gradient matches the differences of U.
+func TestSmoothProblems(t *testing.T) {
+	t.Parallel()
+	for name, gen := range map[string]func() (fem.Exact, *fem.Problem){"Sine": Sine, "Peak": Peak, "Layer": Layer} {
+		ex, p := gen()
+		const h = 1e-4
+		for _, pt := range [][2]float64{{0.3, 0.4}, {0.61, 0.39}, {0.05, 0.7}, {0.9, 0.1}} {
+			x, y := pt[0], pt[1]
+			lap := (ex.U(x+h, y) + ex.U(x-h, y) + ex.U(x, y+h) + ex.U(x, y-h) - 4*ex.U(x, y)) / (h * h)
+			f := p.F(x, y)
+			if math.Abs(-lap-f) > 1e-4*max(1, math.Abs(f)) {
+				t.Errorf("%s at %v: −Δu ≈ %g, f = %g", name, pt, -lap, f)
+			}
+			gx, gy := ex.Grad(x, y)
+			const d = 1e-6 // central differences: error d²/6 |u'''| ≲ 1e-12/ε³
+			fx := (ex.U(x+d, y) - ex.U(x-d, y)) / (2 * d)
+			fy := (ex.U(x, y+d) - ex.U(x, y-d)) / (2 * d)
+			if math.Abs(gx-fx) > 1e-6*max(1, math.Abs(gx)) || math.Abs(gy-fy) > 1e-6*max(1, math.Abs(gy)) {
+				t.Errorf("%s at %v: grad (%g, %g), differences (%g, %g)", name, pt, gx, gy, fx, fy)
+			}
 		}
 	}
 }

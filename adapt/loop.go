@@ -1,0 +1,313 @@
+package adapt
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"time"
+
+	"github.com/posteriori-fem/posteriori/estimate"
+	"github.com/posteriori-fem/posteriori/fem"
+	"github.com/posteriori-fem/posteriori/mesh"
+)
+
+// Problem is what the loop solves: a boundary value problem of package fem
+// on an initial mesh, with elements of a given degree, and optionally its
+// exact solution, for true errors and effectivity indices.
+type Problem struct {
+	Mesh   *mesh.Mesh   // initial mesh
+	Degree int          // 1 or 2
+	Data   *fem.Problem // coefficients, source, boundary conditions
+	Exact  *fem.Exact   // exact solution, or nil
+}
+
+// Settings are the stop rules and the observer of the loop. A zero limit
+// means "no limit"; at least one of Tol, MaxDOFs and MaxSteps must be set.
+// Cancelling the context also stops the loop.
+type Settings struct {
+	// Tol stops the loop at the first step whose total estimate η ≤ Tol.
+	Tol float64
+	// MaxDOFs is the DOF budget: the loop never solves on a mesh with more
+	// DOFs; it stops when the next refined mesh would exceed it.
+	MaxDOFs int
+	// MaxSteps stops the loop after this many solved steps.
+	MaxSteps int
+	// OnStep, if not nil, sees each step's record as the step ends. It must
+	// not keep or modify the Step; an error it returns stops the loop.
+	OnStep func(Step) error
+}
+
+// Method is how each step is done. Nil fields take the defaults:
+// FEMSolver{} (this library's assembly and solver), estimate.Residual{} and
+// Dorfler{Theta: 0.5}.
+type Method struct {
+	Solver    Solver
+	Estimator estimate.Estimator
+	Marker    Marker
+}
+
+// Solver solves the problem on the space it is given. A caller with an
+// own discretization implements it and returns nodal values: one value per
+// DOF of s, in the DOF numbering of fem.Space (vertices, then for P2 edge
+// midpoints). guess is the previous step's solution carried to s (nil at the
+// first step). iterations is reported in the step records (0 if it does not
+// apply).
+type Solver interface {
+	Solve(s *fem.Space, p *fem.Problem, guess []float64) (u []float64, iterations int, err error)
+}
+
+// FEMSolver is the default Solver: fem.Assemble and System.Solve with the
+// given settings (X0 is replaced by the guess).
+type FEMSolver struct {
+	Settings fem.SolveSettings
+}
+
+var _ Solver = FEMSolver{}
+
+// Solve assembles and solves p on s, starting from guess.
+func (f FEMSolver) Solve(s *fem.Space, p *fem.Problem, guess []float64) ([]float64, int, error) {
+	sys, err := fem.Assemble(s, p)
+	if err != nil {
+		return nil, 0, err
+	}
+	st := f.Settings
+	st.X0 = guess
+	u, stats, err := sys.Solve(st)
+	if err != nil {
+		return nil, stats.Iterations, err
+	}
+	return u.U, stats.Iterations, nil
+}
+
+// Status says why the loop stopped.
+type Status int
+
+const (
+	Running         Status = iota // not stopped (only in an error's result)
+	Converged                     // the estimate met Settings.Tol
+	DOFLimit                      // the next mesh would exceed Settings.MaxDOFs
+	StepLimit                     // Settings.MaxSteps steps were solved
+	NothingToRefine               // the marker marked no triangle
+)
+
+// String returns the status as a word.
+func (s Status) String() string {
+	switch s {
+	case Running:
+		return "running"
+	case Converged:
+		return "converged"
+	case DOFLimit:
+		return "dof-limit"
+	case StepLimit:
+		return "step-limit"
+	case NothingToRefine:
+		return "nothing-to-refine"
+	}
+	return "unknown"
+}
+
+// Result is the outcome of Run: the last completed step's mesh, solution
+// and indicators, the records of all completed steps, and the status.
+type Result struct {
+	Mesh       *mesh.Mesh
+	Solution   *fem.Function
+	Indicators *estimate.Indicators
+	Steps      []Step
+	Status     Status
+}
+
+// Stages of a step, as named in StepError.
+const (
+	StageSolve    = "solve"
+	StageEstimate = "estimate"
+	StageError    = "error"
+	StageMark     = "mark"
+	StageRefine   = "refine"
+	StageRecord   = "record"
+)
+
+// StepError reports the step and stage where the loop failed. The Result
+// returned with it holds the completed steps and the last good mesh.
+type StepError struct {
+	Step  int
+	Stage string
+	Err   error
+}
+
+func (e *StepError) Error() string {
+	return fmt.Sprintf("adapt: step %d: %s: %v", e.Step, e.Stage, e.Err)
+}
+
+func (e *StepError) Unwrap() error { return e.Err }
+
+// ErrSettings reports settings that cannot run: no stop rule, a negative
+// or zero budget, a budget below the initial mesh, a bad degree.
+var ErrSettings = errors.New("adapt: invalid settings")
+
+// Run drives the solve–estimate–mark–refine loop from p.Mesh until a stop
+// rule holds. Each step solves (from the previous solution carried to the
+// new mesh), estimates, measures the true error if p.Exact is set, records
+// the step, then marks and refines. On an error it returns the result so
+// far (completed steps, last good mesh and solution) with a *StepError;
+// after cancellation the error wraps ctx.Err().
+func Run(ctx context.Context, p Problem, s Settings, meth Method) (*Result, error) {
+	if err := check(p, s); err != nil {
+		return nil, err
+	}
+	if meth.Solver == nil {
+		meth.Solver = FEMSolver{}
+	}
+	if meth.Estimator == nil {
+		meth.Estimator = estimate.Residual{}
+	}
+	if meth.Marker == nil {
+		meth.Marker = Dorfler{Theta: 0.5}
+	}
+	res := &Result{}
+	m := p.Mesh
+	var guess *fem.Function // previous solution, carried to m
+	var in *estimate.Indicators
+	var marks []bool
+	var err2 []float64
+	for step := 0; ; step++ {
+		fail := func(stage string, err error) (*Result, error) {
+			return res, &StepError{Step: step, Stage: stage, Err: err}
+		}
+		rec := Step{Step: step, Triangles: m.NumTriangles()}
+		sp, err := fem.NewSpace(m, p.Degree)
+		if err != nil {
+			return fail(StageSolve, err)
+		}
+		rec.DOFs = sp.NumDOF()
+		rec.FreeDOFs = rec.DOFs - len(sp.BoundaryDOFs(p.Data.DirichletTags()...))
+		if err := ctx.Err(); err != nil {
+			return fail(StageSolve, err)
+		}
+		t := time.Now()
+		var g []float64
+		if guess != nil {
+			g = guess.U
+		}
+		uv, iters, err := meth.Solver.Solve(sp, p.Data, g)
+		rec.Iterations, rec.SolveTime = iters, time.Since(t)
+		if err != nil {
+			return fail(StageSolve, err)
+		}
+		if len(uv) != sp.NumDOF() {
+			return fail(StageSolve, fmt.Errorf("solver returned %d values for %d DOFs: %w", len(uv), sp.NumDOF(), ErrSettings))
+		}
+		u := &fem.Function{Space: sp, U: uv}
+		if err := ctx.Err(); err != nil {
+			return fail(StageEstimate, err)
+		}
+		t = time.Now()
+		if in, err = meth.Estimator.Estimate(in, u, p.Data); err != nil {
+			return fail(StageEstimate, err)
+		}
+		rec.EstimateTime = time.Since(t)
+		if len(in.Eta2) != m.NumTriangles() {
+			return fail(StageEstimate, fmt.Errorf("%d indicators for %d triangles: %w", len(in.Eta2), m.NumTriangles(), ErrSettings))
+		}
+		rec.Estimate, rec.Oscillation = in.Total(), in.Oscillation()
+		if p.Exact != nil {
+			t = time.Now()
+			var e float64
+			if err2, e, err = estimate.TrueError(err2, u, *p.Exact, p.Data); err != nil {
+				return fail(StageError, err)
+			}
+			rec.HasError, rec.Error, rec.ErrorTime = true, e, time.Since(t)
+			if e > 0 {
+				rec.Effectivity = rec.Estimate / e
+			}
+		}
+		// The step is complete: it becomes the result.
+		res.Mesh, res.Solution, res.Indicators = m, u, in
+		status := Running
+		switch {
+		case s.Tol > 0 && rec.Estimate <= s.Tol:
+			status = Converged
+		case s.MaxSteps > 0 && step+1 >= s.MaxSteps:
+			status = StepLimit
+		}
+		if status == Running {
+			if err := ctx.Err(); err != nil {
+				res.Steps = append(res.Steps, rec)
+				return fail(StageMark, err)
+			}
+			t = time.Now()
+			marks, err = meth.Marker.Mark(marks, in.Eta2)
+			rec.MarkTime = time.Since(t)
+			if err != nil {
+				res.Steps = append(res.Steps, rec)
+				return fail(StageMark, err)
+			}
+			for _, b := range marks {
+				if b {
+					rec.Marked++
+				}
+			}
+			if rec.Marked == 0 {
+				status = NothingToRefine
+			}
+		}
+		var next *mesh.Mesh
+		var parents *mesh.Parents
+		if status == Running {
+			t = time.Now()
+			next, parents, err = m.Refine(marks)
+			rec.RefineTime = time.Since(t)
+			if err != nil {
+				res.Steps = append(res.Steps, rec)
+				return fail(StageRefine, err)
+			}
+			if s.MaxDOFs > 0 && dofs(next, p.Degree) > s.MaxDOFs {
+				status, next = DOFLimit, nil
+			}
+		}
+		res.Steps = append(res.Steps, rec)
+		if s.OnStep != nil {
+			if err := s.OnStep(rec); err != nil {
+				return fail(StageRecord, err)
+			}
+		}
+		if status != Running {
+			res.Status = status
+			return res, nil
+		}
+		ns, _ := fem.NewSpace(next, p.Degree)
+		if guess, err = u.Prolong(ns, parents); err != nil {
+			return fail(StageRefine, err)
+		}
+		m = next
+	}
+}
+
+// dofs returns the dimension of the degree-p space on m.
+func dofs(m *mesh.Mesh, degree int) int {
+	if degree == 2 {
+		return m.NumVertices() + m.NumEdges()
+	}
+	return m.NumVertices()
+}
+
+func check(p Problem, s Settings) error {
+	switch {
+	case p.Mesh == nil || p.Data == nil:
+		return fmt.Errorf("%w: the problem needs a mesh and data", ErrSettings)
+	case p.Degree != 1 && p.Degree != 2:
+		return fmt.Errorf("%w: degree %d, want 1 or 2", ErrSettings, p.Degree)
+	case s.Tol < 0 || s.Tol != s.Tol:
+		return fmt.Errorf("%w: Tol = %g, want ≥ 0", ErrSettings, s.Tol)
+	case s.MaxDOFs < 0 || s.MaxSteps < 0:
+		return fmt.Errorf("%w: MaxDOFs = %d, MaxSteps = %d, want ≥ 0", ErrSettings, s.MaxDOFs, s.MaxSteps)
+	case s.Tol == 0 && s.MaxDOFs == 0 && s.MaxSteps == 0:
+		return fmt.Errorf("%w: no stop rule: set Tol, MaxDOFs or MaxSteps", ErrSettings)
+	case s.MaxDOFs > 0 && dofs(p.Mesh, p.Degree) > s.MaxDOFs:
+		return fmt.Errorf("%w: the initial mesh has %d DOFs, more than MaxDOFs = %d", ErrSettings, dofs(p.Mesh, p.Degree), s.MaxDOFs)
+	}
+	if err := p.Data.Check(p.Mesh); err != nil {
+		return fmt.Errorf("adapt: %w", err)
+	}
+	return nil
+}

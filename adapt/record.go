@@ -1,0 +1,138 @@
+package adapt
+
+import (
+	"encoding/csv"
+	"errors"
+	"fmt"
+	"io"
+	"math"
+	"strconv"
+	"time"
+)
+
+// Step is the record of one step of the loop.
+type Step struct {
+	Step        int     // step number, from 0
+	Triangles   int     // triangles of the step's mesh
+	DOFs        int     // dimension of the space, Dirichlet nodes included
+	FreeDOFs    int     // DOFs not fixed by Dirichlet conditions
+	Estimate    float64 // total estimate η
+	Oscillation float64 // total data oscillation
+	HasError    bool    // whether Error and Effectivity were measured (an exact solution was given)
+	Error       float64 // true energy error
+	Effectivity float64 // Estimate / Error
+	Marked      int     // triangles marked for refinement (0 at the last step)
+	Iterations  int     // solver iterations
+
+	SolveTime, EstimateTime, ErrorTime, MarkTime, RefineTime time.Duration
+}
+
+// CSVHeader is the header line of the step records in CSV: one column per
+// field of Step, times in seconds; error and effectivity are empty when
+// they were not measured.
+var CSVHeader = []string{
+	"step", "triangles", "dofs", "free_dofs", "estimate", "oscillation", "error", "effectivity",
+	"marked", "iterations", "solve_s", "estimate_s", "error_s", "mark_s", "refine_s",
+}
+
+// WriteCSV writes the records with CSVHeader as the first line. Numbers are
+// written in the shortest form that reads back exactly.
+func WriteCSV(w io.Writer, steps []Step) error {
+	cw := csv.NewWriter(w)
+	if err := cw.Write(CSVHeader); err != nil {
+		return fmt.Errorf("adapt: WriteCSV: %w", err)
+	}
+	f := func(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }
+	sec := func(d time.Duration) string { return f(d.Seconds()) }
+	for _, s := range steps {
+		e, eff := "", ""
+		if s.HasError {
+			e, eff = f(s.Error), f(s.Effectivity)
+		}
+		row := []string{
+			strconv.Itoa(s.Step), strconv.Itoa(s.Triangles), strconv.Itoa(s.DOFs), strconv.Itoa(s.FreeDOFs),
+			f(s.Estimate), f(s.Oscillation), e, eff, strconv.Itoa(s.Marked), strconv.Itoa(s.Iterations),
+			sec(s.SolveTime), sec(s.EstimateTime), sec(s.ErrorTime), sec(s.MarkTime), sec(s.RefineTime),
+		}
+		if err := cw.Write(row); err != nil {
+			return fmt.Errorf("adapt: WriteCSV: %w", err)
+		}
+	}
+	cw.Flush()
+	if err := cw.Error(); err != nil {
+		return fmt.Errorf("adapt: WriteCSV: %w", err)
+	}
+	return nil
+}
+
+// ErrCSV reports a malformed step record file.
+var ErrCSV = errors.New("adapt: malformed step records")
+
+// ReadCSV reads records written by WriteCSV. Times are rounded to the
+// nanosecond. It rejects a wrong header, a wrong number of fields, numbers
+// that do not parse, negative counts, and NaN or infinite values, with an
+// error that names the line and column.
+func ReadCSV(r io.Reader) ([]Step, error) {
+	cr := csv.NewReader(r)
+	cr.FieldsPerRecord = len(CSVHeader)
+	cr.ReuseRecord = true
+	head, err := cr.Read()
+	if err != nil {
+		return nil, fmt.Errorf("%w: header: %v", ErrCSV, err)
+	}
+	for i, h := range CSVHeader {
+		if head[i] != h {
+			return nil, fmt.Errorf("%w: header column %d is %q, want %q", ErrCSV, i+1, head[i], h)
+		}
+	}
+	var steps []Step
+	for line := 2; ; line++ {
+		row, err := cr.Read()
+		if err == io.EOF {
+			return steps, nil
+		}
+		if err != nil {
+			return nil, fmt.Errorf("%w: %v", ErrCSV, err)
+		}
+		var s Step
+		var bad error
+		col := 0
+		intAt := func() int {
+			col++
+			v, err := strconv.Atoi(row[col-1])
+			if err == nil && v < 0 {
+				err = errors.New("negative")
+			}
+			if err != nil && bad == nil {
+				bad = fmt.Errorf("%w: line %d, column %s: %v", ErrCSV, line, CSVHeader[col-1], err)
+			}
+			return v
+		}
+		floatAt := func() float64 {
+			col++
+			v, err := strconv.ParseFloat(row[col-1], 64)
+			if err == nil && (math.IsNaN(v) || math.IsInf(v, 0)) {
+				err = errors.New("not finite")
+			}
+			if err != nil && bad == nil {
+				bad = fmt.Errorf("%w: line %d, column %s: %v", ErrCSV, line, CSVHeader[col-1], err)
+			}
+			return v
+		}
+		dur := func() time.Duration { return time.Duration(math.Round(floatAt() * 1e9)) }
+		s.Step, s.Triangles, s.DOFs, s.FreeDOFs = intAt(), intAt(), intAt(), intAt()
+		s.Estimate, s.Oscillation = floatAt(), floatAt()
+		if row[6] == "" && row[7] == "" {
+			col += 2
+		} else {
+			s.HasError = true
+			s.Error, s.Effectivity = floatAt(), floatAt()
+		}
+		s.Marked, s.Iterations = intAt(), intAt()
+		s.SolveTime, s.EstimateTime, s.ErrorTime, s.MarkTime, s.RefineTime = dur(), dur(), dur(), dur(), dur()
+		if bad != nil {
+			return nil, bad
+		}
+		steps = append(steps, s)
+	}
+}

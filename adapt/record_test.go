@@ -1,0 +1,95 @@
+package adapt
+
+import (
+	"bytes"
+	"context"
+	"errors"
+	"strings"
+	"testing"
+	"time"
+
+	"github.com/posteriori-fem/posteriori/fem"
+	"github.com/posteriori-fem/posteriori/internal/problems"
+	"github.com/posteriori-fem/posteriori/mesh"
+)
+
+func TestCSVRoundTrip(t *testing.T) {
+	t.Parallel()
+	steps := []Step{
+		{Step: 0, Triangles: 24, DOFs: 21, FreeDOFs: 5, Estimate: 0.1234567890123, Oscillation: 0, HasError: true,
+			Error: 0.05, Effectivity: 2.469135780246, Marked: 3, Iterations: 7, SolveTime: 1500 * time.Microsecond},
+		{Step: 1, Triangles: 30, DOFs: 25, FreeDOFs: 9, Estimate: 1e-300, Oscillation: 3.5e-7, Marked: 0, Iterations: 0,
+			EstimateTime: time.Second, ErrorTime: 0, MarkTime: 3 * time.Nanosecond, RefineTime: time.Hour},
+	}
+	var b bytes.Buffer
+	if err := WriteCSV(&b, steps); err != nil {
+		t.Fatal(err)
+	}
+	if first := strings.SplitN(b.String(), "\n", 2)[0]; first != strings.Join(CSVHeader, ",") {
+		t.Fatalf("header %q", first)
+	}
+	got, err := ReadCSV(&b)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(got) != len(steps) {
+		t.Fatalf("%d records, want %d", len(got), len(steps))
+	}
+	for i := range steps {
+		if got[i] != steps[i] {
+			t.Errorf("record %d: %+v, want %+v", i, got[i], steps[i])
+		}
+	}
+	head := strings.Join(CSVHeader, ",") + "\n"
+	for _, bad := range []string{
+		"",
+		"step,dofs\n",
+		head + "0,1,2,3,0.1,0,,,0,0,0,0,0,0\n", // too few fields
+		head + "0,1,2,3,x,0,,,0,0,0,0,0,0,0\n", // not a number
+		head + "0,-1,2,3,0.1,0,,,0,0,0,0,0,0,0\n",   // negative count
+		head + "0,1,2,3,NaN,0,,,0,0,0,0,0,0,0\n",    // NaN
+		head + "0,1,2,3,0.1,0,0.5,,0,0,0,0,0,0,0\n", // effectivity missing
+		head + "0,1,2,3,0.1,0,,,0,0,0,0,0,0,+Inf\n", // infinite time
+	} {
+		if _, err := ReadCSV(strings.NewReader(bad)); !errors.Is(err, ErrCSV) {
+			t.Errorf("%q: %v, want ErrCSV", bad, err)
+		}
+	}
+}
+
+// solverFunc adapts a function to the Solver interface.
+type solverFunc func(s *fem.Space, p *fem.Problem, guess []float64) ([]float64, int, error)
+
+func (f solverFunc) Solve(s *fem.Space, p *fem.Problem, guess []float64) ([]float64, int, error) {
+	return f(s, p, guess)
+}
+
+// A caller's solver sees the previous solution carried to its mesh as the
+// guess; a solver error stops the loop with the step and stage.
+func TestSolverHook(t *testing.T) {
+	t.Parallel()
+	ex, p := problems.LShape()
+	m, _ := mesh.LShape(2)
+	calls := 0
+	solver := solverFunc(func(s *fem.Space, p *fem.Problem, guess []float64) ([]float64, int, error) {
+		if (calls == 0) != (guess == nil) {
+			t.Errorf("call %d: guess %v", calls, guess != nil)
+		}
+		if guess != nil && len(guess) != s.NumDOF() {
+			t.Errorf("call %d: guess of length %d for %d DOFs", calls, len(guess), s.NumDOF())
+		}
+		calls++
+		if calls == 4 {
+			return nil, 0, errors.New("no convergence in the caller's solver")
+		}
+		return FEMSolver{}.Solve(s, p, guess)
+	})
+	res, err := Run(context.Background(), Problem{Mesh: m, Degree: 1, Data: p, Exact: &ex}, Settings{MaxSteps: 10}, Method{Solver: solver})
+	var se *StepError
+	if !errors.As(err, &se) || se.Step != 3 || se.Stage != StageSolve {
+		t.Fatalf("error %v, want step 3 solve", err)
+	}
+	if len(res.Steps) != 3 || res.Mesh == nil {
+		t.Fatalf("%d steps kept, want 3", len(res.Steps))
+	}
+}

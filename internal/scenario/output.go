@@ -1,0 +1,237 @@
+package scenario
+
+import (
+	"encoding/csv"
+	"encoding/xml"
+	"errors"
+	"fmt"
+	"io"
+	"math"
+	"os"
+	"path/filepath"
+	"slices"
+
+	"gonum.org/v1/plot"
+	"gonum.org/v1/plot/plotter"
+	"gonum.org/v1/plot/vg"
+	"gonum.org/v1/plot/vg/draw"
+
+	"github.com/posteriori-fem/posteriori/adapt"
+	"github.com/posteriori-fem/posteriori/internal/atomicfile"
+	"github.com/posteriori-fem/posteriori/mesh"
+)
+
+// Files written by Run into the output folder.
+const (
+	HistoryFile     = "history.csv"
+	MeshJSONFile    = "mesh.json"
+	MeshVTUFile     = "mesh.vtu"
+	MeshSVGFile     = "mesh.svg"
+	ConvergenceFile = "convergence.svg"
+)
+
+func (sc *Scenario) write(o Options, r run, adaptive, uniform []adapt.Step) error {
+	u := r.res.Solution
+	m := u.Space.Mesh
+	eta := r.res.Indicators.Eta(nil)
+	errT := make([]float64, len(r.err))
+	for i, v := range r.err {
+		errT[i] = math.Sqrt(v)
+	}
+	d := &mesh.Data{
+		Point: map[string][]float64{"u": u.U[:m.NumVertices()]},
+		Cell:  map[string][]float64{"eta": eta, "err": errT},
+	}
+	path := func(name string) string { return filepath.Join(o.Out, name) }
+	if err := atomicfile.Write(path(HistoryFile), func(w io.Writer) error { return adapt.WriteCSV(w, r.res.Steps) }); err != nil {
+		return err
+	}
+	if err := atomicfile.Write(path(MeshJSONFile), func(w io.Writer) error { return mesh.WriteJSON(w, m, d) }); err != nil {
+		return err
+	}
+	if err := atomicfile.Write(path(MeshVTUFile), func(w io.Writer) error { return mesh.WriteVTU(w, m, d) }); err != nil {
+		return err
+	}
+	// A log scale needs positive values: floor η_T at a millionth of the
+	// largest (a zero indicator is drawn in the lowest colour).
+	floor := slices.Max(eta) * 1e-6
+	if floor == 0 {
+		floor = 1
+	}
+	shade := make([]float64, len(eta))
+	for i, v := range eta {
+		shade[i] = max(v, floor)
+	}
+	opt := &mesh.SVGOptions{Cell: shade, Log: true, Label: "η_T", Title: fmt.Sprintf("%s: final mesh, %d triangles", sc.Name, m.NumTriangles()), EdgeWidth: 0.3}
+	if err := atomicfile.Write(path(MeshSVGFile), func(w io.Writer) error { return mesh.WriteSVG(w, m, opt) }); err != nil {
+		return err
+	}
+	return atomicfile.Write(path(ConvergenceFile), func(w io.Writer) error {
+		return sc.convergence(w, o, adaptive, uniform)
+	})
+}
+
+// convergence draws error and estimate against DOFs on log-log axes for
+// adaptive and uniform refinement, with the reference slopes.
+func (sc *Scenario) convergence(w io.Writer, o Options, adaptive, uniform []adapt.Step) error {
+	p := plot.New()
+	p.Title.Text = fmt.Sprintf("%s, P%d, %s estimator", sc.Name, o.Degree, o.Estimator)
+	p.X.Label.Text = "DOFs N"
+	p.Y.Label.Text = "energy error and estimate"
+	p.X.Scale, p.Y.Scale = plot.LogScale{}, plot.LogScale{}
+	p.X.Tick.Marker, p.Y.Tick.Marker = plot.LogTicks{Prec: -1}, plot.LogTicks{Prec: -1}
+	p.Legend.Left = true // the curves fall from the top left: the bottom left is free
+	series := func(steps []adapt.Step) (e, eta plotter.XYs) {
+		for _, s := range steps {
+			e = append(e, plotter.XY{X: float64(s.DOFs), Y: s.Error})
+			eta = append(eta, plotter.XY{X: float64(s.DOFs), Y: s.Estimate})
+		}
+		return e, eta
+	}
+	ae, aeta := series(adaptive)
+	ue, ueta := series(uniform)
+	add := func(name string, xy plotter.XYs, c int, dashed bool, shape draw.GlyphDrawer) error {
+		l, s, err := plotter.NewLinePoints(xy)
+		if err != nil {
+			return err
+		}
+		l.Color, s.Color = plotColor(c), plotColor(c)
+		s.Shape = shape
+		if dashed {
+			l.Dashes = []vg.Length{vg.Points(4), vg.Points(3)}
+		}
+		p.Add(l, s)
+		p.Legend.Add(name, l, s)
+		return nil
+	}
+	for _, c := range []struct {
+		name   string
+		xy     plotter.XYs
+		color  int
+		dashed bool
+		shape  draw.GlyphDrawer
+	}{
+		{"adaptive: true error", ae, 0, false, draw.CircleGlyph{}},
+		{"adaptive: estimate", aeta, 0, true, draw.BoxGlyph{}},
+		{"uniform: true error", ue, 1, false, draw.CircleGlyph{}},
+		{"uniform: estimate", ueta, 1, true, draw.BoxGlyph{}},
+	} {
+		if err := add(c.name, c.xy, c.color, c.dashed, c.shape); err != nil {
+			return err
+		}
+	}
+	// Reference slopes from a common point below the first adaptive error,
+	// so that they fan out and their labels stand apart.
+	n0, n1 := ae[0].X, max(ae[len(ae)-1].X, ue[len(ue)-1].X)
+	for i, s := range sc.Slopes {
+		c := 0.4 * ae[0].Y
+		xy := plotter.XYs{{X: n0, Y: c}, {X: n1, Y: c * math.Pow(n1/n0, s.Exponent)}}
+		l, err := plotter.NewLine(xy)
+		if err != nil {
+			return err
+		}
+		l.Color = plotColor(2 + i)
+		l.Dashes = []vg.Length{vg.Points(1), vg.Points(2)}
+		p.Add(l)
+		at := math.Pow(n0, 0.2) * math.Pow(n1, 0.8) // label 80% along the line, in log scale
+		lab, err := plotter.NewLabels(plotter.XYLabels{XYs: plotter.XYs{{X: at, Y: c * math.Pow(at/n0, s.Exponent)}}, Labels: []string{s.Label}})
+		if err != nil {
+			return err
+		}
+		p.Add(lab)
+	}
+	wt, err := p.WriterTo(6*vg.Inch, 4.5*vg.Inch, "svg")
+	if err != nil {
+		return err
+	}
+	_, err = wt.WriteTo(w)
+	return err
+}
+
+// Verify checks the files of a run in dir: the CSV has the documented
+// header and one row per step, the JSON arrays match the mesh, the VTU and
+// SVG files are well-formed XML and the VTU's counts match the mesh. It is
+// used by the examples' tests.
+func Verify(dir string) (steps int, err error) {
+	f, err := os.Open(filepath.Join(dir, HistoryFile))
+	if err != nil {
+		return 0, err
+	}
+	defer f.Close()
+	rows, err := csv.NewReader(f).ReadAll()
+	if err != nil {
+		return 0, fmt.Errorf("%s: %w", HistoryFile, err)
+	}
+	if len(rows) < 2 || !slices.Equal(rows[0], adapt.CSVHeader) {
+		return 0, fmt.Errorf("%s: header %v", HistoryFile, rows[0])
+	}
+	if _, err := f.Seek(0, 0); err != nil {
+		return 0, err
+	}
+	recs, err := adapt.ReadCSV(f)
+	if err != nil {
+		return 0, err
+	}
+	j, err := os.Open(filepath.Join(dir, MeshJSONFile))
+	if err != nil {
+		return 0, err
+	}
+	defer j.Close()
+	m, d, err := mesh.ReadJSON(j)
+	if err != nil {
+		return 0, err
+	}
+	if last := recs[len(recs)-1]; last.Triangles != m.NumTriangles() {
+		return 0, fmt.Errorf("%s has %d triangles, the last step %d", MeshJSONFile, m.NumTriangles(), last.Triangles)
+	}
+	if len(d.Point["u"]) != m.NumVertices() || len(d.Cell["eta"]) != m.NumTriangles() || len(d.Cell["err"]) != m.NumTriangles() {
+		return 0, fmt.Errorf("%s: fields u, eta, err of lengths %d, %d, %d", MeshJSONFile, len(d.Point["u"]), len(d.Cell["eta"]), len(d.Cell["err"]))
+	}
+	var piece struct {
+		Points int `xml:"NumberOfPoints,attr"`
+		Cells  int `xml:"NumberOfCells,attr"`
+	}
+	if err := wellFormed(filepath.Join(dir, MeshVTUFile), "Piece", &piece); err != nil {
+		return 0, err
+	}
+	if piece.Points != m.NumVertices() || piece.Cells != m.NumTriangles() {
+		return 0, fmt.Errorf("%s: %d points and %d cells, mesh has %d and %d", MeshVTUFile, piece.Points, piece.Cells, m.NumVertices(), m.NumTriangles())
+	}
+	for _, name := range []string{MeshSVGFile, ConvergenceFile} {
+		if err := wellFormed(filepath.Join(dir, name), "", nil); err != nil {
+			return 0, err
+		}
+	}
+	return len(recs), nil
+}
+
+// wellFormed reads an XML file to its end; if elem is not empty, the first
+// element of that name is decoded into v (which must then be found).
+func wellFormed(path, elem string, v any) error {
+	f, err := os.Open(path)
+	if err != nil {
+		return err
+	}
+	defer f.Close()
+	dec := xml.NewDecoder(f)
+	found := elem == ""
+	for {
+		tok, err := dec.Token()
+		if errors.Is(err, io.EOF) {
+			break
+		}
+		if err != nil {
+			return fmt.Errorf("%s: %w", path, err)
+		}
+		if se, ok := tok.(xml.StartElement); ok && !found && se.Name.Local == elem {
+			if err := dec.DecodeElement(v, &se); err != nil {
+				return fmt.Errorf("%s: %w", path, err)
+			}
+			found = true
+		}
+	}
+	if !found {
+		return fmt.Errorf("%s: no %s element", path, elem)
+	}
+	return nil
+}

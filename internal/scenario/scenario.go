@@ -1,0 +1,201 @@
+// Package scenario is the command-line driver shared by the examples that
+// run one adaptive computation with a known exact solution: flags, the
+// per-step table, and the output files.
+package scenario
+
+import (
+	"context"
+	"errors"
+	"flag"
+	"fmt"
+	"io"
+	"math"
+	"os"
+	"path/filepath"
+	"strings"
+	"time"
+
+	"github.com/posteriori-fem/posteriori/adapt"
+	"github.com/posteriori-fem/posteriori/estimate"
+	"github.com/posteriori-fem/posteriori/fem"
+	"github.com/posteriori-fem/posteriori/mesh"
+)
+
+// Scenario describes one computation.
+type Scenario struct {
+	Name       string // command name, for messages
+	Title      string // first line of the printed table
+	Mesh       func() (*mesh.Mesh, error)
+	Exact      fem.Exact
+	Data       *fem.Problem
+	DefaultOut string
+	MaxDOFs    int          // default DOF budget
+	Slopes     []Slope      // reference slopes drawn in convergence.svg
+}
+
+// Slope is a reference line value ∝ N^Exponent labelled Label.
+type Slope struct {
+	Exponent float64
+	Label    string
+}
+
+// Options are the parsed flags.
+type Options struct {
+	Degree    int
+	Estimator string
+	Theta     float64
+	MaxDOFs   int
+	Tol       float64
+	Out       string
+	Uniform   bool
+}
+
+// Estimators maps the -estimator flag's values to estimators.
+var Estimators = map[string]estimate.Estimator{
+	"residual": estimate.Residual{},
+	"average":  estimate.Recovery{Method: estimate.Averaging},
+	"patch":    estimate.Recovery{Method: estimate.SPR},
+}
+
+// errUsage marks a bad command line: exit status 2.
+var errUsage = errors.New("usage")
+
+// Parse parses and checks the flags. Errors are one line and wrap errUsage.
+func (sc *Scenario) Parse(args []string) (Options, error) {
+	var o Options
+	fs := flag.NewFlagSet(sc.Name, flag.ContinueOnError)
+	fs.SetOutput(io.Discard)
+	fs.IntVar(&o.Degree, "p", 1, "polynomial degree, 1 or 2")
+	fs.StringVar(&o.Estimator, "estimator", "residual", "residual, average or patch")
+	fs.Float64Var(&o.Theta, "theta", 0.5, "Dörfler marking parameter in (0, 1]")
+	fs.IntVar(&o.MaxDOFs, "max-dofs", sc.MaxDOFs, "DOF budget, 50 to 4000000")
+	fs.Float64Var(&o.Tol, "tol", 0, "stop when the estimate is below this (0: no tolerance)")
+	fs.StringVar(&o.Out, "out", sc.DefaultOut, "folder for the output files")
+	fs.BoolVar(&o.Uniform, "uniform", false, "refine uniformly instead of adaptively")
+	bad := func(format string, a ...any) (Options, error) {
+		return o, fmt.Errorf("%w: %s: %s", errUsage, sc.Name, fmt.Sprintf(format, a...))
+	}
+	if err := fs.Parse(args); err != nil {
+		return bad("%v", err)
+	}
+	switch {
+	case fs.NArg() > 0:
+		return bad("unexpected argument %q", fs.Arg(0))
+	case o.Degree != 1 && o.Degree != 2:
+		return bad("-p %d: want 1 or 2", o.Degree)
+	case Estimators[o.Estimator] == nil:
+		return bad("-estimator %q: want residual, average or patch", o.Estimator)
+	case !(o.Theta > 0 && o.Theta <= 1):
+		return bad("-theta %g: want a value in (0, 1]", o.Theta)
+	case o.MaxDOFs < 50 || o.MaxDOFs > 4000000:
+		return bad("-max-dofs %d: want 50 to 4000000", o.MaxDOFs)
+	case !(o.Tol >= 0) || math.IsInf(o.Tol, 0):
+		return bad("-tol %g: want a finite value ≥ 0", o.Tol)
+	case strings.TrimSpace(o.Out) == "":
+		return bad("-out: empty folder name")
+	}
+	return o, nil
+}
+
+// Main runs the scenario with command-line arguments args and returns the
+// exit status: 0, 1 for a failed computation, 2 for a bad command line (in
+// which case nothing is written).
+func (sc *Scenario) Main(args []string, stdout, stderr io.Writer) int {
+	o, err := sc.Parse(args)
+	if err != nil {
+		fmt.Fprintln(stderr, strings.TrimPrefix(err.Error(), "usage: "))
+		return 2
+	}
+	if err := sc.Run(o, stdout); err != nil {
+		fmt.Fprintf(stderr, "%s: %v\n", sc.Name, err)
+		return 1
+	}
+	return 0
+}
+
+// run is one refinement sequence.
+type run struct {
+	res *adapt.Result
+	err []float64 // squared true error per triangle of the final mesh
+}
+
+// Run computes and writes the outputs.
+func (sc *Scenario) Run(o Options, w io.Writer) error {
+	m, err := sc.Mesh()
+	if err != nil {
+		return err
+	}
+	mode := "adaptive, Dörfler θ = " + fmt.Sprint(o.Theta)
+	if o.Uniform {
+		mode = "uniform refinement"
+	}
+	fmt.Fprintf(w, "%s\nP%d, %s estimator, %s, budget %d DOFs\n", sc.Title, o.Degree, o.Estimator, mode, o.MaxDOFs)
+	fmt.Fprintf(w, "%4s %9s %9s %11s %11s %7s %6s %8s\n", "step", "triangles", "DOFs", "estimate", "true error", "effect.", "rate", "time")
+	var seen []adapt.Step
+	print := func(s adapt.Step) error {
+		seen = append(seen, s)
+		rate := "-"
+		if len(seen) >= 3 {
+			if r, ok := fitted(seen[len(seen)/2:]); ok {
+				rate = fmt.Sprintf("%.3f", r)
+			}
+		}
+		t := s.SolveTime + s.EstimateTime + s.ErrorTime + s.MarkTime + s.RefineTime
+		fmt.Fprintf(w, "%4d %9d %9d %11.4e %11.4e %7.3f %6s %8s\n", s.Step, s.Triangles, s.DOFs, s.Estimate, s.Error, s.Effectivity, rate, t.Round(time.Millisecond))
+		return nil
+	}
+	main, err := sc.loop(m, o, o.Uniform, print)
+	if err != nil {
+		return err
+	}
+	other, err := sc.loop(m, o, !o.Uniform, nil)
+	if err != nil {
+		return err
+	}
+	last := main.res.Steps[len(main.res.Steps)-1]
+	fmt.Fprintf(w, "stopped: %v after %d steps; rate: the exponent r of error ≈ C N^(-r), fitted over the second half of the steps so far\n", main.res.Status, len(main.res.Steps))
+	fmt.Fprintln(w, "The estimate measures discretization error only, not modelling error; engineering use follows local codes and licensed practice.")
+	adaptive, uniform := main, other
+	if o.Uniform {
+		adaptive, uniform = other, main
+	}
+	if err := os.MkdirAll(o.Out, 0o755); err != nil {
+		return err
+	}
+	if err := sc.write(o, main, adaptive.res.Steps, uniform.res.Steps); err != nil {
+		return err
+	}
+	fmt.Fprintf(w, "wrote %s (final mesh: %d triangles, %d DOFs)\n", filepath.Join(o.Out, "{history.csv,mesh.json,mesh.vtu,mesh.svg,convergence.svg}"), last.Triangles, last.DOFs)
+	return nil
+}
+
+// fitted returns the fitted rate of the true error of steps.
+func fitted(steps []adapt.Step) (float64, bool) {
+	var n, e []float64
+	for _, s := range steps {
+		n = append(n, float64(s.DOFs))
+		e = append(e, s.Error)
+	}
+	r, _, err := estimate.FitRate(n, e)
+	return r, err == nil
+}
+
+func (sc *Scenario) loop(m *mesh.Mesh, o Options, uniform bool, onStep func(adapt.Step) error) (run, error) {
+	var marker adapt.Marker = adapt.Dorfler{Theta: o.Theta}
+	if uniform {
+		marker = adapt.Fraction{F: 1}
+	}
+	ex := sc.Exact
+	res, err := adapt.Run(context.Background(),
+		adapt.Problem{Mesh: m, Degree: o.Degree, Data: sc.Data, Exact: &ex},
+		adapt.Settings{MaxDOFs: o.MaxDOFs, Tol: o.Tol, OnStep: onStep},
+		adapt.Method{Estimator: Estimators[o.Estimator], Marker: marker})
+	if err != nil {
+		return run{}, err
+	}
+	e2, _, err := estimate.TrueError(nil, res.Solution, ex, sc.Data)
+	if err != nil {
+		return run{}, err
+	}
+	return run{res: res, err: e2}, nil
+}
