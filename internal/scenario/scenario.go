@@ -29,8 +29,8 @@ type Scenario struct {
 	Exact      fem.Exact
 	Data       *fem.Problem
 	DefaultOut string
-	MaxDOFs    int          // default DOF budget
-	Slopes     []Slope      // reference slopes drawn in convergence.svg
+	MaxDOFs    int     // default DOF budget
+	Slopes     []Slope // reference slopes drawn in convergence.svg
 }
 
 // Slope is a reference line value ∝ N^Exponent labelled Label.
