@@ -135,10 +135,12 @@ type StepError struct {
 	Err   error
 }
 
+// Error describes the error with its location.
 func (e *StepError) Error() string {
 	return fmt.Sprintf("adapt: step %d: %s: %v", e.Step, e.Stage, e.Err)
 }
 
+// Unwrap returns the reason, for errors.Is and errors.As.
 func (e *StepError) Unwrap() error { return e.Err }
 
 // ErrSettings reports settings that cannot run: no stop rule, a negative

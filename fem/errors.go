@@ -30,6 +30,7 @@ type DataError struct {
 	Err      error
 }
 
+// Error describes the error with its location.
 func (e *DataError) Error() string {
 	s := "fem:"
 	switch {
@@ -43,6 +44,7 @@ func (e *DataError) Error() string {
 	return s + " " + e.Err.Error()
 }
 
+// Unwrap returns the reason, for errors.Is and errors.As.
 func (e *DataError) Unwrap() error { return e.Err }
 
 func atTriangle(k int, x, y float64, err error) error {

@@ -33,6 +33,7 @@ type ValidationError struct {
 	Err      error
 }
 
+// Error describes the error with its location.
 func (e *ValidationError) Error() string {
 	s := "mesh:"
 	if e.Triangle >= 0 {
@@ -47,6 +48,7 @@ func (e *ValidationError) Error() string {
 	return s + " " + e.Err.Error()
 }
 
+// Unwrap returns the reason, for errors.Is and errors.As.
 func (e *ValidationError) Unwrap() error { return e.Err }
 
 func triErr(k int, err error) error {
