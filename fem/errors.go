@@ -26,7 +26,8 @@ type DataError struct {
 	Triangle int
 	Tag      int
 	Region   int
-	X, Y     float64 // point of evaluation, when Triangle ≥ 0
+	X, Y     float64 // point of evaluation, when AtPoint
+	AtPoint  bool    // whether X, Y locate the problem within the triangle
 	Err      error
 }
 
@@ -34,8 +35,10 @@ type DataError struct {
 func (e *DataError) Error() string {
 	s := "fem:"
 	switch {
-	case e.Triangle >= 0:
+	case e.Triangle >= 0 && e.AtPoint:
 		s += fmt.Sprintf(" triangle %d at (%g, %g):", e.Triangle, e.X, e.Y)
+	case e.Triangle >= 0:
+		s += fmt.Sprintf(" triangle %d:", e.Triangle)
 	case e.Tag >= 0:
 		s += fmt.Sprintf(" boundary tag %d:", e.Tag)
 	case e.Region >= 0:
@@ -48,7 +51,11 @@ func (e *DataError) Error() string {
 func (e *DataError) Unwrap() error { return e.Err }
 
 func atTriangle(k int, x, y float64, err error) error {
-	return &DataError{Triangle: k, Tag: -1, Region: -1, X: x, Y: y, Err: err}
+	return &DataError{Triangle: k, Tag: -1, Region: -1, X: x, Y: y, AtPoint: true, Err: err}
+}
+
+func atPiece(k int, err error) error {
+	return &DataError{Triangle: k, Tag: -1, Region: -1, Err: err}
 }
 
 func atTag(tag int32, err error) error {

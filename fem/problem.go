@@ -133,6 +133,35 @@ func (p *Problem) Check(m *mesh.Mesh) error {
 	if len(p.Dirichlet) == 0 && p.C == 0 && !p.PureNeumann {
 		return fmt.Errorf("fem: %w (set PureNeumann to solve it up to a constant)", ErrIllPosed)
 	}
+	if p.C == 0 {
+		return p.checkPieces(m)
+	}
+	return nil
+}
+
+// checkPieces verifies that, without reaction, every connected piece of the
+// mesh has a Dirichlet edge (else its solution is fixed only up to a
+// constant), and that a pure Neumann problem has one piece (its solution is
+// fixed by one mean value).
+func (p *Problem) checkPieces(m *mesh.Mesh) error {
+	label, n := m.Components()
+	if n == 1 {
+		return nil
+	}
+	if len(p.Dirichlet) == 0 {
+		return fmt.Errorf("fem: %w: a pure Neumann problem on a mesh of %d disconnected pieces", ErrIllPosed, n)
+	}
+	fixed := make([]bool, n)
+	for e := range m.NumEdges() {
+		if _, ok := p.Dirichlet[m.EdgeTag[e]]; ok && m.IsBoundary(e) {
+			fixed[label[m.EdgeTri[2*e]]] = true
+		}
+	}
+	for k, l := range label {
+		if !fixed[l] {
+			return atPiece(k, fmt.Errorf("%w: the piece of the mesh that holds this triangle (%d pieces in all) has no Dirichlet edge", ErrIllPosed, n))
+		}
+	}
 	return nil
 }
 

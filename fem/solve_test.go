@@ -278,3 +278,33 @@ func TestFunctionEval(t *testing.T) {
 		t.Errorf("1/x at x = 0: %v", err)
 	}
 }
+
+// A mesh in two pieces, one of them without a Dirichlet edge, has no
+// unique solution when c = 0.
+func TestDisconnectedPieces(t *testing.T) {
+	t.Parallel()
+	x := []float64{0, 0, 1, 0, 1, 1, 0, 1, 3, 0, 4, 0, 4, 1, 3, 1}
+	tri := []int32{1, 2, 0, 3, 0, 2, 5, 6, 4, 7, 4, 6}
+	// Tag 1 on the bottom of the first square only.
+	m, _, err := mesh.New(mesh.Arrays{X: x, Tri: tri, Bnd: []int32{0, 1}, BndTag: []int32{1}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	s, _ := NewSpace(m, 1)
+	one := func(x, y float64) float64 { return 1 }
+	_, err = Assemble(s, &Problem{F: one, Dirichlet: map[int32]Func{1: nil}})
+	var de *DataError
+	if !errors.Is(err, ErrIllPosed) || !errors.As(err, &de) || de.Triangle != 2 {
+		t.Fatalf("got %v, want ErrIllPosed at triangle 2", err)
+	}
+	if _, err := Assemble(s, &Problem{F: one, PureNeumann: true}); !errors.Is(err, ErrIllPosed) {
+		t.Fatalf("pure Neumann on two pieces: %v", err)
+	}
+	if _, err := Assemble(s, &Problem{F: one, C: 1}); err != nil {
+		t.Fatalf("with reaction both pieces are well posed: %v", err)
+	}
+	// Tag 0 is on both pieces: well posed.
+	if _, err := Assemble(s, &Problem{F: one, Dirichlet: map[int32]Func{0: nil}}); err != nil {
+		t.Fatal(err)
+	}
+}

@@ -197,3 +197,38 @@ func checkSorted(t *testing.T, m *Mesh) {
 		}
 	}
 }
+
+func TestComponents(t *testing.T) {
+	t.Parallel()
+	// Two unit squares apart, and one triangle touching the second only at
+	// a vertex (a vertex contact does not join pieces).
+	a := Arrays{
+		X:   []float64{0, 0, 1, 0, 1, 1, 0, 1, 3, 0, 4, 0, 4, 1, 3, 1, 5, 1, 5, 2},
+		Tri: []int32{1, 2, 0, 3, 0, 2, 5, 6, 4, 7, 4, 6, 6, 8, 9},
+	}
+	m, _, err := New(a)
+	if err != nil {
+		t.Fatal(err)
+	}
+	label, n := m.Components()
+	want := []int32{0, 0, 1, 1, 2}
+	if n != 3 || !slicesEqual(label, want) {
+		t.Errorf("components %v (%d), want %v (3)", label, n, want)
+	}
+	l, _ := LShape(2)
+	if _, n := l.Components(); n != 1 {
+		t.Errorf("L-shape has %d components", n)
+	}
+}
+
+func slicesEqual(a, b []int32) bool {
+	if len(a) != len(b) {
+		return false
+	}
+	for i := range a {
+		if a[i] != b[i] {
+			return false
+		}
+	}
+	return true
+}

@@ -35,3 +35,37 @@ func (m *Mesh) BoundaryVertices() []bool {
 	}
 	return b
 }
+
+// Components labels the connected pieces of the mesh (triangles joined
+// through shared edges): label[k] is the piece of triangle k, numbered from
+// 0 in order of each piece's lowest triangle, and n is their number. It is
+// linear in the size of the mesh.
+func (m *Mesh) Components() (label []int32, n int) {
+	nt := m.NumTriangles()
+	label = make([]int32, nt)
+	for k := range label {
+		label[k] = -1
+	}
+	var stack []int32
+	for k := range nt {
+		if label[k] >= 0 {
+			continue
+		}
+		label[k] = int32(n)
+		stack = append(stack[:0], int32(k))
+		for len(stack) > 0 {
+			t := stack[len(stack)-1]
+			stack = stack[:len(stack)-1]
+			for _, e := range m.TriEdge[3*t : 3*t+3] {
+				for _, o := range m.EdgeTri[2*e : 2*e+2] {
+					if o >= 0 && label[o] < 0 {
+						label[o] = int32(n)
+						stack = append(stack, o)
+					}
+				}
+			}
+		}
+		n++
+	}
+	return label, n
+}
