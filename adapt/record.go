@@ -8,6 +8,8 @@ import (
 	"math"
 	"strconv"
 	"time"
+
+	"github.com/posteriori-fem/posteriori/internal/atomicfile"
 )
 
 // Step is the record of one step of the loop.
@@ -135,4 +137,10 @@ func ReadCSV(r io.Reader) ([]Step, error) {
 		}
 		steps = append(steps, s)
 	}
+}
+
+// SaveCSV writes the records to the file at path as WriteCSV does, through
+// a temporary file in the same folder renamed over path only when complete.
+func SaveCSV(path string, steps []Step) error {
+	return atomicfile.Write(path, func(w io.Writer) error { return WriteCSV(w, steps) })
 }
