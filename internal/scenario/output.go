@@ -43,13 +43,13 @@ func (sc *Scenario) write(o Options, r run, adaptive, uniform []adapt.Step) erro
 		Cell:  map[string][]float64{"eta": eta, "err": errT},
 	}
 	path := func(name string) string { return filepath.Join(o.Out, name) }
-	if err := atomicfile.Write(path(HistoryFile), func(w io.Writer) error { return adapt.WriteCSV(w, r.res.Steps) }); err != nil {
+	if err := adapt.SaveCSV(path(HistoryFile), r.res.Steps); err != nil {
 		return err
 	}
-	if err := atomicfile.Write(path(MeshJSONFile), func(w io.Writer) error { return mesh.WriteJSON(w, m, d) }); err != nil {
+	if err := mesh.SaveJSON(path(MeshJSONFile), m, d); err != nil {
 		return err
 	}
-	if err := atomicfile.Write(path(MeshVTUFile), func(w io.Writer) error { return mesh.WriteVTU(w, m, d) }); err != nil {
+	if err := mesh.SaveVTU(path(MeshVTUFile), m, d); err != nil {
 		return err
 	}
 	// A log scale needs positive values: floor η_T at a millionth of the
@@ -63,7 +63,7 @@ func (sc *Scenario) write(o Options, r run, adaptive, uniform []adapt.Step) erro
 		shade[i] = max(v, floor)
 	}
 	opt := &mesh.SVGOptions{Cell: shade, Log: true, Label: "η_T", Title: fmt.Sprintf("%s: final mesh, %d triangles", sc.Name, m.NumTriangles()), EdgeWidth: 0.3}
-	if err := atomicfile.Write(path(MeshSVGFile), func(w io.Writer) error { return mesh.WriteSVG(w, m, opt) }); err != nil {
+	if err := mesh.SaveSVG(path(MeshSVGFile), m, opt); err != nil {
 		return err
 	}
 	return atomicfile.Write(path(ConvergenceFile), func(w io.Writer) error {
