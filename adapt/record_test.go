@@ -8,6 +8,7 @@ import (
 	"testing"
 	"time"
 
+	"github.com/posteriori-fem/posteriori/estimate"
 	"github.com/posteriori-fem/posteriori/fem"
 	"github.com/posteriori-fem/posteriori/internal/problems"
 	"github.com/posteriori-fem/posteriori/mesh"
@@ -91,5 +92,47 @@ func TestSolverHook(t *testing.T) {
 	}
 	if len(res.Steps) != 3 || res.Mesh == nil {
 		t.Fatalf("%d steps kept, want 3", len(res.Steps))
+	}
+}
+
+// estimatorFunc adapts a function to the estimate.Estimator interface.
+type estimatorFunc func(dst *estimate.Indicators, u *fem.Function, p *fem.Problem) (*estimate.Indicators, error)
+
+func (f estimatorFunc) Estimate(dst *estimate.Indicators, u *fem.Function, p *fem.Problem) (*estimate.Indicators, error) {
+	return f(dst, u, p)
+}
+
+// An estimator error and a solver that does not converge stop the loop
+// with the step and stage; the completed steps and the last good mesh stay
+// available.
+func TestLoopStageErrors(t *testing.T) {
+	t.Parallel()
+	_, p := problems.LShape()
+	m, _ := mesh.LShape(2)
+	calls := 0
+	failing := estimatorFunc(func(dst *estimate.Indicators, u *fem.Function, p *fem.Problem) (*estimate.Indicators, error) {
+		calls++
+		if calls == 3 {
+			return nil, errors.New("indicator table full")
+		}
+		return estimate.Residual{}.Estimate(dst, u, p)
+	})
+	res, err := Run(context.Background(), Problem{Mesh: m, Degree: 1, Data: p}, Settings{MaxSteps: 10}, Method{Estimator: failing})
+	var se *StepError
+	if !errors.As(err, &se) || se.Step != 2 || se.Stage != StageEstimate || !strings.Contains(err.Error(), "step 2: estimate") {
+		t.Fatalf("error %v, want step 2 estimate", err)
+	}
+	if len(res.Steps) != 2 || res.Mesh.NumTriangles() != res.Steps[1].Triangles {
+		t.Fatalf("kept %d steps, mesh of %d triangles", len(res.Steps), res.Mesh.NumTriangles())
+	}
+	// The library's solver limited to 2 iterations fails at the first step
+	// with interior unknowns.
+	res, err = Run(context.Background(), Problem{Mesh: m, Degree: 1, Data: p}, Settings{MaxSteps: 10},
+		Method{Solver: FEMSolver{Settings: fem.SolveSettings{MaxIter: 2}}})
+	if !errors.As(err, &se) || se.Stage != StageSolve || !errors.Is(err, fem.ErrNotConverge) {
+		t.Fatalf("error %v, want a solve-stage ErrNotConverge", err)
+	}
+	if len(res.Steps) != se.Step {
+		t.Fatalf("%d steps kept, failure at step %d", len(res.Steps), se.Step)
 	}
 }
