@@ -23,6 +23,8 @@ type Mesh struct {
 	TriEdge []int32 // 3 per triangle: TriEdge[3k+i] is the edge opposite local vertex i, so TriEdge[3k] is the refinement edge
 	EdgeTri []int32 // 2 per edge: the triangles on each side; EdgeTri[2e+1] is -1 on the boundary
 	EdgeTag []int32 // 1 per edge: Interior for an interior edge, else the boundary tag (0 where none was given)
+
+	pieces int // number of connected pieces, 0 if not known
 }
 
 // Arrays is the raw description of a mesh handed to New. Region may be nil
@@ -178,6 +180,7 @@ func New(a Arrays) (m *Mesh, reoriented []int32, err error) {
 	if err := m.tagBoundary(a.Bnd, a.BndTag); err != nil {
 		return nil, nil, err
 	}
+	_, m.pieces = m.Components()
 	return m, reoriented, nil
 }
 

@@ -232,3 +232,17 @@ func slicesEqual(a, b []int32) bool {
 	}
 	return true
 }
+
+func TestNumPiecesKeptByRefinement(t *testing.T) {
+	t.Parallel()
+	m, _ := Slit(2)
+	all := make([]bool, m.NumTriangles())
+	all[3] = true
+	f, _, _ := m.Refine(all)
+	u, _, _ := f.RefineUniform()
+	for _, x := range []*Mesh{m, f, u} {
+		if _, n := x.Components(); n != 1 || x.NumPieces() != 1 {
+			t.Errorf("pieces %d, components %d", x.NumPieces(), n)
+		}
+	}
+}

@@ -36,6 +36,17 @@ func (m *Mesh) BoundaryVertices() []bool {
 	return b
 }
 
+// NumPieces returns the number of connected pieces of the mesh (see
+// Components). It is known without cost for meshes built by New and by
+// refinement, which keeps the pieces.
+func (m *Mesh) NumPieces() int {
+	if m.pieces == 0 { // a Mesh not made by this package: count (without caching, so that readers do not race)
+		_, n := m.Components()
+		return n
+	}
+	return m.pieces
+}
+
 // Components labels the connected pieces of the mesh (triangles joined
 // through shared edges): label[k] is the piece of triangle k, numbered from
 // 0 in order of each piece's lowest triangle, and n is their number. It is

@@ -97,6 +97,7 @@ func (m *Mesh) Refine(marked []bool) (*Mesh, *Parents, error) {
 			TriEdge: grow(m.TriEdge, 3*nt2)[:3*nt],
 			EdgeTri: grow(m.EdgeTri, 2*ne2)[:2*ne],
 			EdgeTag: grow(m.EdgeTag, ne2)[:ne],
+			pieces:  m.pieces, // bisection keeps the connected pieces
 		},
 		mid:   mid,
 		other: make(map[int32]int32, len(split)),
