@@ -8,6 +8,7 @@ import (
 
 	"github.com/posteriori-fem/posteriori/internal/quadrature"
 	"github.com/posteriori-fem/posteriori/internal/sparse"
+	"github.com/posteriori-fem/posteriori/mesh"
 )
 
 // Matrix is the sparse matrix of an assembled system: compressed sparse
@@ -34,7 +35,7 @@ type System struct {
 // exactly (degree 2p − 2); diffusion given by AFunc uses degree 2p; the
 // reaction term is exact (degree 2p); the load and the Neumann data use
 // degree p + LoadExtraDegree.
-const LoadExtraDegree = 4
+const LoadExtraDegree = 2
 
 // block is the number of triangles whose element matrices are computed in
 // parallel before being added, in triangle order, to the global matrix.
@@ -56,9 +57,15 @@ func Assemble(s *Space, p *Problem) (*System, error) {
 	if err := p.Check(s.Mesh); err != nil {
 		return nil, err
 	}
-	a := pattern(s)
+	var a *Matrix
+	var pos *p1Positions
+	if s.Degree == 1 {
+		a, pos = patternP1(s)
+	} else {
+		a = pattern(s)
+	}
 	b := make([]float64, s.NumDOF())
-	if err := assembleElements(s, p, a, b); err != nil {
+	if err := assembleElements(s, p, a, pos, b); err != nil {
 		return nil, err
 	}
 	if err := assembleNeumann(s, p, b); err != nil {
@@ -141,9 +148,66 @@ func newElementWork(ld int) *elementWork {
 	return &elementWork{phi: make([]float64, ld), grad: make([][2]float64, ld)}
 }
 
+// p1Positions locates the entries of a P1 matrix: Diag[v] is the position
+// of (v, v) in Val, Edge[2e] and Edge[2e+1] those of (lo, hi) and (hi, lo)
+// for edge e = lo–hi.
+type p1Positions struct {
+	Diag, Edge []int32
+}
+
+// patternP1 returns the P1 matrix with zero values and the positions of its
+// entries. The pattern is that of the mesh's graph: the diagonal and one
+// pair of entries per edge; rows are sorted by insertion (short rows).
+func patternP1(s *Space) (*Matrix, *p1Positions) {
+	m := s.Mesh
+	n, ne := m.NumVertices(), m.NumEdges()
+	rowPtr := make([]int32, n+1)
+	for v := range n {
+		rowPtr[v+1] = 1
+	}
+	for _, v := range m.Edge {
+		rowPtr[v+1]++
+	}
+	for v := range n {
+		rowPtr[v+1] += rowPtr[v]
+	}
+	col := make([]int32, rowPtr[n])
+	fill := make([]int32, n)
+	for v := range n {
+		col[rowPtr[v]] = int32(v)
+		fill[v] = rowPtr[v] + 1
+	}
+	for e := range ne {
+		a, b := m.Edge[2*e], m.Edge[2*e+1]
+		col[fill[a]] = b
+		fill[a]++
+		col[fill[b]] = a
+		fill[b]++
+	}
+	for v := range n {
+		row := col[rowPtr[v]:rowPtr[v+1]]
+		for j := 1; j < len(row); j++ {
+			for l := j; l > 0 && row[l-1] > row[l]; l-- {
+				row[l-1], row[l] = row[l], row[l-1]
+			}
+		}
+	}
+	pos := &p1Positions{Diag: make([]int32, n), Edge: make([]int32, 2*ne)}
+	for v := range n {
+		pos.Diag[v] = rowPtr[v] + int32(search(col[rowPtr[v]:rowPtr[v+1]], int32(v)))
+	}
+	for e := range ne {
+		a, b := m.Edge[2*e], m.Edge[2*e+1]
+		pos.Edge[2*e] = rowPtr[a] + int32(search(col[rowPtr[a]:rowPtr[a+1]], b))
+		pos.Edge[2*e+1] = rowPtr[b] + int32(search(col[rowPtr[b]:rowPtr[b+1]], a))
+	}
+	return &Matrix{Rows: n, Cols: n, RowPtr: rowPtr, Col: col, Val: make([]float64, len(col))}, pos
+}
+
 // assembleElements adds the element matrices and loads of every triangle to
-// a and b.
-func assembleElements(s *Space, p *Problem, a *Matrix, b []float64) error {
+// a and b. For P1, pos gives the positions of the entries; otherwise they
+// are found by binary search in the rows.
+func assembleElements(s *Space, p *Problem, a *Matrix, pos *p1Positions, b []float64) error {
 	nt, ld := s.Mesh.NumTriangles(), s.LocalDOFs()
 	deg := s.Degree
 	rules, err := elementRules(deg, p)
@@ -186,6 +250,10 @@ func assembleElements(s *Space, p *Problem, a *Matrix, b []float64) error {
 				return err
 			}
 		}
+		if pos != nil {
+			scatterP1(s.Mesh, pos, a, b, ke, fe, k0, k1)
+			continue
+		}
 		for k := k0; k < k1; k++ {
 			off := k - k0
 			dofs = s.ElementDOFs(dofs, k)
@@ -201,6 +269,27 @@ func assembleElements(s *Space, p *Problem, a *Matrix, b []float64) error {
 		}
 	}
 	return nil
+}
+
+// scatterP1 adds the element matrices and loads of triangles k0..k1−1 to
+// a and b, in triangle order.
+func scatterP1(m *mesh.Mesh, pos *p1Positions, a *Matrix, b, ke, fe []float64, k0, k1 int) {
+	for k := k0; k < k1; k++ {
+		off := k - k0
+		kl := ke[9*off : 9*off+9]
+		t := m.Tri[3*k : 3*k+3]
+		for i, v := range t {
+			b[v] += fe[3*off+i]
+			a.Val[pos.Diag[v]] += kl[4*i]
+		}
+		// The pair (i, j) is the edge opposite the third vertex l.
+		for l, e := range m.TriEdge[3*k : 3*k+3] {
+			i, j := (l+1)%3, (l+2)%3
+			v := kl[3*i+j]
+			a.Val[pos.Edge[2*e]] += v
+			a.Val[pos.Edge[2*e+1]] += v
+		}
+	}
 }
 
 // search returns the position of c in the ascending slice row, which must
@@ -251,6 +340,9 @@ func element(s *Space, p *Problem, r rules, w *elementWork, k int, ke, fe []floa
 	if p.PiecewiseConstant() {
 		cx, cy := g.point([3]float64{1. / 3, 1. / 3, 1. / 3})
 		t = p.Diffusion(cx, cy, g.region)
+		if deg == 1 {
+			return elementP1(p, r, g, t, k, ke, fe)
+		}
 	}
 	for q := range r.stiff.Len() {
 		l := [3]float64{r.stiff.Bary[3*q], r.stiff.Bary[3*q+1], r.stiff.Bary[3*q+2]}
@@ -302,6 +394,42 @@ func element(s *Space, p *Problem, r rules, w *elementWork, k int, ke, fe []floa
 				fe[i] += wq * w.phi[i]
 			}
 		}
+	}
+	return nil
+}
+
+// elementP1 computes the P1 element matrix and load in closed form for a
+// constant tensor t: K_ij = |T| ∇λ_i·t∇λ_j + c|T|(1 + δ_ij)/12, and the load
+// by the load rule.
+func elementP1(p *Problem, r rules, g *geometry, t Tensor, k int, ke, fe []float64) error {
+	for i := range 3 {
+		fx, fy := t.Apply(g.gl[i][0], g.gl[i][1])
+		for j := i; j < 3; j++ {
+			v := g.area * (fx*g.gl[j][0] + fy*g.gl[j][1])
+			if p.C != 0 {
+				if i == j {
+					v += p.C * g.area / 6
+				} else {
+					v += p.C * g.area / 12
+				}
+			}
+			ke[3*i+j], ke[3*j+i] = v, v
+		}
+	}
+	if p.F == nil {
+		return nil
+	}
+	for q := range r.load.Len() {
+		l := [3]float64{r.load.Bary[3*q], r.load.Bary[3*q+1], r.load.Bary[3*q+2]}
+		x, y := g.point(l)
+		f := p.F(x, y)
+		if math.IsNaN(f) || math.IsInf(f, 0) {
+			return atTriangle(k, x, y, fmt.Errorf("%w: source f = %g", ErrNotFinite, f))
+		}
+		wq := f * r.load.W[q] * g.area
+		fe[0] += wq * l[0]
+		fe[1] += wq * l[1]
+		fe[2] += wq * l[2]
 	}
 	return nil
 }

@@ -97,8 +97,8 @@ func (p *Problem) Check(m *mesh.Mesh) error {
 	}
 	if p.AFunc == nil && p.A != nil {
 		seen := map[int32]bool{}
-		for _, r := range m.Region {
-			if seen[r] {
+		for i, r := range m.Region {
+			if (i > 0 && r == m.Region[i-1]) || seen[r] { // runs of one region are common: skip the map
 				continue
 			}
 			seen[r] = true
