@@ -128,7 +128,7 @@ func TestLoopStageErrors(t *testing.T) {
 	// The library's solver limited to 2 iterations fails at the first step
 	// with interior unknowns.
 	res, err = Run(context.Background(), Problem{Mesh: m, Degree: 1, Data: p}, Settings{MaxSteps: 10},
-		Method{Solver: FEMSolver{Settings: fem.SolveSettings{MaxIter: 2}}})
+		Method{Solver: FEMSolver{Settings: fem.SolveSettings{MaxIter: 2, Preconditioner: fem.Diagonal}}})
 	if !errors.As(err, &se) || se.Stage != StageSolve || !errors.Is(err, fem.ErrNotConverge) {
 		t.Fatalf("error %v, want a solve-stage ErrNotConverge", err)
 	}

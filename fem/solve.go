@@ -4,12 +4,30 @@ import (
 	"errors"
 	"fmt"
 
+	"github.com/posteriori-fem/posteriori/internal/amg"
 	"github.com/posteriori-fem/posteriori/internal/sparse"
+)
+
+// Preconditioner selects the preconditioner of the conjugate gradient
+// method.
+type Preconditioner int
+
+const (
+	// Multigrid is smoothed-aggregation algebraic multigrid (package
+	// internal/amg): iteration counts that do not grow with the mesh, on
+	// the graded meshes of adaptivity and across coefficient jumps. It is
+	// the default.
+	Multigrid Preconditioner = iota
+	// Diagonal is Jacobi (diagonal) scaling: no setup, but iteration counts
+	// that grow like the square root of the condition number.
+	Diagonal
 )
 
 // SolveSettings controls the linear solve. The zero value asks for the
 // defaults.
 type SolveSettings struct {
+	// Preconditioner is Multigrid (the zero value) or Diagonal.
+	Preconditioner Preconditioner
 	// Tol is the relative residual ‖B − A u‖₂ / ‖B‖₂ at which the solver
 	// stops; zero means 1e-10.
 	Tol float64
@@ -26,8 +44,8 @@ type SolveStats struct {
 	Residual   float64 // final relative residual ‖B − A u‖₂ / ‖B‖₂
 }
 
-// Solve solves the system by the conjugate gradient method preconditioned
-// with the diagonal of A (Jacobi). For a pure Neumann problem the solution
+// Solve solves the system by the preconditioned conjugate gradient method,
+// with algebraic multigrid by default (see Preconditioner). For a pure Neumann problem the solution
 // is shifted to zero mean value. It returns an error wrapping
 // ErrNotConverge, with the stats of the last iterate, when the tolerance is
 // not met within MaxIter iterations.
@@ -43,7 +61,16 @@ func (sys *System) Solve(s SolveSettings) (*Function, SolveStats, error) {
 	for _, d := range sys.Dirichlet {
 		x[d] = sys.B[d]
 	}
-	pre, err := sparse.NewJacobi(sys.A)
+	var pre sparse.Preconditioner
+	var err error
+	switch s.Preconditioner {
+	case Multigrid:
+		pre, err = amg.New(sys.A, amg.Settings{})
+	case Diagonal:
+		pre, err = sparse.NewJacobi(sys.A)
+	default:
+		err = fmt.Errorf("preconditioner %d: %w", s.Preconditioner, ErrArgument)
+	}
 	if err != nil {
 		return nil, SolveStats{}, fmt.Errorf("fem: Solve: %w", err)
 	}

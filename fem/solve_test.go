@@ -200,7 +200,7 @@ func TestSolveNotConverged(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	_, stats, err := sys.Solve(SolveSettings{MaxIter: 3})
+	_, stats, err := sys.Solve(SolveSettings{MaxIter: 3, Preconditioner: Diagonal})
 	if !errors.Is(err, ErrNotConverge) || stats.Iterations != 3 {
 		t.Fatalf("got %v after %d iterations", err, stats.Iterations)
 	}

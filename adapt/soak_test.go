@@ -1,0 +1,71 @@
+package adapt
+
+import (
+	"context"
+	"runtime"
+	"testing"
+
+	"github.com/posteriori-fem/posteriori/fem"
+	"github.com/posteriori-fem/posteriori/internal/problems"
+	"github.com/posteriori-fem/posteriori/mesh"
+)
+
+// meshBytes returns the memory held by the arrays of m.
+func meshBytes(m *mesh.Mesh) uint64 {
+	return uint64(8*len(m.X) + 4*(len(m.Tri)+len(m.Region)+len(m.Edge)+len(m.TriEdge)+len(m.EdgeTri)+len(m.EdgeTag)))
+}
+
+// soakHeapFactor bounds the live heap after each step, as a multiple of the
+// current mesh's arrays: the loop holds the mesh, the solution, the
+// indicators and the records, and must not keep earlier meshes alive. The
+// value is ours, set from the figures this test logs.
+const soakHeapFactor = 4 // observed: at most 2.75 after 1e5 triangles
+
+// observer is a Solver that remembers the mesh of the current step.
+type observer struct {
+	FEMSolver
+	cur **mesh.Mesh
+}
+
+func (o observer) Solve(s *fem.Space, p *fem.Problem, guess []float64) ([]float64, int, error) {
+	*o.cur = s.Mesh
+	return o.FEMSolver.Solve(s, p, guess)
+}
+
+// A long run: the L-shape loop to about 2e6 DOFs (40 steps or more),
+// checking after each step, with runtime.ReadMemStats after a GC, that the
+// live heap stays within soakHeapFactor times the current mesh's size.
+func TestSoak(t *testing.T) {
+	if testing.Short() {
+		t.Skip("soak test: run without -short")
+	}
+	_, p := problems.LShape()
+	m, _ := mesh.LShape(2)
+	var cur *mesh.Mesh
+	worst := 0.0
+	var ms runtime.MemStats
+	res, err := Run(context.Background(), Problem{Mesh: m, Degree: 1, Data: p},
+		Settings{MaxDOFs: 2000000, OnStep: func(s Step) error {
+			runtime.GC()
+			runtime.ReadMemStats(&ms)
+			ratio := float64(ms.HeapAlloc) / float64(meshBytes(cur))
+			if s.Triangles > 100000 { // small meshes are dwarfed by fixed costs
+				worst = max(worst, ratio)
+				if ratio > soakHeapFactor {
+					t.Errorf("step %d (%d triangles): live heap %d MB is %.1f times the mesh", s.Step, s.Triangles, ms.HeapAlloc>>20, ratio)
+				}
+			}
+			if s.Step%5 == 0 {
+				t.Logf("step %d: %d DOFs, %d iterations, live heap %d MB = %.2f × mesh", s.Step, s.DOFs, s.Iterations, ms.HeapAlloc>>20, ratio)
+			}
+			return nil
+		}}, Method{Solver: observer{FEMSolver{}, &cur}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	last := res.Steps[len(res.Steps)-1]
+	t.Logf("%d steps to %d DOFs; largest live heap / mesh after 1e5 triangles: %.2f", len(res.Steps), last.DOFs, worst)
+	if len(res.Steps) < 40 {
+		t.Errorf("%d steps, want at least 40", len(res.Steps))
+	}
+}

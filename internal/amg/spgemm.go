@@ -1,0 +1,262 @@
+package amg
+
+import (
+	"fmt"
+	"math"
+	"runtime"
+	"slices"
+	"sync"
+
+	"github.com/posteriori-fem/posteriori/internal/sparse"
+)
+
+// setupGrain is the least number of rows a goroutine of the setup phase
+// (products, prolongator rows) is given; smaller matrices are handled on
+// the calling goroutine.
+const setupGrain = 8192
+
+// chunks splits [0, n) into at most GOMAXPROCS consecutive ranges of at
+// least setupGrain indices (one range if n is small) and calls fn(c, lo, hi)
+// for range c on its own goroutine, then waits. It returns the number of
+// ranges. The ranges depend on GOMAXPROCS, so callers must make the result
+// of each index independent of the range it falls in; they then combine
+// the per-range results in range order.
+func chunks(n int, fn func(c, lo, hi int)) int {
+	nw := max(1, min(runtime.GOMAXPROCS(0), n/setupGrain))
+	if nw == 1 {
+		fn(0, 0, n)
+		return 1
+	}
+	size := (n + nw - 1) / nw
+	var wg sync.WaitGroup
+	for c := range nw {
+		lo, hi := c*size, min((c+1)*size, n)
+		wg.Go(func() { fn(c, lo, hi) })
+	}
+	wg.Wait()
+	return nw
+}
+
+// fill builds a rows × cols CSR whose row lengths are known: count(lo, hi,
+// rowLen) stores the lengths of rows lo..hi-1 in rowLen[lo:hi], and
+// put(lo, hi, m) writes the columns and values of those rows at
+// m.RowPtr[i]. Both run in parallel over row ranges; each row is computed
+// independently of the ranges, and written straight into the result, so
+// there is no copy and no over-allocation. fill fails if the number of
+// entries does not fit in an int32.
+func fill(rows, cols int, count func(lo, hi int, rowLen []int32), put func(lo, hi int, m *sparse.CSR)) (*sparse.CSR, error) {
+	m := &sparse.CSR{Rows: rows, Cols: cols, RowPtr: make([]int32, rows+1)}
+	chunks(rows, func(_, lo, hi int) { count(lo, hi, m.RowPtr[1:]) })
+	nnz := 0
+	for i := range rows {
+		nnz += int(m.RowPtr[i+1])
+		if nnz > math.MaxInt32 {
+			return nil, fmt.Errorf("amg: %w: matrix has more than %d entries", sparse.ErrDims, math.MaxInt32)
+		}
+		m.RowPtr[i+1] = int32(nnz)
+	}
+	m.Col = make([]int32, nnz)
+	m.Val = make([]float64, nnz)
+	chunks(rows, func(_, lo, hi int) { put(lo, hi, m) })
+	return m, nil
+}
+
+// mul returns the sparse product a·b (Gustavson's row-wise algorithm), in
+// two passes over the rows of a: a symbolic one that counts the distinct
+// columns of each row of the product, and a numeric one.
+//
+// Row i of the product is Σ_k a_ik (row k of b). It is accumulated in a
+// dense array indexed by column, with a marker array recording which
+// columns row i has touched (marker[j] == i), so that no array is cleared
+// between rows; the touched columns are then sorted and gathered. Every
+// entry is summed in the order of the terms (k ascending, then the entries
+// of row k of b ascending), on a single goroutine, so the result does not
+// depend on how rows are split over goroutines. The cost is twice the
+// number of multiplications, Σ_i Σ_{k in row i} nnz(row k of b), plus
+// sorting the output rows. Explicit zeros of the structure are kept.
+func mul(a, b *sparse.CSR) (*sparse.CSR, error) {
+	if a.Cols != b.Rows {
+		panic(fmt.Sprintf("amg: mul: %dx%d times %dx%d", a.Rows, a.Cols, b.Rows, b.Cols))
+	}
+	marker := func() []int32 {
+		mark := make([]int32, b.Cols)
+		for j := range mark {
+			mark[j] = -1
+		}
+		return mark
+	}
+	count := func(lo, hi int, rowLen []int32) {
+		mark := marker()
+		for i := lo; i < hi; i++ {
+			c := int32(0)
+			for ka := a.RowPtr[i]; ka < a.RowPtr[i+1]; ka++ {
+				k := a.Col[ka]
+				for _, j := range b.Col[b.RowPtr[k]:b.RowPtr[k+1]] {
+					if mark[j] != int32(i) {
+						mark[j] = int32(i)
+						c++
+					}
+				}
+			}
+			rowLen[i] = c
+		}
+	}
+	put := func(lo, hi int, m *sparse.CSR) {
+		mark := marker()
+		acc := make([]float64, b.Cols)
+		for i := lo; i < hi; i++ {
+			row := m.Col[m.RowPtr[i]:m.RowPtr[i+1]]
+			q := 0
+			for ka := a.RowPtr[i]; ka < a.RowPtr[i+1]; ka++ {
+				k, av := a.Col[ka], a.Val[ka]
+				bc := b.Col[b.RowPtr[k]:b.RowPtr[k+1]]
+				bv := b.Val[b.RowPtr[k]:b.RowPtr[k+1]]
+				bv = bv[:len(bc)]
+				for t, j := range bc {
+					if mark[j] != int32(i) {
+						mark[j] = int32(i)
+						row[q] = j
+						q++
+						acc[j] = av * bv[t]
+					} else {
+						acc[j] += av * bv[t]
+					}
+				}
+			}
+			sortShort(row)
+			vals := m.Val[m.RowPtr[i]:m.RowPtr[i+1]]
+			for t, j := range row {
+				vals[t] = acc[j]
+			}
+		}
+	}
+	return fill(a.Rows, b.Cols, count, put)
+}
+
+// sortShort sorts a short slice in place: insertion sort for the typical
+// row of a few dozen entries, the standard library's sort beyond.
+func sortShort(s []int32) {
+	if len(s) > 48 {
+		slices.Sort(s)
+		return
+	}
+	for j := 1; j < len(s); j++ {
+		v := s[j]
+		l := j
+		for ; l > 0 && s[l-1] > v; l-- {
+			s[l] = s[l-1]
+		}
+		s[l] = v
+	}
+}
+
+// transpose returns aᵀ. Entries are distributed by a counting sort over
+// the columns of a; since the rows of a are visited in ascending order, the
+// rows of the result are sorted. It is sequential and linear in
+// Rows + Cols + NNZ.
+func transpose(a *sparse.CSR) *sparse.CSR {
+	t := &sparse.CSR{Rows: a.Cols, Cols: a.Rows, RowPtr: make([]int32, a.Cols+1), Col: make([]int32, a.NNZ()), Val: make([]float64, a.NNZ())}
+	for _, j := range a.Col {
+		t.RowPtr[j+1]++
+	}
+	for j := range a.Cols {
+		t.RowPtr[j+1] += t.RowPtr[j]
+	}
+	next := slices.Clone(t.RowPtr[:a.Cols])
+	for i := range a.Rows {
+		for k := a.RowPtr[i]; k < a.RowPtr[i+1]; k++ {
+			j := a.Col[k]
+			q := next[j]
+			next[j]++
+			t.Col[q] = int32(i)
+			t.Val[q] = a.Val[k]
+		}
+	}
+	return t
+}
+
+// symmetrize returns (a + aᵀ)/2 for a square a whose asymmetry is only
+// rounding. Entry (i, j) and entry (j, i) of the result are computed as
+// (a_ij + a_ji)/2 and (a_ji + a_ij)/2, which are equal in floating point,
+// so the result is exactly symmetric. The pattern is the union of the
+// patterns of a and aᵀ.
+func symmetrize(a *sparse.CSR) *sparse.CSR {
+	t := transpose(a)
+	s := &sparse.CSR{Rows: a.Rows, Cols: a.Cols, RowPtr: make([]int32, a.Rows+1)}
+	s.Col = make([]int32, 0, a.NNZ())
+	s.Val = make([]float64, 0, a.NNZ())
+	for i := range a.Rows {
+		p, pe := a.RowPtr[i], a.RowPtr[i+1]
+		q, qe := t.RowPtr[i], t.RowPtr[i+1]
+		for p < pe || q < qe {
+			switch {
+			case q == qe || (p < pe && a.Col[p] < t.Col[q]):
+				s.Col = append(s.Col, a.Col[p])
+				s.Val = append(s.Val, a.Val[p]/2)
+				p++
+			case p == pe || t.Col[q] < a.Col[p]:
+				s.Col = append(s.Col, t.Col[q])
+				s.Val = append(s.Val, t.Val[q]/2)
+				q++
+			default:
+				s.Col = append(s.Col, a.Col[p])
+				s.Val = append(s.Val, (a.Val[p]+t.Val[q])/2)
+				p++
+				q++
+			}
+		}
+		s.RowPtr[i+1] = int32(len(s.Col))
+	}
+	return s
+}
+
+// symmetrizeInPlace replaces a by (a + aᵀ)/2 in place when the pattern of
+// the square matrix a is symmetric, and reports whether it was. Row i is
+// visited in ascending order; its entry (i, j), j > i, is matched with the
+// entry (j, i), which for a symmetric pattern is the next not yet matched
+// entry left of the diagonal in row j (next[j]), and both get the same
+// value (a_ij + a_ji)/2. If a mismatch is found the matrix is left partly
+// averaged, which symmetrize then completes correctly (the average of two
+// equal values is that value).
+func symmetrizeInPlace(a *sparse.CSR) bool {
+	next := slices.Clone(a.RowPtr[:a.Rows])
+	for i := range a.Rows {
+		for k := a.RowPtr[i]; k < a.RowPtr[i+1]; k++ {
+			j := a.Col[k]
+			if int(j) <= i {
+				continue
+			}
+			q := next[j]
+			if q >= a.RowPtr[j+1] || int(a.Col[q]) != i {
+				return false
+			}
+			v := (a.Val[k] + a.Val[q]) / 2
+			a.Val[k], a.Val[q] = v, v
+			next[j]++
+		}
+	}
+	for j := range a.Rows {
+		if q := next[j]; q < a.RowPtr[j+1] && int(a.Col[q]) < j {
+			return false // an entry (j, i), i < j, without (i, j)
+		}
+	}
+	return true
+}
+
+// galerkin returns the Galerkin coarse operator pᵀ·a·p, given r = pᵀ,
+// made exactly symmetric (see symmetrizeInPlace and symmetrize). It
+// computes a·p first, then r·(a·p), both with mul.
+func galerkin(a, p, r *sparse.CSR) (*sparse.CSR, error) {
+	ap, err := mul(a, p)
+	if err != nil {
+		return nil, err
+	}
+	c, err := mul(r, ap)
+	if err != nil {
+		return nil, err
+	}
+	if symmetrizeInPlace(c) {
+		return c, nil
+	}
+	return symmetrize(c), nil
+}
