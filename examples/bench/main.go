@@ -4,8 +4,10 @@
 // the same mesh, measured in the same run. SpMV is bound by memory
 // bandwidth, so the ratios say how close a stage is to the hardware limit.
 //
-// For each size (the number of P1 unknowns of a uniform L-shape mesh) it
-// times, as the best of several repetitions:
+// For each size n it takes the mesh that the adaptive loop makes for the
+// L-shape problem (P1, residual estimator, Dörfler θ = 0.5) with at most n
+// DOFs, graded towards the re-entrant corner, and times, as the best of
+// several repetitions:
 //
 //	spmv-p1       one product with the P1 stiffness matrix (the unit)
 //	assemble-p1   P1 assembly: sparsity pattern and values
@@ -26,6 +28,7 @@
 package main
 
 import (
+	"context"
 	"flag"
 	"fmt"
 	"io"
@@ -149,13 +152,19 @@ func spmvTime(a *fem.Matrix, reps int) float64 {
 }
 
 func measure(n, reps int) ([]Row, error) {
-	k := max(1, int(math.Round(math.Sqrt(float64(n)/3))))
-	m, err := mesh.LShape(k)
+	// The mesh the adaptive loop makes for the L-shape (P1, residual
+	// estimator, Dörfler θ = 0.5) with at most n DOFs: graded towards the
+	// corner, as in use.
+	m0, err := mesh.LShape(2)
 	if err != nil {
 		return nil, err
 	}
 	_, p := problems.LShape()
-	p.F = func(x, y float64) float64 { return 1 } // a source, so that the load is assembled too
+	res, err := adapt.Run(context.Background(), adapt.Problem{Mesh: m0, Degree: 1, Data: p}, adapt.Settings{MaxDOFs: n}, adapt.Method{})
+	if err != nil {
+		return nil, err
+	}
+	m := res.Mesh
 	s1, _ := fem.NewSpace(m, 1)
 	s2, _ := fem.NewSpace(m, 2)
 	size, nt := s1.NumDOF(), m.NumTriangles()
