@@ -24,8 +24,8 @@ func TestRunSmall(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	// A header, then nine stages per size.
-	if len(rows) != 1+2*9 || len(rows[0]) != 7 {
+	// A header, then eleven stages per size.
+	if len(rows) != 1+2*11 || len(rows[0]) != 7 {
 		t.Fatalf("%d rows of %d columns", len(rows), len(rows[0]))
 	}
 }
