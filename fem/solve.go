@@ -65,7 +65,15 @@ func (sys *System) Solve(s SolveSettings) (*Function, SolveStats, error) {
 	var err error
 	switch s.Preconditioner {
 	case Multigrid:
-		pre, err = amg.New(sys.A, amg.Settings{})
+		var st amg.Settings
+		if sys.Space.Degree == 2 {
+			// The vertex–vertex couplings of P2 on right isosceles triangles
+			// have strength about 0.083, just above the default threshold;
+			// 0.1 drops them and cut the iterations at 1e6 unknowns by 15–25%
+			// (internal/amg's tests: 17→13, 19→16, 19→15, 23→19).
+			st.Theta = 0.1
+		}
+		pre, err = amg.New(sys.A, st)
 	case Diagonal:
 		pre, err = sparse.NewJacobi(sys.A)
 	default:

@@ -111,22 +111,42 @@
 //     the same one serves both). Its steps are fused row-parallel
 //     products.
 //
-// Measured on the P1 Laplacian with 10⁶ unknowns on two cores (CG to
-// relative residual 1e-8, costs in units of one fine-matrix product with
-// MulVec, see BenchmarkSolve), symmetric Gauss–Seidel with one sweep is
-// the cheapest: it needs more iterations than the alternatives but each
-// V-cycle costs much less, because Gauss–Seidel, although sequential,
-// reduces the error far more per pass over the matrix than a polynomial
-// step.
+// Measured on the P1 Laplacian with 10⁶ unknowns on an otherwise idle
+// two-core machine (CG to relative residual 1e-8 from zero; costs in
+// units of one product with the fine matrix by the parallel MulVec, timed
+// in the same run; see BenchmarkSolve), symmetric Gauss–Seidel with one
+// sweep is the cheapest. It needs more iterations than the alternatives,
+// but each V-cycle costs less: Gauss–Seidel, although it runs on one
+// core, reduces the error far more per pass over the matrix than a
+// polynomial step, and the passes are limited by memory bandwidth more
+// than by the core count.
 //
 //	smoother          V-cycle   iterations   CG solve
-//	Gauss–Seidel ν=1    4.9         16          101
-//	Gauss–Seidel ν=2    8.2         13          126
-//	Chebyshev ν=2       8.0         17          157
-//	Chebyshev ν=3      11.1         14          180
+//	Gauss–Seidel ν=1    7.8         16          161
+//	Gauss–Seidel ν=2   13.4         13          208
+//	Chebyshev ν=2       8.6         17          185
+//	Chebyshev ν=3      10.7         14          187
 //
-// Setup costs about 60 products (P1) or 50 (P2) at 10⁶ unknowns, and
+// (With the second core busy with another process the ratios were 4.9,
+// 8.2, 8.0 and 11.1 for the V-cycle and 101, 126, 157 and 180 for the
+// solve: the same order.) A parallel variant of Gauss–Seidel was tried
+// too: ℓ1 block Gauss–Seidel (Baker, Falgout, Kolev and Yang 2011) with
+// fixed blocks of 32768 rows, so that results do not depend on
+// GOMAXPROCS. It cut the P1 V-cycle to 6.6 and the solve to 136, but the
+// DOF numbering of FEM spaces (P2 edge unknowns after all vertices,
+// vertices of refined meshes appended) couples many rows across blocks,
+// and it cost 2–5 more iterations on P2 and graded meshes (29 instead of
+// 24 for P2 at 10⁶ unknowns, solve about 200 instead of 170–185), so it was
+// dropped.
+//
+// Setup costs about 75 products (P1) or 60 (P2) at 10⁶ unknowns, and
 // everything in New and Apply is linear in the size of the matrix.
+//
+// The default θ = 0.08 is that of Vaněk, Mandel and Brezina. For P2
+// elements on meshes of right isosceles triangles (mesh.Rectangle and
+// its refinements) the positive vertex–vertex couplings have strength
+// about 0.083, just above it; θ = 0.1 leaves them weak and was measured
+// to save 15–25% of the CG iterations for P2 (and nothing for P1).
 //
 // # Determinism, allocation and concurrency
 //
@@ -157,4 +177,7 @@
 //     2003 (§9.2 preconditioned CG, §12.1 Chebyshev iteration, chapter 13
 //     multigrid).
 //   - W. Hackbusch, Multi-Grid Methods and Applications, Springer, 1985.
+//   - A. H. Baker, R. D. Falgout, T. V. Kolev and U. M. Yang, Multigrid
+//     smoothers for ultraparallel computing, SIAM J. Sci. Comput. 33
+//     (2011) 2864–2887.
 package amg

@@ -73,26 +73,24 @@ func gsBackward(a *sparse.CSR, diagPos []int32, invDiag, x, b []float64) {
 	}
 }
 
-// gsRow returns b_i − Σ_{j≠i} a_ij x_j. The lower and the upper part are
-// summed in column order into separate sums, subtracted in that order;
-// two independent sums shorten the chain of dependent additions that
-// limits the sequential sweep.
+// gsRow returns b_i − Σ_{j≠i} a_ij x_j, summing the lower part, then the
+// upper part, each in column order.
 func gsRow(a *sparse.CSR, diagPos []int32, i int, x []float64, bi float64) float64 {
 	lo, dp, hi := a.RowPtr[i], diagPos[i], a.RowPtr[i+1]
 	cs := a.Col[lo:dp]
 	vs := a.Val[lo:dp]
 	vs = vs[:len(cs)]
-	var sl, su float64
+	s := bi
 	for k, j := range cs {
-		sl += vs[k] * x[j]
+		s -= vs[k] * x[j]
 	}
 	cs = a.Col[dp+1 : hi]
 	vs = a.Val[dp+1 : hi]
 	vs = vs[:len(cs)]
 	for k, j := range cs {
-		su += vs[k] * x[j]
+		s -= vs[k] * x[j]
 	}
-	return (bi - sl) - su
+	return s
 }
 
 // The kernels below are the row-parallel steps of the V-cycle. Each row is
