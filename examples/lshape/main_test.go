@@ -1,68 +1,10 @@
 package main
 
 import (
-	"bytes"
-	"os"
-	"path/filepath"
-	"strconv"
-	"strings"
 	"testing"
 
 	"github.com/posteriori-fem/posteriori/internal/scenario"
 )
 
-func TestRunWritesOutputs(t *testing.T) {
-	t.Parallel()
-	for _, args := range [][]string{
-		{"-max-dofs", "400"},
-		{"-max-dofs", "400", "-p", "2", "-estimator", "patch"},
-		{"-max-dofs", "300", "-uniform", "-estimator", "average"},
-	} {
-		dir := filepath.Join(t.TempDir(), "out")
-		var out, errs bytes.Buffer
-		if code := run(append(args, "-out", dir), &out, &errs); code != 0 {
-			t.Fatalf("%v: exit %d: %s", args, code, errs.String())
-		}
-		steps, err := scenario.Verify(dir)
-		if err != nil {
-			t.Fatalf("%v: %v", args, err)
-		}
-		// One printed row per recorded step.
-		rows := 0
-		for _, line := range strings.Split(out.String(), "\n") {
-			if f := strings.Fields(line); len(f) == 8 && isInt(f[0]) {
-				rows++
-			}
-		}
-		if rows != steps || steps < 2 {
-			t.Errorf("%v: %d printed rows, %d recorded steps", args, rows, steps)
-		}
-	}
-}
-
-func TestBadFlags(t *testing.T) {
-	t.Parallel()
-	for _, args := range [][]string{
-		{"-p", "3"}, {"-estimator", "guess"}, {"-theta", "0"}, {"-theta", "1.5"}, {"-theta", "NaN"},
-		{"-max-dofs", "10"}, {"-tol", "-1"}, {"-bogus"}, {"extra"}, {"-out", " "},
-	} {
-		dir := filepath.Join(t.TempDir(), "out")
-		var out, errs bytes.Buffer
-		full := append(append([]string{}, args...), "-out", dir)
-		if args[0] == "-out" {
-			full = args
-		}
-		code := run(full, &out, &errs)
-		if code != 2 {
-			t.Errorf("%v: exit %d, want 2", args, code)
-		}
-		if lines := strings.Count(strings.TrimRight(errs.String(), "\n"), "\n"); lines != 0 || errs.Len() == 0 {
-			t.Errorf("%v: stderr %q, want one line", args, errs.String())
-		}
-		if _, err := os.Stat(dir); !os.IsNotExist(err) {
-			t.Errorf("%v: the output folder was created", args)
-		}
-	}
-}
-
-func isInt(s string) bool { _, err := strconv.Atoi(s); return err == nil }
+// Small runs write what Verify accepts; bad flags exit 2 and write nothing.
+func TestCommand(t *testing.T) { scenario.CheckCommand(t, run) }

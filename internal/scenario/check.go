@@ -1,0 +1,68 @@
+package scenario
+
+import (
+	"bytes"
+	"io"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+	"testing"
+)
+
+// Command is the signature of an example's run function.
+type Command func(args []string, stdout, stderr io.Writer) int
+
+// CheckCommand is the shared test of the examples built on Scenario: small
+// runs write files that Verify accepts, with one printed row per recorded
+// step, and bad flags exit with status 2, one line on stderr and nothing
+// written.
+func CheckCommand(t *testing.T, run Command) {
+	t.Helper()
+	for _, args := range [][]string{
+		{"-max-dofs", "400"},
+		{"-max-dofs", "400", "-p", "2", "-estimator", "patch"},
+		{"-max-dofs", "300", "-uniform", "-estimator", "average"},
+	} {
+		dir := filepath.Join(t.TempDir(), "out")
+		var out, errs bytes.Buffer
+		if code := run(append(args, "-out", dir), &out, &errs); code != 0 {
+			t.Fatalf("%v: exit %d: %s", args, code, errs.String())
+		}
+		steps, err := Verify(dir)
+		if err != nil {
+			t.Fatalf("%v: %v", args, err)
+		}
+		rows := 0
+		for _, line := range strings.Split(out.String(), "\n") {
+			if f := strings.Fields(line); len(f) == 8 {
+				if _, err := strconv.Atoi(f[0]); err == nil {
+					rows++
+				}
+			}
+		}
+		if rows != steps || steps < 2 {
+			t.Errorf("%v: %d printed rows, %d recorded steps", args, rows, steps)
+		}
+	}
+	for _, args := range [][]string{
+		{"-p", "3"}, {"-estimator", "guess"}, {"-theta", "0"}, {"-theta", "1.5"}, {"-theta", "NaN"},
+		{"-max-dofs", "10"}, {"-tol", "-1"}, {"-bogus"}, {"extra"}, {"-out", " "},
+	} {
+		dir := filepath.Join(t.TempDir(), "out")
+		full := append(append([]string{}, args...), "-out", dir)
+		if args[0] == "-out" {
+			full = args
+		}
+		var out, errs bytes.Buffer
+		if code := run(full, &out, &errs); code != 2 {
+			t.Errorf("%v: exit %d, want 2", args, code)
+		}
+		if lines := strings.Count(strings.TrimRight(errs.String(), "\n"), "\n"); lines != 0 || errs.Len() == 0 {
+			t.Errorf("%v: stderr %q, want one line", args, errs.String())
+		}
+		if _, err := os.Stat(dir); !os.IsNotExist(err) {
+			t.Errorf("%v: the output folder was created", args)
+		}
+	}
+}
