@@ -179,7 +179,15 @@ func (r Recovery) Estimate(dst *Indicators, u *fem.Function, p *fem.Problem) (*I
 			ev.Load(k)
 			var g [6][2]float64
 			nodeValues(ev, nb, m, rc, k, &g)
-			dst.Eta2[k] = recoveryNorm(ev, p, rule, &g)
+			if deg == 1 && p.PiecewiseConstant() {
+				dst.Eta2[k] = recoveryNormP1(ev, p, &g)
+			} else {
+				dst.Eta2[k] = recoveryNorm(ev, p, rule, &g)
+			}
+			if p.F == nil {
+				dst.Osc2[k] = 0
+				continue
+			}
 			for q := range orule.Len() {
 				x, y := ev.Point([3]float64{orule.Bary[3*q], orule.Bary[3*q+1], orule.Bary[3*q+2]})
 				fq[q] = p.Source(x, y)
@@ -228,12 +236,49 @@ func averagePatches(u *fem.Function, rc *recovered, vstart, vtri []int32) error 
 	m := u.Space.Mesh
 	ns := len(rc.region)
 	rc.coef = make([]float64, 2*ns)
+	if u.Space.Degree == 1 {
+		return averageP1(u, rc, vstart, vtri)
+	}
 	return parallel.For(m.NumVertices(), 1024, func(lo, hi int) error {
 		ev := fem.NewEvaluator(u)
 		for v := lo; v < hi; v++ {
 			for s := rc.start[v]; s < rc.start[v+1]; s++ {
 				gx, gy := sideAverage(ev, m, vtri[vstart[v]:vstart[v+1]], int32(v), rc.region[s])
 				rc.coef[2*s], rc.coef[2*s+1] = gx, gy
+			}
+		}
+		return nil
+	})
+}
+
+// averageP1 is averagePatches for P1, where the gradient is constant on
+// each triangle: one pass stores |T| and |T|∇u_h per triangle, one pass
+// sums them per vertex side (in patch order, so the sums do not depend on
+// GOMAXPROCS).
+func averageP1(u *fem.Function, rc *recovered, vstart, vtri []int32) error {
+	m := u.Space.Mesh
+	ag := make([]float64, 3*m.NumTriangles()) // |T|, |T| ∂x u_h, |T| ∂y u_h
+	_ = parallel.For(m.NumTriangles(), 2048, func(lo, hi int) error {
+		ev := fem.NewEvaluator(u)
+		for k := lo; k < hi; k++ {
+			ev.Load(k)
+			_, gx, gy := ev.Eval([3]float64{1. / 3, 1. / 3, 1. / 3})
+			a := ev.Area()
+			ag[3*k], ag[3*k+1], ag[3*k+2] = a, a*gx, a*gy
+		}
+		return nil
+	})
+	return parallel.For(m.NumVertices(), 2048, func(lo, hi int) error {
+		for v := lo; v < hi; v++ {
+			patch := vtri[vstart[v]:vstart[v+1]]
+			for s := rc.start[v]; s < rc.start[v+1]; s++ {
+				var a, gx, gy float64
+				for _, k := range patch {
+					if m.Region[k] == rc.region[s] {
+						a, gx, gy = a+ag[3*k], gx+ag[3*k+1], gy+ag[3*k+2]
+					}
+				}
+				rc.coef[2*s], rc.coef[2*s+1] = gx/a, gy/a
 			}
 		}
 		return nil
@@ -301,6 +346,25 @@ func nodeValues(ev, nb *fem.Evaluator, m *mesh.Mesh, rc *recovered, k int, g *[6
 		bx, by := rc.eval(vs[l], lx, ly, x, y)
 		g[3+i] = [2]float64{0.5 * (ax + bx), 0.5 * (ay + by)}
 	}
+}
+
+// recoveryNormP1 is recoveryNorm for P1 and a constant on the triangle, in
+// closed form: with d_i = G(v_i) − ∇u_h and ∫λ_iλ_j = |T|(1 + δ_ij)/12,
+//
+//	‖a^½ Σ λ_i d_i‖²_T = |T|/12 (Σ_i d_i·a d_i + (Σ_i d_i)·a(Σ_i d_i)).
+func recoveryNormP1(ev *fem.Evaluator, p *fem.Problem, g *[6][2]float64) float64 {
+	x, y := ev.Point([3]float64{1. / 3, 1. / 3, 1. / 3})
+	t := p.Diffusion(x, y, ev.Region())
+	_, gx, gy := ev.Eval([3]float64{1. / 3, 1. / 3, 1. / 3})
+	var sx, sy, sum float64
+	for i := range 3 {
+		dx, dy := g[i][0]-gx, g[i][1]-gy
+		ax, ay := t.Apply(dx, dy)
+		sum += dx*ax + dy*ay
+		sx, sy = sx+dx, sy+dy
+	}
+	ax, ay := t.Apply(sx, sy)
+	return ev.Area() / 12 * (sum + sx*ax + sy*ay)
 }
 
 // recoveryNorm returns ‖a^½ (G − ∇u_h)‖²_T on the loaded triangle, with G
