@@ -4,6 +4,7 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"math"
 	"time"
 
 	"github.com/posteriori-fem/posteriori/estimate"
@@ -35,6 +36,13 @@ type Settings struct {
 	// OnStep, if not nil, sees each step's record as the step ends. It must
 	// not keep or modify the Step; an error it returns stops the loop.
 	OnStep func(Step) error
+	// AlgebraicFraction, if positive, lets a TargetSolver stop each solve
+	// after the first once its estimate of the algebraic error in the
+	// energy norm is at most AlgebraicFraction times the previous step's
+	// estimate η (nested iteration: the discretization error, not the
+	// solver, then dominates). 0 means every solve runs to the solver's
+	// own tolerance. A value of 0.1 is a common choice.
+	AlgebraicFraction float64
 }
 
 // Method is how each step is done. Nil fields take the defaults:
@@ -56,13 +64,28 @@ type Solver interface {
 	Solve(s *fem.Space, p *fem.Problem, guess []float64) (u []float64, iterations int, err error)
 }
 
+// TargetSolver is a Solver that can also stop at an estimated algebraic
+// error: SolveTo returns once its estimate of ‖u − u_k‖ in the energy norm
+// is at most energyTol (or its own tolerance is met).
+type TargetSolver interface {
+	Solver
+	SolveTo(s *fem.Space, p *fem.Problem, guess []float64, energyTol float64) (u []float64, iterations int, err error)
+}
+
 // FEMSolver is the default Solver: fem.Assemble and System.Solve with the
 // given settings (X0 is replaced by the guess).
 type FEMSolver struct {
 	Settings fem.SolveSettings
 }
 
-var _ Solver = FEMSolver{}
+var _ TargetSolver = FEMSolver{}
+
+// SolveTo solves as Solve does, also stopping once the estimated energy
+// error is at most energyTol (fem.SolveSettings.EnergyTol).
+func (f FEMSolver) SolveTo(s *fem.Space, p *fem.Problem, guess []float64, energyTol float64) ([]float64, int, error) {
+	f.Settings.EnergyTol = energyTol
+	return f.Solve(s, p, guess)
+}
 
 // Solve assembles and solves p on s, starting from guess.
 func (f FEMSolver) Solve(s *fem.Space, p *fem.Problem, guess []float64) ([]float64, int, error) {
@@ -191,7 +214,13 @@ func Run(ctx context.Context, p Problem, s Settings, meth Method) (*Result, erro
 		if guess != nil {
 			g = guess.U
 		}
-		uv, iters, err := meth.Solver.Solve(sp, p.Data, g)
+		var uv []float64
+		var iters int
+		if ts, ok := meth.Solver.(TargetSolver); ok && s.AlgebraicFraction > 0 && step > 0 {
+			uv, iters, err = ts.SolveTo(sp, p.Data, g, s.AlgebraicFraction*res.Steps[step-1].Estimate)
+		} else {
+			uv, iters, err = meth.Solver.Solve(sp, p.Data, g)
+		}
 		rec.Iterations, rec.SolveTime = iters, time.Since(t)
 		if err != nil {
 			return fail(StageSolve, err)
@@ -301,6 +330,8 @@ func check(p Problem, s Settings) error {
 		return fmt.Errorf("%w: degree %d, want 1 or 2", ErrSettings, p.Degree)
 	case s.Tol < 0 || s.Tol != s.Tol:
 		return fmt.Errorf("%w: Tol = %g, want ≥ 0", ErrSettings, s.Tol)
+	case !(s.AlgebraicFraction >= 0) || math.IsInf(s.AlgebraicFraction, 0):
+		return fmt.Errorf("%w: AlgebraicFraction = %g, want a finite value ≥ 0", ErrSettings, s.AlgebraicFraction)
 	case s.MaxDOFs < 0 || s.MaxSteps < 0:
 		return fmt.Errorf("%w: MaxDOFs = %d, MaxSteps = %d, want ≥ 0", ErrSettings, s.MaxDOFs, s.MaxSteps)
 	case s.Tol == 0 && s.MaxDOFs == 0 && s.MaxSteps == 0:

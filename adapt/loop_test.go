@@ -3,6 +3,7 @@ package adapt
 import (
 	"context"
 	"errors"
+	"math"
 	"testing"
 
 	"github.com/posteriori-fem/posteriori/estimate"
@@ -176,3 +177,36 @@ func TestRunSettingsErrors(t *testing.T) {
 }
 
 func nan() float64 { var z float64; return z / z }
+
+// Nested iteration: with the solver stopped at a tenth of the previous
+// estimate (in its energy-norm error estimate), every multigrid solve after
+// the first needs at most 6 iterations, and the final error and estimate
+// are those of full solves to within 0.1%.
+func TestNestedIteration(t *testing.T) {
+	t.Parallel()
+	ex, p := problems.LShape()
+	var runs [2]*Result
+	for i, fr := range []float64{0, 0.1} {
+		m, _ := mesh.LShape(2)
+		res, err := Run(context.Background(), Problem{Mesh: m, Degree: 1, Data: p, Exact: &ex},
+			Settings{MaxDOFs: 50000, AlgebraicFraction: fr}, Method{})
+		if err != nil {
+			t.Fatal(err)
+		}
+		runs[i] = res
+	}
+	full, nested := runs[0].Steps, runs[1].Steps
+	var its []int
+	for _, s := range nested {
+		its = append(its, s.Iterations)
+		if s.Iterations > 6 {
+			t.Errorf("step %d: %d iterations", s.Step, s.Iterations)
+		}
+	}
+	t.Logf("iterations per step: %v (full solves to 1e-10: last %d)", its, full[len(full)-1].Iterations)
+	a, b := full[len(full)-1], nested[len(nested)-1]
+	if len(full) != len(nested) || math.Abs(a.Error-b.Error) > 1e-3*a.Error || math.Abs(a.Estimate-b.Estimate) > 1e-3*a.Estimate {
+		t.Errorf("full: %d steps, error %g, estimate %g; nested: %d steps, error %g, estimate %g",
+			len(full), a.Error, a.Estimate, len(nested), b.Error, b.Estimate)
+	}
+}

@@ -36,12 +36,19 @@ type SolveSettings struct {
 	// X0 is the initial guess (length NumDOF); nil means zero, with the
 	// Dirichlet values in place.
 	X0 []float64
+	// EnergyTol, if positive, also stops the solver once its estimate of the
+	// algebraic error in the energy norm, ‖u − u_k‖_A, is at most EnergyTol
+	// (a delayed Hestenes–Stiefel estimate, a lower bound; see
+	// internal/sparse). The adaptive loop sets it to a fraction of the
+	// discretization estimate.
+	EnergyTol float64
 }
 
 // SolveStats reports what the linear solver did.
 type SolveStats struct {
-	Iterations int     // preconditioned conjugate gradient iterations
-	Residual   float64 // final relative residual ‖B − A u‖₂ / ‖B‖₂
+	Iterations  int     // preconditioned conjugate gradient iterations
+	Residual    float64 // final relative residual ‖B − A u‖₂ / ‖B‖₂
+	EnergyError float64 // the solver's last estimate of the algebraic error in the energy norm (0 before 4 iterations)
 }
 
 // Solve solves the system by the preconditioned conjugate gradient method,
@@ -82,8 +89,8 @@ func (sys *System) Solve(s SolveSettings) (*Function, SolveStats, error) {
 	if err != nil {
 		return nil, SolveStats{}, fmt.Errorf("fem: Solve: %w", err)
 	}
-	res, err := sparse.CG(sys.A, sys.B, x, pre, sparse.CGSettings{Tol: s.Tol, MaxIter: s.MaxIter})
-	stats := SolveStats{Iterations: res.Iterations, Residual: res.Residual}
+	res, err := sparse.CG(sys.A, sys.B, x, pre, sparse.CGSettings{Tol: s.Tol, MaxIter: s.MaxIter, EnergyTol: s.EnergyTol})
+	stats := SolveStats{Iterations: res.Iterations, Residual: res.Residual, EnergyError: res.EnergyError}
 	if err != nil {
 		if errors.Is(err, sparse.ErrNotConverged) {
 			return nil, stats, fmt.Errorf("fem: Solve: %w after %d iterations (relative residual %.3g): %w", ErrNotConverge, res.Iterations, res.Residual, err)

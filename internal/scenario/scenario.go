@@ -188,7 +188,7 @@ func (sc *Scenario) loop(m *mesh.Mesh, o Options, uniform bool, onStep func(adap
 	ex := sc.Exact
 	res, err := adapt.Run(context.Background(),
 		adapt.Problem{Mesh: m, Degree: o.Degree, Data: sc.Data, Exact: &ex},
-		adapt.Settings{MaxDOFs: o.MaxDOFs, Tol: o.Tol, OnStep: onStep},
+		adapt.Settings{MaxDOFs: o.MaxDOFs, Tol: o.Tol, OnStep: onStep, AlgebraicFraction: 0.1},
 		adapt.Method{Estimator: Estimators[o.Estimator], Marker: marker})
 	if err != nil {
 		return run{}, err
