@@ -99,8 +99,9 @@ func (m *Mesh) Refine(marked []bool) (*Mesh, *Parents, error) {
 			EdgeTag: grow(m.EdgeTag, ne2)[:ne],
 			pieces:  m.pieces, // bisection keeps the connected pieces
 		},
-		mid:   mid,
-		other: make(map[int32]int32, len(split)),
+		mid: mid,
+		nv:  int32(nv),
+		ne:  int32(ne),
 	}
 	p := &Parents{Triangle: make([]int32, nt, nt2), Edge: split, OldVertices: nv}
 	for k := range nt {
@@ -115,7 +116,7 @@ func (m *Mesh) Refine(marked []bool) (*Mesh, *Parents, error) {
 		r.m.X[2*v+1] = 0.5 * (m.X[2*a+1] + m.X[2*b+1])
 		r.m.Edge[2*e], r.m.Edge[2*e+1] = a, v
 		r.m.EdgeTri[2*e], r.m.EdgeTri[2*e+1] = -1, -1
-		r.other[e] = r.newEdge(b, v, m.EdgeTag[e])
+		r.newEdge(b, v, m.EdgeTag[e]) // edge ne+i: the other half
 	}
 	for _, t := range touched {
 		r.bisect(t, p)
@@ -132,10 +133,10 @@ func grow[T any](s []T, n int) []T {
 
 // refiner holds the state of one call of Refine.
 type refiner struct {
-	old   *Mesh
-	m     *Mesh
-	mid   []int32         // midpoint of each bisected old edge
-	other map[int32]int32 // the appended half of each bisected old edge
+	old    *Mesh
+	m      *Mesh
+	mid    []int32 // midpoint of each bisected old edge: vertex nv+i for the i-th bisected edge
+	nv, ne int32   // vertices and edges of the old mesh
 }
 
 // newEdge appends the edge a–b with no triangles yet.
@@ -152,7 +153,7 @@ func (r *refiner) half(e, v int32) int32 {
 	if v == r.old.Edge[2*e] {
 		return e
 	}
-	return r.other[e]
+	return r.ne + r.mid[e] - r.nv // the i-th bisected edge's other half is edge ne+i
 }
 
 // attach records triangle t on side of edge e; old is the parent's index,
