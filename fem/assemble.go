@@ -6,9 +6,9 @@ import (
 	"runtime"
 	"sync"
 
+	"github.com/posteriori-fem/posteriori/internal/parallel"
 	"github.com/posteriori-fem/posteriori/internal/quadrature"
 	"github.com/posteriori-fem/posteriori/internal/sparse"
-	"github.com/posteriori-fem/posteriori/mesh"
 )
 
 // Matrix is the sparse matrix of an assembled system: compressed sparse
@@ -184,23 +184,27 @@ func patternP1(s *Space) (*Matrix, *p1Positions) {
 		col[fill[b]] = a
 		fill[b]++
 	}
-	for v := range n {
-		row := col[rowPtr[v]:rowPtr[v+1]]
-		for j := 1; j < len(row); j++ {
-			for l := j; l > 0 && row[l-1] > row[l]; l-- {
-				row[l-1], row[l] = row[l], row[l-1]
-			}
-		}
-	}
 	pos := &p1Positions{Diag: make([]int32, n), Edge: make([]int32, 2*ne)}
-	for v := range n {
-		pos.Diag[v] = rowPtr[v] + int32(search(col[rowPtr[v]:rowPtr[v+1]], int32(v)))
-	}
-	for e := range ne {
-		a, b := m.Edge[2*e], m.Edge[2*e+1]
-		pos.Edge[2*e] = rowPtr[a] + int32(search(col[rowPtr[a]:rowPtr[a+1]], b))
-		pos.Edge[2*e+1] = rowPtr[b] + int32(search(col[rowPtr[b]:rowPtr[b+1]], a))
-	}
+	_ = parallel.For(n, 4096, func(lo, hi int) error { // rows are independent
+		for v := lo; v < hi; v++ {
+			row := col[rowPtr[v]:rowPtr[v+1]]
+			for j := 1; j < len(row); j++ {
+				for l := j; l > 0 && row[l-1] > row[l]; l-- {
+					row[l-1], row[l] = row[l], row[l-1]
+				}
+			}
+			pos.Diag[v] = rowPtr[v] + int32(search(row, int32(v)))
+		}
+		return nil
+	})
+	_ = parallel.For(ne, 4096, func(lo, hi int) error {
+		for e := lo; e < hi; e++ {
+			a, b := m.Edge[2*e], m.Edge[2*e+1]
+			pos.Edge[2*e] = rowPtr[a] + int32(search(col[rowPtr[a]:rowPtr[a+1]], b))
+			pos.Edge[2*e+1] = rowPtr[b] + int32(search(col[rowPtr[b]:rowPtr[b+1]], a))
+		}
+		return nil
+	})
 	return &Matrix{Rows: n, Cols: n, RowPtr: rowPtr, Col: col, Val: make([]float64, len(col))}, pos
 }
 
@@ -213,6 +217,9 @@ func assembleElements(s *Space, p *Problem, a *Matrix, pos *p1Positions, b []flo
 	rules, err := elementRules(deg, p)
 	if err != nil {
 		return err
+	}
+	if pos != nil {
+		return gatherP1(s, p, rules, a, pos, b)
 	}
 	workers := max(1, min(runtime.GOMAXPROCS(0), (nt+block-1)/block))
 	ke := make([]float64, block*ld*ld)
@@ -250,10 +257,6 @@ func assembleElements(s *Space, p *Problem, a *Matrix, pos *p1Positions, b []flo
 				return err
 			}
 		}
-		if pos != nil {
-			scatterP1(s.Mesh, pos, a, b, ke, fe, k0, k1)
-			continue
-		}
 		for k := k0; k < k1; k++ {
 			off := k - k0
 			dofs = s.ElementDOFs(dofs, k)
@@ -271,25 +274,71 @@ func assembleElements(s *Space, p *Problem, a *Matrix, pos *p1Positions, b []flo
 	return nil
 }
 
-// scatterP1 adds the element matrices and loads of triangles k0..k1−1 to
-// a and b, in triangle order.
-func scatterP1(m *mesh.Mesh, pos *p1Positions, a *Matrix, b, ke, fe []float64, k0, k1 int) {
-	for k := k0; k < k1; k++ {
-		off := k - k0
-		kl := ke[9*off : 9*off+9]
-		t := m.Tri[3*k : 3*k+3]
-		for i, v := range t {
-			b[v] += fe[3*off+i]
-			a.Val[pos.Diag[v]] += kl[4*i]
+// gatherP1 assembles a P1 system in three parallel passes: the element
+// matrices and loads of all triangles (kept as 9 numbers per triangle: the
+// diagonal, the entry of the edge opposite each vertex, the load), then
+// each edge's entry as the sum over its one or two triangles, then each
+// vertex's diagonal and load as the sum over its triangles in ascending
+// order. Every sum has a fixed order, so the result does not depend on
+// GOMAXPROCS.
+func gatherP1(s *Space, p *Problem, r rules, a *Matrix, pos *p1Positions, b []float64) error {
+	m := s.Mesh
+	nt := m.NumTriangles()
+	el := make([]float64, 9*nt)
+	err := parallel.For(nt, 2048, func(lo, hi int) error {
+		w := newElementWork(3)
+		var ke [9]float64
+		var fe [3]float64
+		for k := lo; k < hi; k++ {
+			if err := element(s, p, r, w, k, ke[:], fe[:]); err != nil {
+				return err
+			}
+			e := el[9*k : 9*k+9]
+			for i := range 3 {
+				e[i] = ke[4*i]
+				e[3+i] = ke[3*((i+1)%3)+(i+2)%3]
+				e[6+i] = fe[i]
+			}
 		}
-		// The pair (i, j) is the edge opposite the third vertex l.
-		for l, e := range m.TriEdge[3*k : 3*k+3] {
-			i, j := (l+1)%3, (l+2)%3
-			v := kl[3*i+j]
-			a.Val[pos.Edge[2*e]] += v
-			a.Val[pos.Edge[2*e+1]] += v
-		}
+		return nil
+	})
+	if err != nil {
+		return err
 	}
+	_ = parallel.For(m.NumEdges(), 4096, func(lo, hi int) error {
+		for e := lo; e < hi; e++ {
+			v := 0.0
+			for _, t := range m.EdgeTri[2*e : 2*e+2] {
+				if t < 0 {
+					continue
+				}
+				for l := range 3 {
+					if int(m.TriEdge[3*t+int32(l)]) == e {
+						v += el[9*t+3+int32(l)]
+					}
+				}
+			}
+			a.Val[pos.Edge[2*e]], a.Val[pos.Edge[2*e+1]] = v, v
+		}
+		return nil
+	})
+	start, vt := m.VertexTriangles()
+	_ = parallel.For(m.NumVertices(), 4096, func(lo, hi int) error {
+		for v := lo; v < hi; v++ {
+			d, f := 0.0, 0.0
+			for _, t := range vt[start[v]:start[v+1]] {
+				for i := range int32(3) {
+					if m.Tri[3*t+i] == int32(v) {
+						d += el[9*t+i]
+						f += el[9*t+6+i]
+					}
+				}
+			}
+			a.Val[pos.Diag[v]], b[v] = d, f
+		}
+		return nil
+	})
+	return nil
 }
 
 // search returns the position of c in the ascending slice row, which must
