@@ -6,7 +6,6 @@ import (
 	"runtime"
 	"sync"
 
-	"github.com/posteriori-fem/posteriori/internal/parallel"
 	"github.com/posteriori-fem/posteriori/internal/quadrature"
 	"github.com/posteriori-fem/posteriori/internal/sparse"
 )
@@ -57,21 +56,28 @@ func Assemble(s *Space, p *Problem) (*System, error) {
 	if err := p.Check(s.Mesh); err != nil {
 		return nil, err
 	}
+	rules, err := elementRules(s.Degree, p)
+	if err != nil {
+		return nil, err
+	}
 	var a *Matrix
-	var pos *p1Positions
+	var b []float64
 	if s.Degree == 1 {
-		a, pos = patternP1(s)
+		if a, b, err = assembleP1(s, p, rules); err != nil {
+			return nil, err
+		}
 	} else {
 		a = pattern(s)
+		b = make([]float64, s.NumDOF())
+		if err := assembleElements(s, p, rules, a, b); err != nil {
+			return nil, err
+		}
 	}
-	b := make([]float64, s.NumDOF())
-	if err := assembleElements(s, p, a, pos, b); err != nil {
+	bnd := boundaryEdges(s.Mesh)
+	if err := assembleNeumann(s, p, bnd, b); err != nil {
 		return nil, err
 	}
-	if err := assembleNeumann(s, p, b); err != nil {
-		return nil, err
-	}
-	fixed, g, err := dirichletValues(s, p)
+	fixed, g, err := dirichletValues(s, p, bnd)
 	if err != nil {
 		return nil, err
 	}
@@ -148,79 +154,11 @@ func newElementWork(ld int) *elementWork {
 	return &elementWork{phi: make([]float64, ld), grad: make([][2]float64, ld)}
 }
 
-// p1Positions locates the entries of a P1 matrix: Diag[v] is the position
-// of (v, v) in Val, Edge[2e] and Edge[2e+1] those of (lo, hi) and (hi, lo)
-// for edge e = lo–hi.
-type p1Positions struct {
-	Diag, Edge []int32
-}
-
-// patternP1 returns the P1 matrix with zero values and the positions of its
-// entries. The pattern is that of the mesh's graph: the diagonal and one
-// pair of entries per edge; rows are sorted by insertion (short rows).
-func patternP1(s *Space) (*Matrix, *p1Positions) {
-	m := s.Mesh
-	n, ne := m.NumVertices(), m.NumEdges()
-	rowPtr := make([]int32, n+1)
-	for v := range n {
-		rowPtr[v+1] = 1
-	}
-	for _, v := range m.Edge {
-		rowPtr[v+1]++
-	}
-	for v := range n {
-		rowPtr[v+1] += rowPtr[v]
-	}
-	col := make([]int32, rowPtr[n])
-	fill := make([]int32, n)
-	for v := range n {
-		col[rowPtr[v]] = int32(v)
-		fill[v] = rowPtr[v] + 1
-	}
-	for e := range ne {
-		a, b := m.Edge[2*e], m.Edge[2*e+1]
-		col[fill[a]] = b
-		fill[a]++
-		col[fill[b]] = a
-		fill[b]++
-	}
-	pos := &p1Positions{Diag: make([]int32, n), Edge: make([]int32, 2*ne)}
-	_ = parallel.For(n, 4096, func(lo, hi int) error { // rows are independent
-		for v := lo; v < hi; v++ {
-			row := col[rowPtr[v]:rowPtr[v+1]]
-			for j := 1; j < len(row); j++ {
-				for l := j; l > 0 && row[l-1] > row[l]; l-- {
-					row[l-1], row[l] = row[l], row[l-1]
-				}
-			}
-			pos.Diag[v] = rowPtr[v] + int32(search(row, int32(v)))
-		}
-		return nil
-	})
-	_ = parallel.For(ne, 4096, func(lo, hi int) error {
-		for e := lo; e < hi; e++ {
-			a, b := m.Edge[2*e], m.Edge[2*e+1]
-			pos.Edge[2*e] = rowPtr[a] + int32(search(col[rowPtr[a]:rowPtr[a+1]], b))
-			pos.Edge[2*e+1] = rowPtr[b] + int32(search(col[rowPtr[b]:rowPtr[b+1]], a))
-		}
-		return nil
-	})
-	return &Matrix{Rows: n, Cols: n, RowPtr: rowPtr, Col: col, Val: make([]float64, len(col))}, pos
-}
-
 // assembleElements adds the element matrices and loads of every triangle to
-// a and b. For P1, pos gives the positions of the entries; otherwise they
-// are found by binary search in the rows.
-func assembleElements(s *Space, p *Problem, a *Matrix, pos *p1Positions, b []float64) error {
+// a and b (P2); the positions of the entries are found by binary search in
+// the rows.
+func assembleElements(s *Space, p *Problem, rules rules, a *Matrix, b []float64) error {
 	nt, ld := s.Mesh.NumTriangles(), s.LocalDOFs()
-	deg := s.Degree
-	rules, err := elementRules(deg, p)
-	if err != nil {
-		return err
-	}
-	if pos != nil {
-		return gatherP1(s, p, rules, a, pos, b)
-	}
 	workers := max(1, min(runtime.GOMAXPROCS(0), (nt+block-1)/block))
 	ke := make([]float64, block*ld*ld)
 	fe := make([]float64, block*ld)
@@ -271,73 +209,6 @@ func assembleElements(s *Space, p *Problem, a *Matrix, pos *p1Positions, b []flo
 			}
 		}
 	}
-	return nil
-}
-
-// gatherP1 assembles a P1 system in three parallel passes: the element
-// matrices and loads of all triangles (kept as 9 numbers per triangle: the
-// diagonal, the entry of the edge opposite each vertex, the load), then
-// each edge's entry as the sum over its one or two triangles, then each
-// vertex's diagonal and load as the sum over its triangles in ascending
-// order. Every sum has a fixed order, so the result does not depend on
-// GOMAXPROCS.
-func gatherP1(s *Space, p *Problem, r rules, a *Matrix, pos *p1Positions, b []float64) error {
-	m := s.Mesh
-	nt := m.NumTriangles()
-	el := make([]float64, 9*nt)
-	err := parallel.For(nt, 2048, func(lo, hi int) error {
-		w := newElementWork(3)
-		var ke [9]float64
-		var fe [3]float64
-		for k := lo; k < hi; k++ {
-			if err := element(s, p, r, w, k, ke[:], fe[:]); err != nil {
-				return err
-			}
-			e := el[9*k : 9*k+9]
-			for i := range 3 {
-				e[i] = ke[4*i]
-				e[3+i] = ke[3*((i+1)%3)+(i+2)%3]
-				e[6+i] = fe[i]
-			}
-		}
-		return nil
-	})
-	if err != nil {
-		return err
-	}
-	_ = parallel.For(m.NumEdges(), 4096, func(lo, hi int) error {
-		for e := lo; e < hi; e++ {
-			v := 0.0
-			for _, t := range m.EdgeTri[2*e : 2*e+2] {
-				if t < 0 {
-					continue
-				}
-				for l := range 3 {
-					if int(m.TriEdge[3*t+int32(l)]) == e {
-						v += el[9*t+3+int32(l)]
-					}
-				}
-			}
-			a.Val[pos.Edge[2*e]], a.Val[pos.Edge[2*e+1]] = v, v
-		}
-		return nil
-	})
-	start, vt := m.VertexTriangles()
-	_ = parallel.For(m.NumVertices(), 4096, func(lo, hi int) error {
-		for v := lo; v < hi; v++ {
-			d, f := 0.0, 0.0
-			for _, t := range vt[start[v]:start[v+1]] {
-				for i := range int32(3) {
-					if m.Tri[3*t+i] == int32(v) {
-						d += el[9*t+i]
-						f += el[9*t+6+i]
-					}
-				}
-			}
-			a.Val[pos.Diag[v]], b[v] = d, f
-		}
-		return nil
-	})
 	return nil
 }
 

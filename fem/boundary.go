@@ -5,6 +5,7 @@ import (
 	"math"
 
 	"github.com/posteriori-fem/posteriori/internal/quadrature"
+	"github.com/posteriori-fem/posteriori/mesh"
 )
 
 // edgeShape fills phi with the traces of the local basis functions on an
@@ -19,7 +20,7 @@ func edgeShape(degree int, t float64, phi []float64) []float64 {
 
 // assembleNeumann adds ∫_E g_N φ_i ds over the Neumann edges to b, with a
 // Gauss–Legendre rule of degree p + LoadExtraDegree.
-func assembleNeumann(s *Space, p *Problem, b []float64) error {
+func assembleNeumann(s *Space, p *Problem, bnd []int32, b []float64) error {
 	if len(p.Neumann) == 0 {
 		return nil
 	}
@@ -30,10 +31,8 @@ func assembleNeumann(s *Space, p *Problem, b []float64) error {
 	}
 	nv := int32(m.NumVertices())
 	phi := make([]float64, 0, 3)
-	for e := range m.NumEdges() {
-		if !m.IsBoundary(e) {
-			continue
-		}
+	for _, be := range bnd {
+		e := int(be)
 		gn, ok := p.Neumann[m.EdgeTag[e]]
 		if !ok || gn == nil {
 			continue
@@ -58,10 +57,21 @@ func assembleNeumann(s *Space, p *Problem, b []float64) error {
 	return nil
 }
 
+// boundaryEdges returns the boundary edges of m in ascending order.
+func boundaryEdges(m *mesh.Mesh) []int32 {
+	var out []int32
+	for e := range m.NumEdges() {
+		if m.EdgeTri[2*e+1] < 0 {
+			out = append(out, int32(e))
+		}
+	}
+	return out
+}
+
 // dirichletValues returns the Dirichlet mask and the values g_D at the
 // Dirichlet nodes, taking each node's value from the smallest tag it
 // touches.
-func dirichletValues(s *Space, p *Problem) (fixed []bool, g []float64, err error) {
+func dirichletValues(s *Space, p *Problem, bnd []int32) (fixed []bool, g []float64, err error) {
 	m := s.Mesh
 	n := s.NumDOF()
 	fixed = make([]bool, n)
@@ -85,13 +95,13 @@ func dirichletValues(s *Space, p *Problem) (fixed []bool, g []float64, err error
 	}
 	for _, tag := range p.DirichletTags() {
 		gd := p.Dirichlet[tag]
-		for e := range m.NumEdges() {
-			if !m.IsBoundary(e) || m.EdgeTag[e] != tag {
+		for _, e := range bnd {
+			if m.EdgeTag[e] != tag {
 				continue
 			}
-			ds := []int32{m.Edge[2*e], m.Edge[2*e+1]}
-			if s.Degree == 2 {
-				ds = append(ds, nv+int32(e))
+			ds := []int32{m.Edge[2*e], m.Edge[2*e+1], nv + e}
+			if s.Degree == 1 {
+				ds = ds[:2]
 			}
 			for _, d := range ds {
 				if err := set(tag, gd, d); err != nil {
@@ -105,28 +115,37 @@ func dirichletValues(s *Space, p *Problem) (fixed []bool, g []float64, err error
 
 // eliminate moves the Dirichlet values to the right-hand side and replaces
 // the rows and columns of the Dirichlet DOFs by those of the identity,
-// keeping A symmetric.
+// keeping A symmetric. The pattern is symmetric, so the column entries
+// (j, i) of a Dirichlet DOF i are found from its row; each free row j
+// subtracts a_ji g_i in ascending order of i, the order of its columns.
+// The cost is proportional to the Dirichlet rows.
 func (sys *System) eliminate(fixed []bool, g []float64) {
 	a, b := sys.A, sys.B
-	for i := range a.Rows {
-		lo, hi := a.RowPtr[i], a.RowPtr[i+1]
-		if fixed[i] {
+	for i, f := range fixed {
+		if f {
 			sys.Dirichlet = append(sys.Dirichlet, int32(i))
-			for q := lo; q < hi; q++ {
-				if int(a.Col[q]) == i {
-					a.Val[q] = 1
-				} else {
-					a.Val[q] = 0
-				}
-			}
-			b[i] = g[i]
-			continue
 		}
-		for q := lo; q < hi; q++ {
-			if j := a.Col[q]; fixed[j] {
-				b[i] -= a.Val[q] * g[j]
+	}
+	for _, i := range sys.Dirichlet {
+		for q := a.RowPtr[i]; q < a.RowPtr[i+1]; q++ {
+			j := a.Col[q]
+			if j == i || fixed[j] {
+				continue
+			}
+			row := a.Col[a.RowPtr[j]:a.RowPtr[j+1]]
+			qj := a.RowPtr[j] + int32(search(row, i))
+			b[j] -= a.Val[qj] * g[i]
+			a.Val[qj] = 0
+		}
+	}
+	for _, i := range sys.Dirichlet {
+		for q := a.RowPtr[i]; q < a.RowPtr[i+1]; q++ {
+			if a.Col[q] == i {
+				a.Val[q] = 1
+			} else {
 				a.Val[q] = 0
 			}
 		}
+		b[i] = g[i]
 	}
 }

@@ -1,0 +1,271 @@
+package fem
+
+import (
+	"fmt"
+	"math"
+	"runtime"
+	"sync"
+
+	"github.com/posteriori-fem/posteriori/internal/parallel"
+	"github.com/posteriori-fem/posteriori/mesh"
+)
+
+// P1 assembly works on the mesh's graph. The off-diagonal entry of edge
+// e = v–w is the sum of one contribution from each triangle of e, and the
+// diagonal follows from the row: for every element, Σ_j ∇λ_j = 0 gives
+// K_ii = −Σ_{j≠i} K_ij for the stiffness, and the P1 mass matrix has
+// M_ii = Σ_{j≠i} M_ij (c|T|/6 = 2 · c|T|/12). The load of vertex i in
+// triangle T is split in two halves, one on each of the two edges of T at
+// i, and b_i is summed over the edges of row i. Every value is therefore
+// written once by one triangle into its own slot and gathered in row
+// order: the three passes (pattern, triangles, rows) are parallel, need
+// no vertex-to-triangle lists, and give the same result whatever
+// GOMAXPROCS is.
+
+// patternP1 returns the P1 matrix of m with zero values, and for each
+// entry q its slot: −1 for the diagonal, 2e + d for edge e, where the
+// row's vertex is Edge[2e+d]. The rows are filled in edge order (each
+// goroutine scans all edges and fills the rows of the vertices it owns)
+// and sorted by insertion (short rows).
+func patternP1(m *mesh.Mesh) (*Matrix, []int32) {
+	n, ne := m.NumVertices(), m.NumEdges()
+	nw := max(1, min(runtime.GOMAXPROCS(0), n/(1<<15)))
+	bounds := func(w int) (int32, int32) { return int32(n * w / nw), int32(n * (w + 1) / nw) }
+	// Each goroutine w owns the vertices [lo, hi) and scans all edges.
+	rowPtr := make([]int32, n+1)
+	owners(nw, func(w int) {
+		lo, hi := bounds(w)
+		for _, v := range m.Edge {
+			if v >= lo && v < hi {
+				rowPtr[v+1]++
+			}
+		}
+	})
+	for v := range n {
+		rowPtr[v+1] += rowPtr[v] + 1 // the diagonal
+	}
+	nnz := int(rowPtr[n])
+	col := make([]int32, nnz)
+	slot := make([]int32, nnz)
+	fill := make([]int32, n)
+	owners(nw, func(w int) {
+		lo, hi := bounds(w)
+		for v := lo; v < hi; v++ {
+			q := rowPtr[v]
+			col[q], slot[q] = v, -1
+			fill[v] = q + 1
+		}
+		for e := range int32(ne) {
+			for d := range int32(2) {
+				v := m.Edge[2*e+d]
+				if v < lo || v >= hi {
+					continue
+				}
+				q := fill[v]
+				col[q], slot[q] = m.Edge[2*e+1-d], 2*e+d
+				fill[v] = q + 1
+			}
+		}
+		for v := lo; v < hi; v++ {
+			c, s := col[rowPtr[v]:rowPtr[v+1]], slot[rowPtr[v]:rowPtr[v+1]]
+			for j := 1; j < len(c); j++ {
+				cj, sj := c[j], s[j]
+				i := j
+				for ; i > 0 && c[i-1] > cj; i-- {
+					c[i], s[i] = c[i-1], s[i-1]
+				}
+				c[i], s[i] = cj, sj
+			}
+		}
+	})
+	return &Matrix{Rows: n, Cols: n, RowPtr: rowPtr, Col: col, Val: make([]float64, nnz)}, slot
+}
+
+// owners runs f(0), …, f(nw−1) on nw goroutines (on the calling one if
+// nw is 1) and waits.
+func owners(nw int, f func(w int)) {
+	if nw == 1 {
+		f(0)
+		return
+	}
+	var wg sync.WaitGroup
+	for w := range nw {
+		wg.Go(func() { f(w) })
+	}
+	wg.Wait()
+}
+
+// regionTable holds the constant diffusion of each region for
+// piecewise-constant data: a slice over the span of the region numbers of
+// Problem.A (Check has verified that every region of the mesh is there),
+// or one tensor when A is nil. Spans over 1<<16 fall back to the map.
+type regionTable struct {
+	p    *Problem
+	t    []Tensor
+	base int32
+	one  bool
+}
+
+func newRegionTable(p *Problem) regionTable {
+	if p.A == nil {
+		return regionTable{p: p, t: []Tensor{Scalar(1)}, one: true}
+	}
+	lo, hi := int32(math.MaxInt32), int32(math.MinInt32)
+	for r := range p.A {
+		lo, hi = min(lo, r), max(hi, r)
+	}
+	if int64(hi)-int64(lo) >= 1<<16 {
+		return regionTable{p: p}
+	}
+	t := make([]Tensor, int(hi)-int(lo)+1)
+	for r, v := range p.A {
+		t[r-lo] = v
+	}
+	return regionTable{p: p, t: t, base: lo}
+}
+
+// at returns the diffusion of region r.
+func (rt *regionTable) at(r int32) Tensor {
+	switch {
+	case rt.one:
+		return rt.t[0]
+	case rt.t != nil:
+		return rt.t[r-rt.base]
+	}
+	return rt.p.A[r]
+}
+
+// assembleP1 returns the P1 stiffness matrix (with the reaction term) and
+// the load vector of p, before boundary conditions.
+func assembleP1(s *Space, p *Problem, r rules) (*Matrix, []float64, error) {
+	m := s.Mesh
+	n, ne, nt := m.NumVertices(), m.NumEdges(), m.NumTriangles()
+	a, slot := patternP1(m)
+	// ek[2e+s]: stiffness of edge e from its triangle EdgeTri[2e+s];
+	// ea likewise the area (for the mass term), eb[2(2e+d)+s] the half load
+	// of vertex Edge[2e+d] from that triangle.
+	ek := make([]float64, 2*ne)
+	var ea, eb []float64
+	if p.C != 0 {
+		ea = make([]float64, 2*ne)
+	}
+	if p.F != nil {
+		eb = make([]float64, 4*ne)
+	}
+	rt := newRegionTable(p)
+	pc := p.PiecewiseConstant()
+	err := parallel.For(nt, 4096, func(lo, hi int) error {
+		var g geometry
+		for k := lo; k < hi; k++ {
+			s.geom(&g, k)
+			var t Tensor
+			if pc {
+				t = rt.at(g.region)
+			} else {
+				var err error
+				if t, err = meanTensor(p, r, &g, k); err != nil {
+					return err
+				}
+			}
+			var f [3]float64
+			if eb != nil {
+				var err error
+				if f, err = loadP1(p, r, &g, k); err != nil {
+					return err
+				}
+			}
+			for l := range 3 {
+				i, j := (l+1)%3, (l+2)%3
+				e := int(m.TriEdge[3*k+l])
+				side := 0
+				if int(m.EdgeTri[2*e]) != k {
+					side = 1
+				}
+				fx, fy := t.Apply(g.gl[i][0], g.gl[i][1])
+				ek[2*e+side] = g.area * (fx*g.gl[j][0] + fy*g.gl[j][1])
+				if ea != nil {
+					ea[2*e+side] = g.area
+				}
+				if eb != nil {
+					d := 0 // Edge[2e] is local vertex i or j
+					if m.Edge[2*e] != m.Tri[3*k+i] {
+						d = 1
+					}
+					eb[2*(2*e+d)+side] = 0.5 * f[i]
+					eb[2*(2*e+1-d)+side] = 0.5 * f[j]
+				}
+			}
+		}
+		return nil
+	})
+	if err != nil {
+		return nil, nil, err
+	}
+	b := make([]float64, n)
+	c := p.C / 12
+	_ = parallel.For(n, 4096, func(lo, hi int) error {
+		for v := lo; v < hi; v++ {
+			dq, diag, load := int32(-1), 0.0, 0.0
+			for q := a.RowPtr[v]; q < a.RowPtr[v+1]; q++ {
+				sl := slot[q]
+				if sl < 0 {
+					dq = q
+					continue
+				}
+				e := sl >> 1
+				k := ek[2*e] + ek[2*e+1]
+				val := k
+				diag -= k
+				if ea != nil {
+					mass := c * (ea[2*e] + ea[2*e+1])
+					val += mass
+					diag += mass
+				}
+				a.Val[q] = val
+				if eb != nil {
+					load += eb[2*sl] + eb[2*sl+1]
+				}
+			}
+			a.Val[dq], b[v] = diag, load
+		}
+		return nil
+	})
+	return a, b, nil
+}
+
+// meanTensor returns the stiffness rule's mean of the diffusion over
+// triangle k: for P1 the gradients are constant, so the element matrix
+// with the rule is that of this constant tensor.
+func meanTensor(p *Problem, r rules, g *geometry, k int) (Tensor, error) {
+	var t Tensor
+	for q := range r.stiff.Len() {
+		x, y := g.point([3]float64{r.stiff.Bary[3*q], r.stiff.Bary[3*q+1], r.stiff.Bary[3*q+2]})
+		tq := p.Diffusion(x, y, g.region)
+		if !tq.valid() {
+			return t, atTriangle(k, x, y, fmt.Errorf("%w: %+v", ErrDiffusion, tq))
+		}
+		w := r.stiff.W[q]
+		t.XX += w * tq.XX
+		t.XY += w * tq.XY
+		t.YY += w * tq.YY
+	}
+	return t, nil
+}
+
+// loadP1 returns ∫_T f λ_i by the load rule.
+func loadP1(p *Problem, r rules, g *geometry, k int) ([3]float64, error) {
+	var fe [3]float64
+	for q := range r.load.Len() {
+		l := [3]float64{r.load.Bary[3*q], r.load.Bary[3*q+1], r.load.Bary[3*q+2]}
+		x, y := g.point(l)
+		f := p.F(x, y)
+		if math.IsNaN(f) || math.IsInf(f, 0) {
+			return fe, atTriangle(k, x, y, fmt.Errorf("%w: source f = %g", ErrNotFinite, f))
+		}
+		wq := f * r.load.W[q] * g.area
+		fe[0] += wq * l[0]
+		fe[1] += wq * l[1]
+		fe[2] += wq * l[2]
+	}
+	return fe, nil
+}

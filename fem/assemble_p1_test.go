@@ -1,0 +1,123 @@
+package fem
+
+import (
+	"math"
+	"math/rand/v2"
+	"runtime"
+	"testing"
+
+	"github.com/posteriori-fem/posteriori/mesh"
+)
+
+// jittered returns m with its interior vertices moved at random by up to a
+// fifth of h, so that no two triangles are alike.
+func jittered(t *testing.T, m *mesh.Mesh, h float64, seed uint64) *mesh.Mesh {
+	t.Helper()
+	r := rand.New(rand.NewPCG(seed, 1))
+	x := append([]float64(nil), m.X...)
+	onBoundary := m.BoundaryVertices()
+	for v := range m.NumVertices() {
+		if !onBoundary[v] {
+			x[2*v] += 0.2 * h * (2*r.Float64() - 1)
+			x[2*v+1] += 0.2 * h * (2*r.Float64() - 1)
+		}
+	}
+	j := *m // same topology, moved vertices
+	j.X = x
+	return &j
+}
+
+// The P1 assembly by edges (the diagonal from the row sums, the loads
+// split over edges) gives the matrix and load of the element-by-element
+// assembly with the closed-form element matrices, to rounding.
+func TestP1AssemblyMatchesElements(t *testing.T) {
+	q, err := mesh.Quadrants(12)
+	if err != nil {
+		t.Fatal(err)
+	}
+	sl, err := mesh.Slit(8)
+	if err != nil {
+		t.Fatal(err)
+	}
+	sq, err := mesh.Rectangle(0, 0, 1, 1, 16, 16)
+	if err != nil {
+		t.Fatal(err)
+	}
+	f := func(x, y float64) float64 { return math.Sin(3*x) + y*y }
+	meshes := map[string]*mesh.Mesh{
+		"quadrants": jittered(t, q, 1.0/12, 1),
+		"slit":      sl,
+		"square":    jittered(t, sq, 1.0/16, 2),
+	}
+	problems := map[string]*Problem{
+		"laplace": {},
+		"regions": {A: map[int32]Tensor{1: Scalar(161), 2: {XX: 2, XY: 0.5, YY: 1}, 3: Scalar(1e-3), 4: Scalar(7)}, C: 2.5, F: f},
+		"afunc": {AFunc: func(x, y float64, _ int32) Tensor {
+			return Tensor{XX: 1 + x*x, XY: 0.1 * y, YY: 2 + math.Cos(y)}
+		}, F: f},
+		"reaction": {C: 1e3},
+	}
+	for mn, m := range meshes {
+		for pn, p := range problems {
+			if p.A != nil && mn != "quadrants" {
+				continue
+			}
+			s, _ := NewSpace(m, 1)
+			r, err := elementRules(1, p)
+			if err != nil {
+				t.Fatal(err)
+			}
+			ref := pattern(s)
+			refB := make([]float64, s.NumDOF())
+			if err := assembleElements(s, p, r, ref, refB); err != nil {
+				t.Fatal(err)
+			}
+			a, b, err := assembleP1(s, p, r)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if len(a.Col) != len(ref.Col) {
+				t.Fatalf("%s/%s: %d entries, want %d", mn, pn, len(a.Col), len(ref.Col))
+			}
+			bmax := 0.0
+			for _, v := range refB {
+				bmax = max(bmax, math.Abs(v))
+			}
+			for i := range a.Rows {
+				rmax := 0.0
+				for q := ref.RowPtr[i]; q < ref.RowPtr[i+1]; q++ {
+					rmax = max(rmax, math.Abs(ref.Val[q]))
+				}
+				for q := ref.RowPtr[i]; q < ref.RowPtr[i+1]; q++ {
+					if a.RowPtr[i] != ref.RowPtr[i] || a.Col[q] != ref.Col[q] {
+						t.Fatalf("%s/%s: row %d: pattern differs", mn, pn, i)
+					}
+					if d := math.Abs(a.Val[q] - ref.Val[q]); d > arithTol*rmax {
+						t.Fatalf("%s/%s: A[%d,%d] = %.17g, elementwise %.17g", mn, pn, i, a.Col[q], a.Val[q], ref.Val[q])
+					}
+				}
+				if d := math.Abs(b[i] - refB[i]); d > arithTol*bmax {
+					t.Fatalf("%s/%s: b[%d] = %.17g, elementwise %.17g", mn, pn, i, b[i], refB[i])
+				}
+			}
+		}
+	}
+}
+
+// The P1 passes split over goroutines (the pattern above 2·2^15 vertices)
+// give bit-identical systems whatever GOMAXPROCS is.
+func TestP1AssembleDeterministicLarge(t *testing.T) {
+	if testing.Short() {
+		t.Skip("large mesh")
+	}
+	m, err := mesh.Quadrants(150) // 90,601 vertices, 180,000 triangles
+	if err != nil {
+		t.Fatal(err)
+	}
+	p := &Problem{A: map[int32]Tensor{1: Scalar(161), 2: Scalar(1), 3: Scalar(161), 4: Scalar(1)}, C: 0.5,
+		F:         func(x, y float64) float64 { return math.Exp(x - y) },
+		Dirichlet: map[int32]Func{mesh.SideBottom: func(x, y float64) float64 { return x }}}
+	defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(0))
+	s, _ := NewSpace(m, 1)
+	assembleSame(t, s, p)
+}
