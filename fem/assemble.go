@@ -3,9 +3,9 @@ package fem
 import (
 	"fmt"
 	"math"
-	"runtime"
-	"sync"
+	"slices"
 
+	"github.com/posteriori-fem/posteriori/internal/parallel"
 	"github.com/posteriori-fem/posteriori/internal/quadrature"
 	"github.com/posteriori-fem/posteriori/internal/sparse"
 )
@@ -38,7 +38,7 @@ const LoadExtraDegree = 2
 
 // block is the number of triangles whose element matrices are computed in
 // parallel before being added, in triangle order, to the global matrix.
-const block = 8192
+const block = 16384
 
 // Assemble builds the linear system of p on s. The element loop is split
 // over GOMAXPROCS goroutines and the element contributions are summed in
@@ -97,50 +97,93 @@ func Assemble(s *Space, p *Problem) (*System, error) {
 }
 
 // pattern returns the matrix with the sparsity of s (all DOF pairs that
-// share a triangle) and zero values. Rows are filled by a counting pass over
-// the triangles and sorted by insertion, which is linear for meshes of
-// bounded vertex degree.
+// share a triangle) and zero values. The DOFs of the triangles around each
+// DOF (those of a vertex by the vertex-to-triangle lists, those of an edge
+// by its one or two triangles) are gathered and deduplicated with a stamp
+// per DOF and sorted by insertion, in parallel chunks of rows: linear for
+// meshes of bounded vertex degree.
 func pattern(s *Space) *Matrix {
-	n, nt, ld := s.NumDOF(), s.Mesh.NumTriangles(), s.LocalDOFs()
-	count := make([]int32, n+1)
-	dofs := make([]int32, 0, 6)
-	for k := range nt {
-		dofs = s.ElementDOFs(dofs, k)
-		for _, d := range dofs {
-			count[d+1] += int32(ld)
+	m := s.Mesh
+	n, nv := s.NumDOF(), int32(m.NumVertices())
+	start, vt := m.VertexTriangles()
+	p2 := s.Degree == 2
+	// fill writes the distinct DOFs that share a triangle with DOF d to
+	// dst and returns their number; stamp[c] == d+1 marks those seen.
+	fill := func(stamp []int32, d int32, dst []int32) int32 {
+		var tris []int32
+		if d < nv {
+			tris = vt[start[d]:start[d+1]]
+		} else {
+			e := d - nv
+			tris = m.EdgeTri[2*e : 2*e+2]
 		}
-	}
-	for i := range n {
-		count[i+1] += count[i]
-	}
-	cols := make([]int32, count[n])
-	fill := append([]int32(nil), count[:n]...)
-	for k := range nt {
-		dofs = s.ElementDOFs(dofs, k)
-		for _, d := range dofs {
-			copy(cols[fill[d]:], dofs)
-			fill[d] += int32(ld)
+		c := int32(0)
+		for _, t := range tris {
+			if t < 0 {
+				continue
+			}
+			for i := range int32(3) {
+				u, e := m.Tri[3*t+i], nv+m.TriEdge[3*t+i]
+				if stamp[u] != d+1 {
+					stamp[u] = d + 1
+					dst[c] = u
+					c++
+				}
+				if p2 && stamp[e] != d+1 {
+					stamp[e] = d + 1
+					dst[c] = e
+					c++
+				}
+			}
 		}
+		return c
 	}
+	// Each chunk of rows is gathered into its own buffer (a row of d has
+	// at most 6 DOFs per triangle of d), then the buffers are copied into
+	// place.
+	const chunk = 1 << 14
+	nc := (n + chunk - 1) / chunk
+	bufs := make([][]int32, nc)
 	rowPtr := make([]int32, n+1)
-	out := int32(0)
-	for i := range n {
-		row := cols[count[i]:count[i+1]]
-		for j := 1; j < len(row); j++ {
-			for l := j; l > 0 && row[l-1] > row[l]; l-- {
-				row[l-1], row[l] = row[l], row[l-1]
+	_ = parallel.For(nc, 1, func(lo, hi int) error {
+		stamp := make([]int32, n)
+		for c := lo; c < hi; c++ {
+			buf := make([]int32, 0, 20*chunk)
+			for d := c * chunk; d < min((c+1)*chunk, n); d++ {
+				bound := 12 // an edge has two triangles at most
+				if d < int(nv) {
+					bound = 6 * int(start[d+1]-start[d])
+				}
+				at := len(buf)
+				buf = slices.Grow(buf, bound)[:at+bound]
+				k := int(fill(stamp, int32(d), buf[at:]))
+				buf = buf[:at+k]
+				r := buf[at:]
+				for j := 1; j < len(r); j++ {
+					cj := r[j]
+					i := j
+					for ; i > 0 && r[i-1] > cj; i-- {
+						r[i] = r[i-1]
+					}
+					r[i] = cj
+				}
+				rowPtr[d+1] = int32(k)
 			}
+			bufs[c] = buf
 		}
-		for j, c := range row {
-			if j == 0 || c != row[j-1] {
-				cols[out] = c
-				out++
-			}
-		}
-		rowPtr[i+1] = out
+		return nil
+	})
+	for d := range n {
+		rowPtr[d+1] += rowPtr[d]
 	}
-	cols = append([]int32(nil), cols[:out]...)
-	return &Matrix{Rows: n, Cols: n, RowPtr: rowPtr, Col: cols, Val: make([]float64, out)}
+	cols := make([]int32, rowPtr[n])
+	_ = parallel.For(nc, 1, func(lo, hi int) error {
+		for c := lo; c < hi; c++ {
+			copy(cols[rowPtr[c*chunk]:], bufs[c])
+		}
+		return nil
+	})
+	return &Matrix{Rows: n, Cols: n, RowPtr: rowPtr, Col: cols, Val: make([]float64, rowPtr[n])}
 }
 
 // elementWork holds one goroutine's buffers for element computations.
@@ -159,55 +202,50 @@ func newElementWork(ld int) *elementWork {
 // the rows.
 func assembleElements(s *Space, p *Problem, rules rules, a *Matrix, b []float64) error {
 	nt, ld := s.Mesh.NumTriangles(), s.LocalDOFs()
-	workers := max(1, min(runtime.GOMAXPROCS(0), (nt+block-1)/block))
 	ke := make([]float64, block*ld*ld)
 	fe := make([]float64, block*ld)
-	work := make([]*elementWork, workers)
-	for w := range work {
-		work[w] = newElementWork(ld)
-	}
-	errs := make([]error, workers)
-	dofs := make([]int32, 0, 6)
+	pos := make([]int32, block*ld*ld) // of entry (i, j) of each element matrix in a.Val
+	dofs := make([]int32, block*ld)
 	for k0 := 0; k0 < nt; k0 += block {
 		k1 := min(k0+block, nt)
-		var wg sync.WaitGroup
-		chunk := (k1 - k0 + workers - 1) / workers
-		for w := range workers {
-			lo, hi := k0+w*chunk, min(k0+(w+1)*chunk, k1)
-			if lo >= hi {
-				continue
-			}
-			wg.Add(1)
-			go func() {
-				defer wg.Done()
-				for k := lo; k < hi; k++ {
-					off := k - k0
-					if err := element(s, p, rules, work[w], k, ke[off*ld*ld:(off+1)*ld*ld], fe[off*ld:(off+1)*ld]); err != nil {
-						errs[w] = err
-						return
+		err := parallel.For(k1-k0, 512, func(lo, hi int) error {
+			w := newElementWork(ld)
+			for off := lo; off < hi; off++ {
+				k := k0 + off
+				if err := element(s, p, rules, w, k, ke[off*ld*ld:(off+1)*ld*ld], fe[off*ld:(off+1)*ld]); err != nil {
+					return err
+				}
+				d := s.ElementDOFs(dofs[off*ld:off*ld:(off+1)*ld], k)
+				for i, di := range d {
+					row := a.Col[a.RowPtr[di]:a.RowPtr[di+1]]
+					for j, dj := range d {
+						pos[(off*ld+i)*ld+j] = a.RowPtr[di] + int32(search(row, dj))
 					}
 				}
-			}()
-		}
-		wg.Wait()
-		for _, err := range errs { // the first worker's error is the lowest triangle's
-			if err != nil {
-				return err
 			}
+			return nil
+		})
+		if err != nil {
+			return err
 		}
-		for k := k0; k < k1; k++ {
-			off := k - k0
-			dofs = s.ElementDOFs(dofs, k)
-			kl := ke[off*ld*ld : (off+1)*ld*ld]
-			for i, di := range dofs {
-				b[di] += fe[off*ld+i]
-				row := a.Col[a.RowPtr[di]:a.RowPtr[di+1]]
-				base := int(a.RowPtr[di])
-				for j, dj := range dofs {
-					a.Val[base+search(row, dj)] += kl[i*ld+j]
+		// Each goroutine adds the entries of the rows it owns, in triangle
+		// order, so every sum has the order of the serial loop.
+		_ = parallel.For(a.Rows, 1<<14, func(lo, hi int) error {
+			l, h := int32(lo), int32(hi)
+			for off := range k1 - k0 {
+				for i, di := range dofs[off*ld : (off+1)*ld] {
+					if di < l || di >= h {
+						continue
+					}
+					b[di] += fe[off*ld+i]
+					r := (off*ld + i) * ld
+					for j, q := range pos[r : r+ld] {
+						a.Val[q] += ke[r+j]
+					}
 				}
 			}
-		}
+			return nil
+		})
 	}
 	return nil
 }
