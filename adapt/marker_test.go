@@ -36,22 +36,20 @@ func maskOf(n int, idx []int) []bool {
 	return m
 }
 
-// refBound is θ·Σ η_T² as Dorfler defines it (float64 total in index
-// order, scaled by 2⁻¹²⁸ on overflow), as an exact big.Float.
+// refBound is θ·Σ η_T² as Dorfler defines it (the exact total rounded to
+// float64, scaled by 2⁻¹²⁸ on overflow), as an exact big.Float.
 func refBound(eta2 []float64, theta float64) (*big.Float, bool) {
-	total := 0.0
+	sum := exact()
 	for _, v := range eta2 {
-		total += v
+		sum.Add(sum, new(big.Float).SetFloat64(v))
 	}
+	total, _ := sum.Float64()
 	if total == 0 {
 		return nil, false
 	}
 	b := new(big.Float)
 	if math.IsInf(total, 1) {
-		total = 0
-		for _, v := range eta2 {
-			total += v * 0x1p-128
-		}
+		total, _ = new(big.Float).SetMantExp(sum, -128).Float64()
 		b.SetFloat64(theta * total)
 		return b.SetMantExp(b, 128), true
 	}
@@ -141,12 +139,15 @@ func TestDorflerReference(t *testing.T) {
 			for _, n := range sizes(r) {
 				eta2 := d.draw(r, n)
 				for _, theta := range thetas {
-					got, err := Dorfler{Theta: theta}.Mark(nil, eta2)
-					if err != nil {
-						t.Fatalf("n=%d θ=%g: %v", n, theta, err)
-					}
-					if want := refDorfler(eta2, theta); !slices.Equal(got, want) {
-						t.Errorf("n=%d θ=%g: marks %d triangles, the reference %d", n, theta, count(got), count(want))
+					want := refDorfler(eta2, theta)
+					for _, buckets := range []bool{false, true} { // both paths, whatever n
+						got, err := Dorfler{Theta: theta}.mark(nil, eta2, buckets)
+						if err != nil {
+							t.Fatalf("n=%d θ=%g buckets=%v: %v", n, theta, buckets, err)
+						}
+						if !slices.Equal(got, want) {
+							t.Errorf("n=%d θ=%g buckets=%v: marks %d triangles, the reference %d", n, theta, buckets, count(got), count(want))
+						}
 					}
 				}
 			}
@@ -526,6 +527,45 @@ func TestExactSum(t *testing.T) {
 		w, acc := want.SetMantExp(want, 1074).Int(nil)
 		if acc != big.Exact || got.Cmp(w) != 0 {
 			t.Errorf("shift %d: exact sum %v, want %v (%v)", shift, got, w, acc)
+		}
+	}
+}
+
+// TestDorflerLarge runs the bucket passes on several goroutines (above
+// 2·2¹⁶ indicators): the marks equal the sort-and-prefix reference
+// whatever GOMAXPROCS is, and a bad value is reported at its lowest index.
+// It is not parallel: it sets GOMAXPROCS.
+func TestDorflerLarge(t *testing.T) {
+	if testing.Short() {
+		t.Skip("big-float reference on 200,003 indicators")
+	}
+	defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(0))
+	r := rand.New(rand.NewPCG(7, 7))
+	const n = 200003
+	for _, d := range []dist{dists[1], dists[2], dists[3], dists[9], dists[10]} {
+		eta2 := d.draw(r, n)
+		for _, theta := range []float64{0.5, 0.99} {
+			want := refDorfler(eta2, theta)
+			for _, procs := range []int{1, 2, 3} {
+				runtime.GOMAXPROCS(procs)
+				got, err := Dorfler{Theta: theta}.Mark(nil, eta2)
+				if err != nil {
+					t.Fatal(err)
+				}
+				if !slices.Equal(got, want) {
+					t.Errorf("%s θ=%g GOMAXPROCS=%d: marks %d triangles, the reference %d", d.name, theta, procs, count(got), count(want))
+				}
+			}
+		}
+	}
+	eta2 := dists[0].draw(r, n)
+	eta2[150000], eta2[190000], eta2[199999] = math.NaN(), -1, math.Inf(1)
+	for _, procs := range []int{1, 2, 3} {
+		runtime.GOMAXPROCS(procs)
+		_, err := Dorfler{Theta: 0.5}.Mark(nil, eta2)
+		var ie *IndicatorError
+		if !errors.As(err, &ie) || ie.Triangle != 150000 {
+			t.Errorf("GOMAXPROCS=%d: %v, want ErrIndicator at 150000", procs, err)
 		}
 	}
 }
