@@ -5,6 +5,7 @@ import (
 	"encoding/csv"
 	"os"
 	"path/filepath"
+	"strconv"
 	"testing"
 )
 
@@ -24,9 +25,29 @@ func TestRunSmall(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	// A header, then eleven stages per size.
-	if len(rows) != 1+2*11 || len(rows[0]) != 7 {
-		t.Fatalf("%d rows of %d columns", len(rows), len(rows[0]))
+	// A header, then every stage for each size.
+	stages := []string{"spmv-p1", "loop", "last-step", "spmv-p2", "peak-go", "assemble-p1", "assemble-p2", "solve-p1",
+		"residual-p1", "average-p1", "dorfler", "refine", "loop-p2"}
+	if len(rows[0]) != 9 {
+		t.Fatalf("%d columns", len(rows[0]))
+	}
+	seen := map[string]int{}
+	for _, r := range rows[1:] {
+		seen[r[0]]++
+		if r[0] == "peak-go" || r[0] == "peak-rss" {
+			if v, err := strconv.ParseFloat(r[8], 64); err != nil || v < 10 || v > 1e5 {
+				t.Errorf("%v: want a plausible byte count per triangle", r)
+			}
+			continue
+		}
+		if v, err := strconv.ParseFloat(r[6], 64); err != nil || !(v > 0) {
+			t.Errorf("%v: want a positive SpMV ratio", r)
+		}
+	}
+	for _, st := range stages {
+		if seen[st] != 2 {
+			t.Errorf("stage %s: %d rows, want 2", st, seen[st])
+		}
 	}
 }
 
