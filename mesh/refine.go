@@ -3,7 +3,6 @@ package mesh
 import (
 	"fmt"
 	"math"
-	"slices"
 )
 
 // Refine bisects every marked triangle through its refinement edge, at
@@ -37,12 +36,12 @@ func (m *Mesh) Refine(marked []bool) (*Mesh, *Parents, error) {
 	for i := range mid {
 		mid[i] = -1
 	}
-	var split []int32 // the bisected edges
+	nsplit := 0
 	var stack []int32
 	markEdge := func(e int32) {
 		if mid[e] < 0 {
 			mid[e] = 0
-			split = append(split, e)
+			nsplit++
 			stack = append(stack, e)
 		}
 	}
@@ -60,18 +59,32 @@ func (m *Mesh) Refine(marked []bool) (*Mesh, *Parents, error) {
 			}
 		}
 	}
-	slices.Sort(split)
-	// Count the children to size the arrays.
-	extraTri, extraEdge := 0, len(split)
-	var touched []int32
+	// The bisected edges in ascending order, and the triangles whose
+	// refinement edge is bisected (each has one): scans, not sorts.
+	split := make([]int32, 0, nsplit)
+	for e, v := range mid {
+		if v == 0 {
+			split = append(split, int32(e))
+		}
+	}
+	isTouched := make([]bool, nt)
+	ntouched := 0
 	for _, e := range split {
 		for _, t := range m.EdgeTri[2*e : 2*e+2] {
 			if t >= 0 && m.TriEdge[3*t] == e {
-				touched = append(touched, t)
+				isTouched[t] = true
+				ntouched++
 			}
 		}
 	}
-	slices.Sort(touched)
+	touched := make([]int32, 0, ntouched)
+	for t, ok := range isTouched {
+		if ok {
+			touched = append(touched, int32(t))
+		}
+	}
+	// Count the children to size the arrays.
+	extraTri, extraEdge := 0, len(split)
 	for _, t := range touched {
 		c := 1
 		if mid[m.TriEdge[3*t+1]] >= 0 {
@@ -124,11 +137,10 @@ func (m *Mesh) Refine(marked []bool) (*Mesh, *Parents, error) {
 	return r.m, p, nil
 }
 
-// grow returns a copy of s with length n (n ≥ len(s)).
+// grow returns a copy of s with length n (n ≥ len(s)), the new entries
+// zero. (The append form copies s without zeroing that part first.)
 func grow[T any](s []T, n int) []T {
-	c := make([]T, n)
-	copy(c, s)
-	return c
+	return append(s[:len(s):len(s)], make([]T, n-len(s))...)
 }
 
 // refiner holds the state of one call of Refine.
