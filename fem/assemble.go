@@ -40,10 +40,18 @@ const LoadExtraDegree = 2
 // parallel before being added, in triangle order, to the global matrix.
 const block = 16384
 
-// Assemble builds the linear system of p on s. The element loop is split
-// over GOMAXPROCS goroutines and the element contributions are summed in
-// triangle order, so the result is bit-identical whatever GOMAXPROCS is.
-// Assemble is linear in the number of triangles.
+// Assemble builds the linear system of p on s. Every pass is split over
+// GOMAXPROCS goroutines and every entry is summed in an order that does not
+// depend on the split, so the result is bit-identical whatever GOMAXPROCS
+// is. For P1 the matrix is built on the mesh's graph: each triangle writes
+// the entry of each of its edges into a slot of its own, the off-diagonal
+// entry of an edge is the sum of its one or two slots, and the diagonal is
+// minus the sum of the row's off-diagonal stiffness entries (Σ_j ∇λ_j = 0
+// on every triangle) plus the sum of its mass entries (the P1 mass matrix
+// has M_ii = Σ_{j≠i} M_ij); the load of a vertex in a triangle is split in
+// halves over the triangle's two edges at the vertex and summed over the
+// row. For P2 the element matrices are summed in triangle order. Assemble
+// is linear in the number of triangles.
 //
 // It returns an error wrapping ErrNotFinite, with the triangle and point,
 // when the source, the diffusion or the boundary data evaluate to NaN or

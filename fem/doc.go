@@ -52,7 +52,7 @@
 // contrast of 161 (internal/amg's tests). A solve that does not reach its
 // tolerance returns ErrNotConverge rather than an inaccurate solution.
 //
-// Assembly and error integration split the triangles over GOMAXPROCS
-// goroutines and sum in triangle order, so results do not depend on
-// GOMAXPROCS.
+// Assembly and error integration split their passes over GOMAXPROCS
+// goroutines and sum every value in a fixed order, so results do not
+// depend on GOMAXPROCS.
 package fem

@@ -24,8 +24,9 @@ import (
 // Regions and boundary tags are inherited.
 //
 // marked must have one entry per triangle. Refine does not modify m. Its
-// cost is that of copying m's arrays plus time linear in the number of
-// triangles refined: the topology of the untouched part is not rebuilt.
+// cost is that of copying m's arrays and one scan of its edges and
+// triangles, plus time linear in the number of triangles refined: the
+// topology of the untouched part is not rebuilt.
 func (m *Mesh) Refine(marked []bool) (*Mesh, *Parents, error) {
 	nv, nt, ne := m.NumVertices(), m.NumTriangles(), m.NumEdges()
 	if len(marked) != nt {
