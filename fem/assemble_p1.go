@@ -177,8 +177,14 @@ func assembleP1(s *Space, p *Problem, r rules) (*Matrix, []float64, error) {
 			for l := range 3 {
 				i, j := (l+1)%3, (l+2)%3
 				e := int(m.TriEdge[3*k+l])
+				// The triangle runs along e from local vertex i to j. The
+				// two triangles of an edge run along it in opposite
+				// directions (New rejects meshes where they do not, and
+				// Refine keeps the orientation), so the direction picks
+				// the triangle's slot: 0 from Edge[2e] (the lower vertex)
+				// up, 1 down. It is also the side d of vertex i.
 				side := 0
-				if int(m.EdgeTri[2*e]) != k {
+				if m.Tri[3*k+i] > m.Tri[3*k+j] {
 					side = 1
 				}
 				fx, fy := t.Apply(g.gl[i][0], g.gl[i][1])
@@ -186,13 +192,9 @@ func assembleP1(s *Space, p *Problem, r rules) (*Matrix, []float64, error) {
 				if ea != nil {
 					ea[2*e+side] = g.area
 				}
-				if eb != nil {
-					d := 0 // Edge[2e] is local vertex i or j
-					if m.Edge[2*e] != m.Tri[3*k+i] {
-						d = 1
-					}
-					eb[2*(2*e+d)+side] = 0.5 * f[i]
-					eb[2*(2*e+1-d)+side] = 0.5 * f[j]
+				if eb != nil { // vertex i is Edge[2e+side], j the other end
+					eb[2*(2*e+side)+side] = 0.5 * f[i]
+					eb[2*(2*e+1-side)+side] = 0.5 * f[j]
 				}
 			}
 		}
