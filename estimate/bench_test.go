@@ -2,10 +2,12 @@ package estimate
 
 import (
 	"math"
+	"math/rand/v2"
 	"strconv"
 	"testing"
 
 	"github.com/posteriori-fem/posteriori/fem"
+	"github.com/posteriori-fem/posteriori/internal/problems"
 	"github.com/posteriori-fem/posteriori/mesh"
 )
 
@@ -35,6 +37,45 @@ func BenchmarkEstimate(b *testing.B) {
 					b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/float64(m.NumTriangles()), "ns/triangle")
 				})
 			}
+		}
+	}
+}
+
+// BenchmarkEstimateAdaptive measures the P1 estimators per triangle on
+// meshes numbered as refinement numbers them (a coarse L-shape refined at
+// random, children and midpoints appended, so that neighbours are far apart
+// in memory), of at least 1e4, 1e5 and 1e6 triangles, for the L-shape
+// problem (a = 1, f = 0, Dirichlet boundary): the case of the adaptive loop.
+func BenchmarkEstimateAdaptive(b *testing.B) {
+	ex, p := problems.LShape()
+	r := rand.New(rand.NewPCG(1, 1))
+	m, err := mesh.LShape(2)
+	if err != nil {
+		b.Fatal(err)
+	}
+	for _, n := range []int{1e4, 1e5, 1e6} {
+		for m.NumTriangles() < n {
+			marks := make([]bool, m.NumTriangles())
+			for k := range marks {
+				marks[k] = r.IntN(3) == 0
+			}
+			if m, _, err = m.Refine(marks); err != nil {
+				b.Fatal(err)
+			}
+		}
+		s, _ := fem.NewSpace(m, 1)
+		u, _ := fem.Interpolate(s, ex.U)
+		for _, tc := range estimators[:2] {
+			b.Run(tc.name+"/n="+strconv.Itoa(n), func(b *testing.B) {
+				var in *Indicators
+				for b.Loop() {
+					var err error
+					if in, err = tc.est.Estimate(in, u, p); err != nil {
+						b.Fatal(err)
+					}
+				}
+				b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/float64(m.NumTriangles()), "ns/triangle")
+			})
 		}
 	}
 }

@@ -3,15 +3,39 @@ package estimate
 import (
 	"fmt"
 	"math"
+	"sync"
 
 	"github.com/posteriori-fem/posteriori/fem"
+	"github.com/posteriori-fem/posteriori/internal/parallel"
 )
 
 // Indicators holds the error indicators of a discrete solution, one per
-// triangle, stored squared.
+// triangle, stored squared. Used as the dst of an Estimator, it also keeps
+// the estimator's scratch arrays (about 50 bytes per triangle), so that the
+// next estimate into it does not allocate.
 type Indicators struct {
 	Eta2 []float64 // η_T² per triangle
 	Osc2 []float64 // osc_T² per triangle: data oscillation h_T² ‖f − Π_{p−1} f‖²_T
+
+	// Scratch of the estimators, kept so that repeated estimates with the
+	// same dst do not allocate.
+	work  []float64
+	iwork []int32
+}
+
+// scratch returns n float64s of scratch, not cleared.
+func (in *Indicators) scratch(n int) []float64 {
+	in.work = resize(in.work, n)
+	return in.work
+}
+
+// scratchInt returns n int32s of scratch, not cleared.
+func (in *Indicators) scratchInt(n int) []int32 {
+	if cap(in.iwork) < n {
+		in.iwork = make([]int32, n)
+	}
+	in.iwork = in.iwork[:n]
+	return in.iwork
 }
 
 // Total returns the total estimate η = (Σ η_T²)^½.
@@ -61,13 +85,32 @@ func prepare(name string, dst *Indicators, u *fem.Function, p *fem.Problem) (*In
 	if len(u.U) != u.Space.NumDOF() {
 		return nil, fmt.Errorf("estimate: %s: solution has %d values, space has %d DOFs: %w", name, len(u.U), u.Space.NumDOF(), ErrArgument)
 	}
-	for i, v := range u.U {
-		if math.IsNaN(v) || math.IsInf(v, 0) {
-			return nil, fmt.Errorf("estimate: %s: solution value %d is %g: %w", name, i, v, ErrNotFinite)
-		}
+	// The scan for values that are not finite runs in parallel, and on large
+	// meshes the check of the problem runs beside it; a bad value is
+	// reported first, as if the check came after.
+	var checked error
+	var wg sync.WaitGroup
+	beside := len(u.U) >= 1<<16
+	if beside {
+		wg.Go(func() { checked = p.Check(u.Space.Mesh) })
 	}
-	if err := p.Check(u.Space.Mesh); err != nil {
-		return nil, fmt.Errorf("estimate: %s: %w", name, err)
+	err := parallel.For(len(u.U), 1<<15, func(lo, hi int) error {
+		for i, v := range u.U[lo:hi] {
+			if math.IsNaN(v) || math.IsInf(v, 0) {
+				return fmt.Errorf("estimate: %s: solution value %d is %g: %w", name, lo+i, v, ErrNotFinite)
+			}
+		}
+		return nil
+	})
+	wg.Wait()
+	if err != nil {
+		return nil, err
+	}
+	if !beside {
+		checked = p.Check(u.Space.Mesh)
+	}
+	if checked != nil {
+		return nil, fmt.Errorf("estimate: %s: %w", name, checked)
 	}
 	if dst == nil {
 		dst = &Indicators{}

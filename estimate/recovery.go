@@ -74,8 +74,9 @@ func (m Method) String() string {
 // the triangles around it is missed. Residual has no such blind spot.
 //
 // The data oscillation is computed as by Residual. η_T is integrated with
-// the Dunavant rule of degree 2p (2p + 2 for AFunc). The zero value is
-// Averaging.
+// the Dunavant rule of degree 2p (2p + 2 for AFunc); for P1 with
+// piecewise-constant a it is taken in closed form, which that rule
+// integrates exactly too. The zero value is Averaging.
 //
 // References:
 //   - O. C. Zienkiewicz and J. Z. Zhu, A simple error estimator and adaptive
@@ -136,19 +137,38 @@ func basis(nc int, xi, eta float64, b []float64) {
 	}
 }
 
-// Estimate computes the recovery indicators and the data oscillation. It
-// makes one pass over the vertices and one over the triangles, each split
-// over GOMAXPROCS goroutines; the result does not depend on GOMAXPROCS.
+// Estimate computes the recovery indicators and the data oscillation. For
+// Averaging with P1 and piecewise-constant a it makes one pass over the
+// triangles for the gradients, one scan of the triangles per range of
+// vertices for the vertex sums and one pass over the triangles for η_T²;
+// otherwise one pass over the vertices and one over the triangles. Each pass
+// is split over GOMAXPROCS goroutines and every sum is taken in an order
+// fixed by the mesh, so the result does not depend on GOMAXPROCS.
 func (r Recovery) Estimate(dst *Indicators, u *fem.Function, p *fem.Problem) (*Indicators, error) {
 	dst, err := prepare("Recovery", dst, u, p)
 	if err != nil {
 		return nil, err
 	}
+	if r.Method != SPR && u.Space.Degree == 1 && p.PiecewiseConstant() {
+		err = averagingP1(dst, u, p)
+	} else {
+		err = r.general(dst, u, p)
+	}
+	if err != nil {
+		return nil, err
+	}
+	return dst, nil
+}
+
+// general is Estimate for every case, after prepare: the path of SPR, P2
+// and AFunc, against which the P1 averaging fast path is tested.
+func (r Recovery) general(dst *Indicators, u *fem.Function, p *fem.Problem) error {
 	s := u.Space
 	m := s.Mesh
 	deg := s.Degree
 	vstart, vtri := m.VertexTriangles()
 	rc := sides(m, vstart, vtri)
+	var err error
 	switch r.Method {
 	case SPR:
 		rc.nc = 3 * deg
@@ -158,7 +178,7 @@ func (r Recovery) Estimate(dst *Indicators, u *fem.Function, p *fem.Problem) (*I
 		err = averagePatches(u, rc, vstart, vtri)
 	}
 	if err != nil {
-		return nil, err
+		return err
 	}
 	qd := 2 * deg
 	if !p.PiecewiseConstant() {
@@ -166,13 +186,13 @@ func (r Recovery) Estimate(dst *Indicators, u *fem.Function, p *fem.Problem) (*I
 	}
 	rule, err := quadrature.ForTriangle(qd)
 	if err != nil {
-		return nil, err
+		return err
 	}
 	orule, err := quadrature.ForTriangle(2*deg + 2)
 	if err != nil {
-		return nil, err
+		return err
 	}
-	err = parallel.For(m.NumTriangles(), 512, func(lo, hi int) error {
+	return parallel.For(m.NumTriangles(), 512, func(lo, hi int) error {
 		ev, nb := fem.NewEvaluator(u), fem.NewEvaluator(u)
 		var fq [quadrature.MaxTrianglePoints]float64
 		for k := lo; k < hi; k++ {
@@ -200,10 +220,6 @@ func (r Recovery) Estimate(dst *Indicators, u *fem.Function, p *fem.Problem) (*I
 		}
 		return nil
 	})
-	if err != nil {
-		return nil, err
-	}
-	return dst, nil
 }
 
 // sides numbers the (vertex, region) pairs in the order the regions first

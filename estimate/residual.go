@@ -30,10 +30,11 @@ import (
 // 1e-6 h_T.
 //
 // Quadrature: the element residual and the oscillation use the Dunavant
-// rule of degree 2p + 2; the flux jumps for piecewise-constant a are
-// integrated exactly (they are polynomials of degree p − 1 on each edge);
-// for AFunc and for the Neumann terms a Gauss–Legendre rule of degree
-// 2p + 2 is used.
+// rule of degree 2p + 2 (for P1 without f, the residual −c u_h is
+// integrated in closed form, which that rule integrates exactly too); the
+// flux jumps for piecewise-constant a are integrated exactly (they are
+// polynomials of degree p − 1 on each edge); for AFunc and for the Neumann
+// terms a Gauss–Legendre rule of degree 2p + 2 is used.
 //
 // The zero value is ready to use.
 //
@@ -52,23 +53,42 @@ type Residual struct {
 var _ Estimator = Residual{}
 
 // Estimate computes the residual indicators and the data oscillation. It is
-// one pass over the triangles and one over the edges, each split over
-// GOMAXPROCS goroutines; the result does not depend on GOMAXPROCS.
+// one pass over the triangles, one over the edges and one more over the
+// triangles that adds the edge terms, each split over GOMAXPROCS
+// goroutines; every value is computed by one goroutine in a fixed order, so
+// the result does not depend on GOMAXPROCS. For P1 with piecewise-constant
+// a the passes work on the arrays of the mesh and the nodal values: the
+// first stores the flux a∇u_h of each triangle, from which the second
+// takes the edge terms in closed form.
 func (r Residual) Estimate(dst *Indicators, u *fem.Function, p *fem.Problem) (*Indicators, error) {
 	dst, err := prepare("Residual", dst, u, p)
 	if err != nil {
 		return nil, err
 	}
+	if u.Space.Degree == 1 && p.PiecewiseConstant() && !r.plainJumps {
+		err = residualP1(dst, u, p)
+	} else {
+		err = r.general(dst, u, p)
+	}
+	if err != nil {
+		return nil, err
+	}
+	return dst, nil
+}
+
+// general is Estimate for every case, after prepare: the path of P2 and of
+// AFunc, against which the P1 fast path is tested.
+func (r Residual) general(dst *Indicators, u *fem.Function, p *fem.Problem) error {
 	s := u.Space
 	m := s.Mesh
 	deg := s.Degree
 	rule, err := quadrature.ForTriangle(2*deg + 2)
 	if err != nil {
-		return nil, err
+		return err
 	}
 	line, err := quadrature.ForLine(2*deg + 2)
 	if err != nil {
-		return nil, err
+		return err
 	}
 	// With piecewise-constant a the element pass also stores the flux
 	// a∇u_h at the vertices of each triangle and the weight a_T, so that
@@ -101,7 +121,7 @@ func (r Residual) Estimate(dst *Indicators, u *fem.Function, p *fem.Problem) (*I
 		return nil
 	})
 	if err != nil {
-		return nil, err
+		return err
 	}
 	// Edge terms: h_E ‖J‖²_E per edge.
 	jump := make([]float64, m.NumEdges())
@@ -121,7 +141,7 @@ func (r Residual) Estimate(dst *Indicators, u *fem.Function, p *fem.Problem) (*I
 		return nil
 	})
 	if err != nil {
-		return nil, err
+		return err
 	}
 	_ = parallel.For(m.NumTriangles(), 4096, func(lo, hi int) error {
 		for k := lo; k < hi; k++ {
@@ -135,7 +155,7 @@ func (r Residual) Estimate(dst *Indicators, u *fem.Function, p *fem.Problem) (*I
 		}
 		return nil
 	})
-	return dst, nil
+	return nil
 }
 
 // elementResidual returns h_T² ‖f + ∇·(a∇u_h) − c u_h‖²_T and
@@ -316,7 +336,11 @@ func (r Residual) edgeTerm(e1, e2 *fem.Evaluator, m *mesh.Mesh, p *fem.Problem, 
 // centroid of the loaded triangle.
 func weight(ev *fem.Evaluator, p *fem.Problem) float64 {
 	x, y := ev.Point([3]float64{1. / 3, 1. / 3, 1. / 3})
-	t := p.Diffusion(x, y, ev.Region())
+	return minEig(p.Diffusion(x, y, ev.Region()))
+}
+
+// minEig returns the smallest eigenvalue of t.
+func minEig(t fem.Tensor) float64 {
 	h := 0.5 * (t.XX - t.YY)
 	return 0.5*(t.XX+t.YY) - math.Sqrt(h*h+t.XY*t.XY)
 }
