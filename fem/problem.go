@@ -5,6 +5,7 @@ import (
 	"math"
 	"slices"
 
+	"github.com/posteriori-fem/posteriori/internal/parallel"
 	"github.com/posteriori-fem/posteriori/mesh"
 )
 
@@ -96,27 +97,11 @@ func (p *Problem) Check(m *mesh.Mesh) error {
 		return fmt.Errorf("fem: c = %g: %w", p.C, ErrReaction)
 	}
 	if p.AFunc == nil && p.A != nil {
-		seen := map[int32]bool{}
-		for i, r := range m.Region {
-			if (i > 0 && r == m.Region[i-1]) || seen[r] { // runs of one region are common: skip the map
-				continue
-			}
-			seen[r] = true
-			t, ok := p.A[r]
-			if !ok {
-				return atRegion(r, ErrRegion)
-			}
-			if !t.valid() {
-				return atRegion(r, fmt.Errorf("%w: %+v", ErrDiffusion, t))
-			}
+		if err := p.checkRegions(m); err != nil {
+			return err
 		}
 	}
-	tags := map[int32]bool{}
-	for e := range m.NumEdges() {
-		if m.IsBoundary(e) {
-			tags[m.EdgeTag[e]] = true
-		}
-	}
+	tags := boundaryTags(m)
 	for _, tag := range p.DirichletTags() {
 		if !tags[tag] {
 			return atTag(tag, fmt.Errorf("%w: Dirichlet tag not on the boundary", ErrTag))
@@ -137,6 +122,64 @@ func (p *Problem) Check(m *mesh.Mesh) error {
 		return p.checkPieces(m)
 	}
 	return nil
+}
+
+// checkRegions verifies that every region of m has a valid tensor in A.
+// Regions below 1<<12 are remembered in a table, others in a map.
+func (p *Problem) checkRegions(m *mesh.Mesh) error {
+	var small [1 << 12]bool
+	seen := map[int32]bool{}
+	for i, r := range m.Region {
+		if i > 0 && r == m.Region[i-1] { // runs of one region are common
+			continue
+		}
+		if uint32(r) < uint32(len(small)) {
+			if small[r] {
+				continue
+			}
+			small[r] = true
+		} else {
+			if seen[r] {
+				continue
+			}
+			seen[r] = true
+		}
+		t, ok := p.A[r]
+		if !ok {
+			return atRegion(r, ErrRegion)
+		}
+		if !t.valid() {
+			return atRegion(r, fmt.Errorf("%w: %+v", ErrDiffusion, t))
+		}
+	}
+	return nil
+}
+
+// boundaryTags returns the set of tags of the boundary edges of m, from a
+// parallel scan of the edges.
+func boundaryTags(m *mesh.Mesh) map[int32]bool {
+	ne := m.NumEdges()
+	const chunk = 1 << 16
+	parts := make([]map[int32]bool, (ne+chunk-1)/chunk)
+	_ = parallel.For(len(parts), 1, func(lo, hi int) error {
+		for c := lo; c < hi; c++ {
+			part := map[int32]bool{}
+			for e := c * chunk; e < min((c+1)*chunk, ne); e++ {
+				if m.EdgeTri[2*e+1] < 0 {
+					part[m.EdgeTag[e]] = true
+				}
+			}
+			parts[c] = part
+		}
+		return nil
+	})
+	tags := map[int32]bool{}
+	for _, part := range parts {
+		for t := range part {
+			tags[t] = true
+		}
+	}
+	return tags
 }
 
 // checkPieces verifies that, without reaction, every connected piece of the
