@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 
+	"github.com/posteriori-fem/posteriori/internal/parallel"
 	"github.com/posteriori-fem/posteriori/internal/quadrature"
 	"github.com/posteriori-fem/posteriori/mesh"
 )
@@ -57,13 +58,27 @@ func assembleNeumann(s *Space, p *Problem, bnd []int32, b []float64) error {
 	return nil
 }
 
-// boundaryEdges returns the boundary edges of m in ascending order.
+// boundaryEdges returns the boundary edges of m in ascending order, from a
+// parallel scan.
 func boundaryEdges(m *mesh.Mesh) []int32 {
-	var out []int32
-	for e := range m.NumEdges() {
-		if m.EdgeTri[2*e+1] < 0 {
-			out = append(out, int32(e))
+	ne := m.NumEdges()
+	const chunk = 1 << 16
+	parts := make([][]int32, (ne+chunk-1)/chunk)
+	_ = parallel.For(len(parts), 1, func(lo, hi int) error {
+		for c := lo; c < hi; c++ {
+			var part []int32
+			for e := c * chunk; e < min((c+1)*chunk, ne); e++ {
+				if m.EdgeTri[2*e+1] < 0 {
+					part = append(part, int32(e))
+				}
+			}
+			parts[c] = part
 		}
+		return nil
+	})
+	var out []int32
+	for _, part := range parts {
+		out = append(out, part...)
 	}
 	return out
 }

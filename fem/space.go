@@ -77,8 +77,8 @@ func (s *Space) BoundaryDOFs(tags ...int32) []int32 {
 	m := s.Mesh
 	nv := int32(m.NumVertices())
 	mark := make([]bool, s.NumDOF())
-	for e := range m.NumEdges() {
-		if !m.IsBoundary(e) || !slices.Contains(tags, m.EdgeTag[e]) {
+	for _, e := range boundaryEdges(m) {
+		if !slices.Contains(tags, m.EdgeTag[e]) {
 			continue
 		}
 		mark[m.Edge[2*e]] = true
