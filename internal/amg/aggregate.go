@@ -22,6 +22,10 @@ type connections struct {
 	strong []bool
 	// diagF[i] = a_ii + Σ_{j≠i weak} a_ij, the diagonal of A_F.
 	diagF []float64
+	// valF holds the values of the filtered matrix A_F in the structure
+	// of the matrix: a_ij for a strong connection, diagF[i] on the
+	// diagonal, zero for a weak entry.
+	valF []float64
 	// gershgorin is max_i Σ_j |a^F_ij| / a_ii, a bound of ρ(D⁻¹A_F).
 	gershgorin float64
 }
@@ -36,28 +40,37 @@ type connections struct {
 // symmetric a the relation is symmetric. The rows are split over
 // goroutines; each row's results are independent of the split.
 func strength(a *sparse.CSR, diag []float64, theta float64) connections {
-	c := connections{strong: make([]bool, a.NNZ()), diagF: make([]float64, a.Rows)}
+	c := connections{strong: make([]bool, a.NNZ()), diagF: make([]float64, a.Rows), valF: make([]float64, a.NNZ())}
 	t2 := theta * theta
 	gersh := make([]float64, max(1, runtime.GOMAXPROCS(0)))
-	chunks(a.Rows, func(ch, lo, hi int) {
+	strong, valF, diagF := c.strong, c.valF, c.diagF
+	rowPtr, col, val := a.RowPtr, a.Col, a.Val
+	chunks(a.Rows, a.RowPtr, func(ch, lo, hi int) {
 		g := 0.0
 		for i := lo; i < hi; i++ {
 			di := t2 * diag[i]
 			lump, abs := 0.0, 0.0
-			for k := a.RowPtr[i]; k < a.RowPtr[i+1]; k++ {
-				j := a.Col[k]
-				v := a.Val[k]
+			dk := -1
+			for k := rowPtr[i]; k < rowPtr[i+1]; k++ {
+				j := col[k]
+				v := val[k]
 				s := int(j) != i && v*v >= di*diag[j] && v != 0
-				c.strong[k] = s
+				strong[k] = s
 				switch {
 				case s:
 					abs += math.Abs(v)
+					valF[k] = v
 				case int(j) != i:
 					lump += v
+				default:
+					dk = int(k)
 				}
 			}
-			c.diagF[i] = diag[i] + lump
-			g = max(g, (abs+math.Abs(c.diagF[i]))/diag[i])
+			diagF[i] = diag[i] + lump
+			if dk >= 0 {
+				valF[dk] = diagF[i]
+			}
+			g = max(g, (abs+math.Abs(diagF[i]))/diag[i])
 		}
 		gersh[ch] = g
 	})
@@ -90,21 +103,24 @@ func strength(a *sparse.CSR, diag []float64, theta float64) connections {
 // are left out. Every pass is linear in the number of stored entries.
 func aggregate(a *sparse.CSR, strong []bool) (agg []int32, nagg int) {
 	n := a.Rows
+	rowPtr, col, val := a.RowPtr, a.Col, a.Val
 	agg = make([]int32, n)
 	hasStrong := make([]bool, n)
-	for i := range n {
-		agg[i] = isolated
-		for k := a.RowPtr[i]; k < a.RowPtr[i+1]; k++ {
-			if strong[k] {
-				hasStrong[i] = true
-				agg[i] = free
-				break
-			}
-			if int(a.Col[k]) != i && a.Val[k] != 0 {
-				agg[i] = free
+	chunks(n, rowPtr, func(_, lo, hi int) {
+		for i := lo; i < hi; i++ {
+			agg[i] = isolated
+			for k := rowPtr[i]; k < rowPtr[i+1]; k++ {
+				if strong[k] {
+					hasStrong[i] = true
+					agg[i] = free
+					break
+				}
+				if int(col[k]) != i && val[k] != 0 {
+					agg[i] = free
+				}
 			}
 		}
-	}
+	})
 	// Pass 1: roots whose strong neighbourhood is free.
 	c := int32(0)
 	for i := range n {
@@ -112,8 +128,8 @@ func aggregate(a *sparse.CSR, strong []bool) (agg []int32, nagg int) {
 			continue
 		}
 		ok := true
-		for k := a.RowPtr[i]; k < a.RowPtr[i+1]; k++ {
-			if strong[k] && agg[a.Col[k]] != free {
+		for k := rowPtr[i]; k < rowPtr[i+1]; k++ {
+			if strong[k] && agg[col[k]] != free {
 				ok = false
 				break
 			}
@@ -122,39 +138,41 @@ func aggregate(a *sparse.CSR, strong []bool) (agg []int32, nagg int) {
 			continue
 		}
 		agg[i] = c
-		for k := a.RowPtr[i]; k < a.RowPtr[i+1]; k++ {
+		for k := rowPtr[i]; k < rowPtr[i+1]; k++ {
 			if strong[k] {
-				agg[a.Col[k]] = c
+				agg[col[k]] = c
 			}
 		}
 		c++
 	}
 	// Pass 2: attach the remaining nodes to a pass-1 aggregate. The
-	// assignments are collected first so that only pass-1 members count.
-	join := make([]int32, 0, n/4)
-	who := make([]int32, 0, n/4)
-	for i := range n {
-		if agg[i] != free {
-			continue
-		}
-		best, bestV := int32(-1), 0.0
-		for k := a.RowPtr[i]; k < a.RowPtr[i+1]; k++ {
-			if !strong[k] && (hasStrong[i] || int(a.Col[k]) == i) {
+	// choices are made in parallel and stored in join, then applied, so
+	// that only pass-1 members count.
+	join := make([]int32, n)
+	chunks(n, rowPtr, func(_, lo, hi int) {
+		for i := lo; i < hi; i++ {
+			join[i] = -1
+			if agg[i] != free {
 				continue
 			}
-			if g := agg[a.Col[k]]; g >= 0 {
-				if v := math.Abs(a.Val[k]); v > bestV {
-					best, bestV = g, v
+			best, bestV := int32(-1), 0.0
+			for k := rowPtr[i]; k < rowPtr[i+1]; k++ {
+				if !strong[k] && (hasStrong[i] || int(col[k]) == i) {
+					continue
+				}
+				if g := agg[col[k]]; g >= 0 {
+					if v := math.Abs(val[k]); v > bestV {
+						best, bestV = g, v
+					}
 				}
 			}
+			join[i] = best
 		}
-		if best >= 0 {
-			who = append(who, int32(i))
-			join = append(join, best)
+	})
+	for i, g := range join {
+		if g >= 0 {
+			agg[i] = g
 		}
-	}
-	for q, i := range who {
-		agg[i] = join[q]
 	}
 	// Pass 3: new aggregates of whatever is left.
 	for i := range n {
@@ -162,9 +180,9 @@ func aggregate(a *sparse.CSR, strong []bool) (agg []int32, nagg int) {
 			continue
 		}
 		agg[i] = c
-		for k := a.RowPtr[i]; k < a.RowPtr[i+1]; k++ {
-			if strong[k] && agg[a.Col[k]] == free {
-				agg[a.Col[k]] = c
+		for k := rowPtr[i]; k < rowPtr[i+1]; k++ {
+			if strong[k] && agg[col[k]] == free {
+				agg[col[k]] = c
 			}
 		}
 		c++

@@ -82,21 +82,28 @@ func dot(x, y []float64) float64 {
 // e.g. Hackbusch, Multi-Grid Methods and Applications, Springer 1985, on
 // symmetric multigrid iterations; cited from memory). The asymmetry is
 // measured relative to √((x, M⁻¹x)(y, M⁻¹y)), the Cauchy–Schwarz bound of
-// (x, M⁻¹y).
+// (x, M⁻¹y). The members with r = 2 have more than amg.ColourRows rows,
+// so that their fine level is smoothed by multicolour Gauss–Seidel.
 func TestSymmetric(t *testing.T) {
 	cases := []struct {
 		f family
+		r int
 		s amg.Settings
 	}{
-		{family{lshape, true, 1}, amg.Settings{}},
-		{family{kellogg, false, 2}, amg.Settings{}},
-		{family{kellogg, true, 1}, amg.Settings{Smoothing: 2}},
-		{family{lshape, false, 2}, amg.Settings{Smoother: amg.Chebyshev, Smoothing: 3}},
-		{family{kellogg, true, 2}, amg.Settings{Smoother: amg.Chebyshev}},
-		{family{lshape, false, 1}, amg.Settings{MaxLevels: 2}}, // last level smoothed, not solved
+		{family{lshape, true, 1}, 0, amg.Settings{}},
+		{family{kellogg, false, 2}, 0, amg.Settings{}},
+		{family{kellogg, true, 1}, 0, amg.Settings{Smoothing: 2}},
+		{family{lshape, false, 2}, 0, amg.Settings{Smoother: amg.Chebyshev, Smoothing: 3}},
+		{family{kellogg, true, 2}, 0, amg.Settings{Smoother: amg.Chebyshev}},
+		{family{lshape, false, 1}, 0, amg.Settings{MaxLevels: 2}}, // last level smoothed, not solved
+		{family{lshape, true, 1}, 2, amg.Settings{}},
+		{family{kellogg, false, 2}, 2, amg.Settings{Smoothing: 2}},
 	}
 	for _, c := range cases {
-		sys := assemble(t, c.f.d, familyMesh(t, c.f, 0), c.f.deg)
+		sys := assemble(t, c.f.d, familyMesh(t, c.f, c.r), c.f.deg)
+		if c.r > 0 && sys.A.Rows <= amg.ColourRows {
+			t.Fatalf("%v r = %d: only %d rows", c.f, c.r, sys.A.Rows)
+		}
 		h, err := amg.New(sys.A, c.s)
 		if err != nil {
 			t.Fatal(err)

@@ -33,7 +33,8 @@ type team struct {
 }
 
 // run calls k.rows over [0, n) split into ranges balanced by the row
-// offsets rowPtr (by rows when rowPtr is nil), and waits.
+// offsets rowPtr[0..n] (by rows when rowPtr is nil; rowPtr[0] need not be
+// zero), and waits.
 func (t *team) run(k kernel, n int, rowPtr []int32) {
 	nw := min(runtime.GOMAXPROCS(0), n/minRowsPerWorker)
 	if n <= parallelRows || nw < 2 {
@@ -50,9 +51,10 @@ func (t *team) run(k kernel, n int, rowPtr []int32) {
 			b[w] = n * w / nw
 		}
 	} else {
-		total := int64(rowPtr[n])
+		base := int64(rowPtr[0])
+		total := int64(rowPtr[n]) - base
 		for w := 1; w < nw; w++ {
-			target := total * int64(w) / int64(nw)
+			target := base + total*int64(w)/int64(nw)
 			lo, hi := b[w-1], n // first i ≥ lo with rowPtr[i] ≥ target
 			for lo < hi {
 				m := int(uint(lo+hi) >> 1)
@@ -148,6 +150,31 @@ func (h *Hierarchy) pre(lv *level, x, b []float64, res bool) {
 	a, m := lv.a, h.sweeps
 	switch h.smoother {
 	case GaussSeidel:
+		if nc := lv.colours.colours(); nc > 0 {
+			for k := range m {
+				for c := range nc {
+					mode := sweepFull
+					if k == 0 {
+						mode = sweepZero
+						if c == 0 {
+							mode = sweepFirst
+						}
+					}
+					h.colourSweep(lv, c, x, b, mode)
+				}
+			}
+			if !res {
+				return
+			}
+			if m == 1 {
+				h.kColRes = colourResidualKernel{c: &lv.colours, x: x, r: lv.res}
+				h.team.run(&h.kColRes, a.Rows, lv.colours.m.RowPtr)
+			} else {
+				h.kRes = residualKernel{a: a, x: x, b: b, r: lv.res}
+				h.team.run(&h.kRes, a.Rows, a.RowPtr)
+			}
+			return
+		}
 		gsForwardZero(a, lv.diagPos, lv.invDiag, x, b)
 		for range m - 1 {
 			gsForward(a, lv.diagPos, lv.invDiag, x, b)
@@ -198,6 +225,14 @@ func (h *Hierarchy) post(lv *level, x, b []float64) {
 	a, m := lv.a, h.sweeps
 	switch h.smoother {
 	case GaussSeidel:
+		if nc := lv.colours.colours(); nc > 0 {
+			for range m {
+				for c := nc - 1; c >= 0; c-- {
+					h.colourSweep(lv, c, x, b, sweepFull)
+				}
+			}
+			return
+		}
 		for range m {
 			gsBackward(a, lv.diagPos, lv.invDiag, x, b)
 		}
@@ -214,4 +249,16 @@ func (h *Hierarchy) post(lv *level, x, b []float64) {
 		h.kAdd = addKernel{x: x, d: d}
 		h.team.run(&h.kAdd, a.Rows, nil)
 	}
+}
+
+// colourSweep runs colour c of a multicolour Gauss–Seidel sweep on level
+// lv (see colourKernel for the modes).
+func (h *Hierarchy) colourSweep(lv *level, c int, x, b []float64, mode int) {
+	lo, hi := int(lv.colours.ptr[c]), int(lv.colours.ptr[c+1])
+	h.kCol = colourKernel{c: &lv.colours, lo: lo, hi: hi, x: x, b: b, mode: mode}
+	var rowPtr []int32 // balance by entries, unless no entry is read
+	if mode != sweepFirst {
+		rowPtr = lv.colours.m.RowPtr[lo : hi+1]
+	}
+	h.team.run(&h.kCol, hi-lo, rowPtr)
 }

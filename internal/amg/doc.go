@@ -41,8 +41,12 @@
 // has nonzero off-diagonal entries but none of them strong (possible for
 // large θ) is not left out but joins, in pass 2, the aggregate of its
 // largest connection: θ bounds each connection, not their sum, so such a
-// node is not necessarily damped by the smoother, and dropping it was
-// measured to cost hundreds of CG iterations at θ = 0.18 on P2 matrices.
+// node is not necessarily damped by the smoother: dropping such nodes at
+// θ = 0.18 was measured to raise the CG iterations of the test problems
+// with about 10⁶ unknowns (TestIterationsBounded) from 20–45 to 214–423.
+// Pass 1 and pass 3 are sequential; the first scan, which finds the
+// decoupled nodes, and the choices of pass 2, which depend only on the
+// result of pass 1, are made in parallel.
 //
 // # Prolongator
 //
@@ -57,10 +61,20 @@
 // weak ones to the diagonal, a^F_ii = a_ii + Σ_{j weak} a_ij, so that A_F
 // has the row sums of A: where A 1 = 0, also P 1 = 1. ρ estimates the
 // spectral radius of D⁻¹A_F by six steps of the power method (its
-// Rayleigh quotient, a lower bound); the Gershgorin bound
-// max_i Σ_j |a^F_ij| / a_ii, used before, is 2 where the estimate is
-// 1.2–1.5 on the coarse levels of the test problems, and the too small ω
-// it gives raised the CG iterations at 10⁶ unknowns from 16 to 22.
+// Rayleigh quotient, a lower bound). On the matrix of the adaptive L-shape
+// loop with 870992 unknowns the estimates of levels 0–3 are 1.81, 1.43,
+// 1.37 and 1.30, where the Gershgorin bound max_i Σ_j |a^F_ij| / a_ii is
+// 2.00; with the bound, ω is smaller and the CG iterations of the members
+// of TestIterationsBounded with about 10⁶ unknowns rose from 11–23 to
+// 15–32. Four steps, which give smaller estimates, changed those
+// iterations by at most one and made New about 4% faster, but raised
+// them on the P1 Laplacian of the unit square with 10⁵ unknowns from 12
+// to 14 and with the Chebyshev smoothers of BenchmarkSolve from 17 and 14
+// to 19 and 16, so six were kept. Each step is one fused pass over the
+// matrix (the filtered values are stored) and the vectors, split over
+// goroutines by fixed blocks of 4096 rows whose partial inner products are
+// added in block order; it runs concurrently with the aggregation, which
+// does not need it.
 //
 // # Coarse operators
 //
@@ -69,7 +83,10 @@
 // Gustavson's row-wise algorithm with a dense accumulator and a marker
 // array (no hash maps), in a symbolic pass that counts each row and a
 // numeric pass that writes it, sorted, straight into the result; rows are
-// split over goroutines. Floating point makes R (A P) symmetric only to
+// split over goroutines, balanced by the entries of the left factor. The
+// transpose R = Pᵀ is a counting sort, also split over goroutines by rows
+// of P (each range counts its entries per column, which fixes where it
+// writes). Floating point makes R (A P) symmetric only to
 // rounding, so it is replaced by (A_c + A_cᵀ)/2 in place, which is exactly
 // symmetric. The coarsening stops at the first level with at most
 // Settings.CoarseSize unknowns (default 300), after Settings.MaxLevels
@@ -102,58 +119,86 @@
 //
 //   - GaussSeidel (the default): forward Gauss–Seidel sweeps before,
 //     backward sweeps after; the backward sweep is the adjoint of the
-//     forward one for symmetric A. The first sweep from x = 0 reads only
-//     the lower triangle, and the residual after it is −Σ_{j>i} a_ij x_j,
-//     the upper triangle only. Gauss–Seidel is sequential.
+//     forward one for symmetric A. On levels with at most 2¹⁷ unknowns
+//     the sweeps are sequential, in the natural order. The first sweep
+//     from x = 0 reads only the lower triangle, and the residual after it
+//     is −Σ_{j>i} a_ij x_j, the upper triangle only.
 //   - Chebyshev: the Chebyshev polynomial of degree ν in D⁻¹A for the
 //     interval [λ/30, λ], λ = 1.1 × the power-method estimate of
 //     λ_max(D⁻¹A), before and after (the polynomial is self-adjoint, so
 //     the same one serves both). Its steps are fused row-parallel
 //     products.
 //
-// Measured on the P1 Laplacian with 10⁶ unknowns on an otherwise idle
-// two-core machine (CG to relative residual 1e-8 from zero; costs in
-// units of one product with the fine matrix by the parallel MulVec, timed
-// in the same run; see BenchmarkSolve), symmetric Gauss–Seidel with one
-// sweep is the cheapest. It needs more iterations than the alternatives,
-// but each V-cycle costs less: Gauss–Seidel, although it runs on one
-// core, reduces the error far more per pass over the matrix than a
-// polynomial step, and the passes are limited by memory bandwidth more
-// than by the core count.
+// On the levels with more than 2¹⁷ unknowns Gauss–Seidel is multicolour
+// Gauss–Seidel: New colours the graph of the stored entries greedily (in
+// ascending order, each row the least colour none of its lower
+// neighbours has; 5 colours on the finest level of the adaptive L-shape
+// matrix), and a sweep visits the colours in order, forward 0, 1, …,
+// backward in reverse, which is again the adjoint. The rows of one colour
+// are not coupled, so each colour is one row-parallel step, and the
+// result does not depend on how its rows are split. New stores a copy of
+// the level matrix in colour order, each row with the entries of the
+// earlier colours first, then the diagonal, then those of the later
+// colours: a colour is swept over contiguous memory, and the first sweep
+// from zero and the residual after it read only the lower and the upper
+// parts, as in the sequential sweep. The copy doubles the memory of the
+// finest level. It is still Gauss–Seidel, only in another order, and
+// converged like the sequential sweep (TestIterationsBounded: at most one
+// iteration more or less on each problem); a parallel ℓ1 block
+// Gauss–Seidel (Baker, Falgout, Kolev and Yang 2011) had been dropped by
+// an earlier version of this package because it cost iterations on P2
+// and graded meshes. Below 2¹⁷ unknowns the sequential sweep was as fast
+// or faster: with 10⁵ unknowns the CG solve took 50 ms instead of 62 ms
+// on the P1 Laplacian of the unit square, and the same 65 ms on an
+// adaptive L-shape mesh.
+//
+// Measured with BenchmarkSolve on the P1 Laplacian of the unit square
+// with 10⁶ unknowns on a two-core machine (CG to relative residual 1e-8
+// from zero; costs in units of one product with the fine matrix by the
+// parallel MulVec, timed in the same run), symmetric Gauss–Seidel with one
+// sweep is the cheapest: it needs more iterations than the alternatives,
+// but each V-cycle costs less.
 //
 //	smoother          V-cycle   iterations   CG solve
-//	Gauss–Seidel ν=1    7.8         16          161
-//	Gauss–Seidel ν=2   13.4         13          208
-//	Chebyshev ν=2       8.6         17          185
-//	Chebyshev ν=3      10.7         14          187
+//	Gauss–Seidel ν=1    5.3         16          112
+//	Gauss–Seidel ν=2    8.6         13          136
+//	Chebyshev ν=2       7.2         17          152
+//	Chebyshev ν=3       9.7         14          161
 //
-// (With the second core busy with another process the ratios were 4.9,
-// 8.2, 8.0 and 11.1 for the V-cycle and 101, 126, 157 and 180 for the
-// solve: the same order.) A parallel variant of Gauss–Seidel was tried
-// too: ℓ1 block Gauss–Seidel (Baker, Falgout, Kolev and Yang 2011) with
-// fixed blocks of 32768 rows, so that results do not depend on
-// GOMAXPROCS. It cut the P1 V-cycle to 6.6 and the solve to 136, but the
-// DOF numbering of FEM spaces (P2 edge unknowns after all vertices,
-// vertices of refined meshes appended) couples many rows across blocks,
-// and it cost 2–5 more iterations on P2 and graded meshes (29 instead of
-// 24 for P2 at 10⁶ unknowns, solve about 200 instead of 170–185), so it was
-// dropped.
+//	go test -run XXX -bench 'Solve$' -benchtime 3x ./internal/amg
 //
-// Setup costs about 75 products (P1) or 60 (P2) at 10⁶ unknowns, and
-// everything in New and Apply is linear in the size of the matrix.
+// (With the sequential Gauss–Seidel of the previous version, measured the
+// same way, the first two rows were 6.8, 16, 144 and 12.4, 13, 191.) New
+// costs 58 products (P1) or 51 (P2) at 10⁶ unknowns there. On the matrices
+// of the adaptive L-shape loop, whose DOF numbering puts almost all
+// entries far from the diagonal, New plus the solve cost 175 products for
+// P1 with 870860 unknowns (New 60, V-cycle 4.8, 17 iterations) and 159
+// for P2 with 895481 unknowns (θ = 0.1; New 56, V-cycle 4.1, 18
+// iterations), against 218 and 198 with the previous version:
+//
+//	go test -run XXX -bench SolveAdaptive -benchtime 3x ./internal/amg
+//
+// Everything in New and Apply is linear in the size of the matrix.
 //
 // The default θ = 0.08 is that of Vaněk, Mandel and Brezina. For P2
 // elements on meshes of right isosceles triangles (mesh.Rectangle and
 // its refinements) the positive vertex–vertex couplings have strength
-// about 0.083, just above it; θ = 0.1 leaves them weak and was measured
-// to save 15–25% of the CG iterations for P2 (and nothing for P1).
+// 0.0833, just above it; θ = 0.1 leaves them weak and saved 16–26% of
+// the CG iterations of the P2 members of TestIterationsBounded with
+// 2·10⁵ and 10⁶ unknowns (at 10⁶: 16, 19, 19, 23 → 13, 16, 14, 19), and
+// changed the P1 members by at most one iteration.
 //
 // # Determinism, allocation and concurrency
 //
 // Results are bit-identical whatever GOMAXPROCS is: every row of a product
 // or of a parallel V-cycle step is computed by one goroutine in a fixed
-// order, Gauss–Seidel and the inner products of the power method are
-// sequential, and aggregation is sequential. Apply allocates nothing: the
+// order, the inner products of the power method are summed by fixed
+// blocks, the colouring, the sequential Gauss–Seidel sweeps and passes 1
+// and 3 of the aggregation are sequential, and the transpose writes every
+// entry to a place fixed by the matrix. New runs the colouring of each
+// multicolour level and the power method of each level concurrently with
+// the rest of the setup; they write only their own results, so the
+// hierarchy does not depend on the scheduling. Apply allocates nothing: the
 // work vectors of all levels are allocated by New, and the goroutines of
 // the parallel steps (rows split over up to GOMAXPROCS goroutines above
 // 20000 rows, as in sparse.CSR.MulVec) are started from closures built

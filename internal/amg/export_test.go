@@ -12,6 +12,10 @@ const Isolated = isolated
 // ParallelRows is the row count above which V-cycle steps run in parallel.
 const ParallelRows = parallelRows
 
+// ColourRows is the row count above which a level is smoothed by
+// multicolour Gauss–Seidel.
+const ColourRows = colourRows
+
 // LevelMatrix returns the matrix of level l.
 func LevelMatrix(h *Hierarchy, l int) *sparse.CSR { return h.levels[l].a }
 
@@ -47,8 +51,12 @@ func Aggregates(a *sparse.CSR, theta float64) ([]int32, int) {
 // threshold theta.
 func SmoothedProlongator(a *sparse.CSR, theta float64) (*sparse.CSR, error) {
 	diag := a.Diagonal(nil)
+	inv := make([]float64, len(diag))
+	for i, d := range diag {
+		inv[i] = 1 / d
+	}
 	c := strength(a, diag, theta)
 	agg, nagg := aggregate(a, c.strong)
-	p, _, err := prolongator(a, diag, &c, agg, nagg)
+	p, err := prolongator(a, diag, &c, agg, nagg, filteredRho(a, diag, inv, &c))
 	return p, err
 }

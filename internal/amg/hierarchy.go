@@ -3,6 +3,10 @@ package amg
 import (
 	"fmt"
 	"math"
+	"runtime"
+	"slices"
+	"sync"
+	"sync/atomic"
 
 	"github.com/posteriori-fem/posteriori/internal/sparse"
 )
@@ -22,8 +26,11 @@ const (
 	// DefaultSmoother is the zero value; it selects GaussSeidel.
 	DefaultSmoother Smoother = iota
 	// GaussSeidel is forward Gauss–Seidel before the coarse correction and
-	// backward Gauss–Seidel after it, each Settings.Smoothing sweeps. It
-	// is sequential: one goroutine per level.
+	// backward Gauss–Seidel after it, each Settings.Smoothing sweeps. On
+	// levels of more than 2¹⁷ unknowns the unknowns are ordered by a
+	// colouring of the matrix graph and each colour is swept in parallel
+	// (multicolour Gauss–Seidel); smaller levels are swept sequentially in
+	// their natural order.
 	GaussSeidel
 	// Chebyshev is the Chebyshev polynomial of degree Settings.Smoothing in
 	// D⁻¹A for the interval [λ/30, λ], λ = 1.1 times the power-method
@@ -119,13 +126,15 @@ type Hierarchy struct {
 	team     team
 
 	// Kernels of the V-cycle, reused so that Apply does not allocate.
-	kRes  residualKernel
-	kUp   upperResidualKernel
-	kMul  mulKernel
-	kPro  prolongKernel
-	kInit chebInitKernel
-	kStep chebStepKernel
-	kAdd  addKernel
+	kRes    residualKernel
+	kUp     upperResidualKernel
+	kMul    mulKernel
+	kPro    prolongKernel
+	kInit   chebInitKernel
+	kStep   chebStepKernel
+	kAdd    addKernel
+	kCol    colourKernel
+	kColRes colourResidualKernel
 }
 
 var _ sparse.Preconditioner = (*Hierarchy)(nil)
@@ -133,6 +142,7 @@ var _ sparse.Preconditioner = (*Hierarchy)(nil)
 // level is one level of the hierarchy.
 type level struct {
 	a       *sparse.CSR
+	diag    []float64 // a_ii (during New only)
 	invDiag []float64 // 1/a_ii
 	diagPos []int32   // position of a_ii in its row (Gauss–Seidel)
 	p, r    *sparse.CSR
@@ -146,6 +156,10 @@ type level struct {
 	c1, c2   []float64
 	lmax     float64
 	rho      float64 // the estimate of ρ(D⁻¹A_F) that gave ω for the prolongator
+
+	// Multicolour Gauss–Seidel smoother (levels of more than colourRows
+	// rows): the rows of colour c are colours.rows[colours.ptr[c]:colours.ptr[c+1]].
+	colours colouring
 }
 
 // New builds the smoothed aggregation hierarchy of the symmetric positive
@@ -170,27 +184,48 @@ func New(a *sparse.CSR, s Settings) (*Hierarchy, error) {
 	if a.Rows != a.Cols {
 		return nil, fmt.Errorf("amg: %w: matrix is %dx%d, want square", sparse.ErrDims, a.Rows, a.Cols)
 	}
-	if err := a.Validate(); err != nil {
-		return nil, fmt.Errorf("amg: %w", err)
+	if !valid(a) {
+		if err := a.Validate(); err != nil {
+			return nil, fmt.Errorf("amg: %w", err)
+		}
 	}
 	h := &Hierarchy{smoother: s.Smoother, sweeps: s.Smoothing}
 	if a.Rows == 0 {
 		return h, nil
 	}
+	// Independent sequential parts run concurrently with the rest of the
+	// setup: the colouring of each multicolour level, and on every level
+	// the power method with the aggregation. Each writes only its own
+	// result, so the hierarchy does not depend on the scheduling.
+	var bg sync.WaitGroup
+	var colourings []*colouring
+	defer bg.Wait() // also on errors, before the results are dropped
 	for l := 0; ; l++ {
 		lv, err := newLevel(a, l)
 		if err != nil {
 			return nil, err
 		}
 		n := a.Rows
+		if h.multicolour(n) {
+			c := new(colouring)
+			colourings = append(colourings, c)
+			a, inv := a, lv.invDiag
+			bg.Go(func() { *c = colour(a, inv) })
+		} else {
+			colourings = append(colourings, nil)
+		}
 		last := n <= s.CoarseSize || l == s.MaxLevels-1
 		if !last {
-			conn := strength(a, lv.diag(), s.Theta)
+			conn := strength(a, lv.diag, s.Theta)
+			var rho float64
+			var power sync.WaitGroup
+			power.Go(func() { rho = filteredRho(a, lv.diag, lv.invDiag, &conn) })
 			agg, nagg := aggregate(a, conn.strong)
+			power.Wait()
 			if nagg == 0 {
 				last = true // only isolated nodes: no coarse space
 			} else {
-				p, rho, err := prolongator(a, lv.diag(), &conn, agg, nagg)
+				p, err := prolongator(a, lv.diag, &conn, agg, nagg, rho)
 				if err != nil {
 					return nil, err
 				}
@@ -213,42 +248,93 @@ func New(a *sparse.CSR, s Settings) (*Hierarchy, error) {
 			break
 		}
 	}
+	bg.Wait()
+	for l, c := range colourings {
+		if c != nil {
+			h.levels[l].colours = *c
+		}
+	}
 	h.allocate()
 	return h, nil
 }
 
-// newLevel checks the diagonal of a and sets up the diagonal data of
-// level l.
-func newLevel(a *sparse.CSR, l int) (level, error) {
-	lv := level{a: a, invDiag: make([]float64, a.Rows), diagPos: make([]int32, a.Rows)}
-	for i := range a.Rows {
-		k := a.Index(i, i)
-		d := 0.0
-		if k >= 0 {
-			d = a.Val[k]
-		}
-		inv := 1 / d
-		if !(d > 0) || math.IsInf(inv, 0) {
-			what := "matrix"
-			if l > 0 {
-				what = fmt.Sprintf("coarse matrix of level %d (A not positive definite?)", l)
-			}
-			return lv, fmt.Errorf("amg: %w", &sparse.EntryError{Row: i, Col: i,
-				Err: fmt.Errorf("%w: diagonal entry of row %d of the %s is %g", sparse.ErrNotPositive, i, what, d)})
-		}
-		lv.invDiag[i] = inv
-		lv.diagPos[i] = int32(k)
+// valid reports whether a obeys the rules that a.Validate checks (see
+// sparse.CSR), checking the rows in parallel; New calls the sequential
+// a.Validate only when it does not, for the error.
+func valid(a *sparse.CSR) bool {
+	if a.Rows < 0 || a.Cols < 0 || a.Rows > math.MaxInt32 || a.Cols > math.MaxInt32 ||
+		len(a.RowPtr) != a.Rows+1 || len(a.Col) != len(a.Val) || a.RowPtr[0] != 0 || int(a.RowPtr[a.Rows]) != len(a.Col) {
+		return false
 	}
-	return lv, nil
+	var bad atomic.Bool
+	chunks(a.Rows, nil, func(_, lo, hi int) {
+		for i := lo; i < hi; i++ {
+			if a.RowPtr[i+1] < a.RowPtr[i] {
+				bad.Store(true)
+				return
+			}
+		}
+	})
+	if bad.Load() {
+		return false
+	}
+	// The row offsets are now known to lie in [0, len(Col)].
+	chunks(a.Rows, a.RowPtr, func(_, lo, hi int) {
+		col, val := a.Col, a.Val
+		for i := lo; i < hi; i++ {
+			prev := int32(-1)
+			for k := a.RowPtr[i]; k < a.RowPtr[i+1]; k++ {
+				c, v := col[k], val[k]
+				if c <= prev || int(c) >= a.Cols || v-v != 0 { // v-v is NaN for NaN and ±Inf
+					bad.Store(true)
+					return
+				}
+				prev = c
+			}
+		}
+	})
+	return !bad.Load()
 }
 
-// diag returns the diagonal of the level's matrix.
-func (lv *level) diag() []float64 {
-	d := make([]float64, len(lv.invDiag))
-	for i, k := range lv.diagPos {
-		d[i] = lv.a.Val[k]
+// newLevel checks the diagonal of a and sets up the diagonal data of
+// level l. Rows are checked in parallel; of several bad rows the first is
+// reported.
+func newLevel(a *sparse.CSR, l int) (level, error) {
+	lv := level{a: a, diag: make([]float64, a.Rows), invDiag: make([]float64, a.Rows), diagPos: make([]int32, a.Rows)}
+	bad := make([]int, max(1, runtime.GOMAXPROCS(0))) // first bad row of each range
+	for c := range bad {
+		bad[c] = a.Rows
 	}
-	return d
+	chunks(a.Rows, a.RowPtr, func(c, lo, hi int) {
+		for i := lo; i < hi; i++ {
+			k := a.Index(i, i)
+			d := 0.0
+			if k >= 0 {
+				d = a.Val[k]
+			}
+			inv := 1 / d
+			if !(d > 0) || math.IsInf(inv, 0) {
+				bad[c] = i
+				return
+			}
+			lv.diag[i] = d
+			lv.invDiag[i] = inv
+			lv.diagPos[i] = int32(k)
+		}
+	})
+	if i := slices.Min(bad); i < a.Rows {
+		d := 0.0
+		if k := a.Index(i, i); k >= 0 {
+			d = a.Val[k]
+		}
+		what := "matrix"
+		if l > 0 {
+			what = fmt.Sprintf("coarse matrix of level %d (A not positive definite?)", l)
+		}
+		return lv, fmt.Errorf("amg: %w", &sparse.EntryError{Row: i, Col: i,
+			Err: fmt.Errorf("%w: diagonal entry of row %d of the %s is %g", sparse.ErrNotPositive, i, what, d)})
+	}
+	return lv, nil
 }
 
 // allocate sets up the smoother data and the work vectors of every level.
@@ -256,6 +342,8 @@ func (h *Hierarchy) allocate() {
 	for l := range h.levels {
 		lv := &h.levels[l]
 		n := lv.a.Rows
+		diag := lv.diag
+		lv.diag = nil // not needed by Apply
 		if l > 0 {
 			lv.x, lv.b = make([]float64, n), make([]float64, n)
 		}
@@ -264,13 +352,22 @@ func (h *Hierarchy) allocate() {
 			continue
 		}
 		lv.res = make([]float64, n)
+		if lv.colours.colours() > 0 {
+			lv.diagPos = nil
+		}
 		if h.smoother == Chebyshev {
 			lv.d, lv.dn = make([]float64, n), make([]float64, n)
-			lv.lmax = chebyshevSafety * powerRho(lv.a.MulVec, lv.diag(), powerIterations)
+			lv.lmax = chebyshevSafety * powerRho(lv.a, lv.a.Val, diag, lv.invDiag, powerIterations)
 			lv.diagPos = nil
 			lv.invTheta, lv.c1, lv.c2 = chebyshevCoefficients(lv.lmax/chebyshevRatio, lv.lmax, h.sweeps)
 		}
 	}
+}
+
+// multicolour reports whether a level of n rows is smoothed by
+// multicolour Gauss–Seidel (see colourRows).
+func (h *Hierarchy) multicolour(n int) bool {
+	return h.smoother == GaussSeidel && n > colourRows
 }
 
 // Levels returns the number of levels, the fine one included (0 for an

@@ -3,6 +3,7 @@ package amg
 import (
 	"math"
 	"math/rand/v2"
+	"runtime"
 	"slices"
 	"testing"
 
@@ -314,4 +315,240 @@ func maxRelDiff(x, y []float64) float64 {
 		m = max(m, math.Abs(y[i]))
 	}
 	return d / m
+}
+
+// randomRows returns a reproducible rows × cols matrix with about perRow
+// stored entries per row at random columns, sorted, with random values.
+func randomRows(rows, cols, perRow int, seed uint64) *sparse.CSR {
+	r := rand.New(rand.NewPCG(seed, 5))
+	m := &sparse.CSR{Rows: rows, Cols: cols, RowPtr: make([]int32, rows+1)}
+	for i := range rows {
+		row := make([]int32, 0, perRow)
+		for range r.IntN(2*perRow + 1) {
+			row = append(row, int32(r.IntN(cols)))
+		}
+		slices.Sort(row)
+		row = slices.Compact(row)
+		for _, j := range row {
+			m.Col = append(m.Col, j)
+			m.Val = append(m.Val, 2*r.Float64()-1)
+		}
+		m.RowPtr[i+1] = int32(len(m.Col))
+	}
+	return m
+}
+
+// TestTransposeParallel checks the parallel transpose against a
+// sequential counting sort, bit for bit, for several GOMAXPROCS, on a
+// matrix with enough rows to be split.
+func TestTransposeParallel(t *testing.T) {
+	defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(0))
+	a := randomRows(5*setupGrain+17, 3001, 4, 1)
+	want := &sparse.CSR{Rows: a.Cols, Cols: a.Rows, RowPtr: make([]int32, a.Cols+1)}
+	cols := make([][]int32, a.Cols)
+	vals := make([][]float64, a.Cols)
+	for i := range a.Rows {
+		for k := a.RowPtr[i]; k < a.RowPtr[i+1]; k++ {
+			j := a.Col[k]
+			cols[j] = append(cols[j], int32(i))
+			vals[j] = append(vals[j], a.Val[k])
+		}
+	}
+	for j := range a.Cols {
+		want.Col = append(want.Col, cols[j]...)
+		want.Val = append(want.Val, vals[j]...)
+		want.RowPtr[j+1] = int32(len(want.Col))
+	}
+	for _, procs := range []int{1, 2, 3, 8} {
+		runtime.GOMAXPROCS(procs)
+		got := transpose(a)
+		if err := got.Validate(); err != nil {
+			t.Fatalf("GOMAXPROCS=%d: %v", procs, err)
+		}
+		if !slices.Equal(got.RowPtr, want.RowPtr) || !slices.Equal(got.Col, want.Col) || !slices.Equal(got.Val, want.Val) {
+			t.Fatalf("GOMAXPROCS=%d: transpose differs from the sequential one", procs)
+		}
+	}
+}
+
+// TestColour checks the greedy colouring on a random symmetric pattern:
+// every row has one colour, the rows of a colour are ascending and no
+// stored entry joins two rows of the same colour; and a forward
+// multicolour Gauss–Seidel sweep from zero leaves the rows of the last
+// colour with a zero residual (up to rounding), as Gauss–Seidel does for
+// the last row of its order.
+func TestColour(t *testing.T) {
+	n := 3000
+	a := randomRows(n, n, 3, 2)
+	a = symmetrize(a)
+	// Make it diagonally dominant with a stored diagonal.
+	d := &sparse.CSR{Rows: n, Cols: n, RowPtr: make([]int32, n+1)}
+	for i := range n {
+		for k := a.RowPtr[i]; k < a.RowPtr[i+1]; k++ {
+			if int(a.Col[k]) != i {
+				d.Col = append(d.Col, a.Col[k])
+				d.Val = append(d.Val, -math.Abs(a.Val[k]))
+			}
+		}
+		d.Col = append(d.Col, int32(i))
+		d.Val = append(d.Val, 10)
+		lo := int(d.RowPtr[i])
+		sortPairs(d.Col[lo:], d.Val[lo:])
+		d.RowPtr[i+1] = int32(len(d.Col))
+	}
+	a = d
+	lv, err := newLevel(a, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	c := colour(a, lv.invDiag)
+	nc := c.colours()
+	col := make([]int, n)
+	for i := range col {
+		col[i] = -1
+	}
+	maxRow := 0
+	for q := range nc {
+		rows := c.rows[c.ptr[q]:c.ptr[q+1]]
+		if !slices.IsSorted(rows) {
+			t.Fatalf("colour %d: rows not ascending", q)
+		}
+		for _, i := range rows {
+			if col[i] >= 0 {
+				t.Fatalf("row %d has colours %d and %d", i, col[i], q)
+			}
+			col[i] = q
+		}
+	}
+	for i := range n {
+		if col[i] < 0 {
+			t.Fatalf("row %d has no colour", i)
+		}
+		maxRow = max(maxRow, int(a.RowPtr[i+1]-a.RowPtr[i])-1)
+		for k := a.RowPtr[i]; k < a.RowPtr[i+1]; k++ {
+			if j := int(a.Col[k]); j != i && col[j] == col[i] {
+				t.Fatalf("rows %d and %d are joined and have colour %d", i, j, col[i])
+			}
+		}
+	}
+	if nc < 2 || nc > maxRow+1 {
+		t.Errorf("%d colours, want 2..%d", nc, maxRow+1)
+	}
+	// The colour-ordered copy holds the entries of the rows of a, sorted
+	// by the colour of their column, then by column, with the diagonal
+	// entry at diag[q].
+	for q, i := range c.rows {
+		cs, vs := c.m.Col[c.m.RowPtr[q]:c.m.RowPtr[q+1]], c.m.Val[c.m.RowPtr[q]:c.m.RowPtr[q+1]]
+		for u := range cs {
+			if k := a.Index(int(i), int(cs[u])); k < 0 || a.Val[k] != vs[u] {
+				t.Fatalf("row %d of the copy: entry %d is not in row %d", q, cs[u], i)
+			}
+			if u > 0 && (col[cs[u-1]] > col[cs[u]] || col[cs[u-1]] == col[cs[u]] && cs[u-1] >= cs[u]) {
+				t.Fatalf("row %d of the copy is not sorted by colour, then column", q)
+			}
+		}
+		if len(cs) != int(a.RowPtr[i+1]-a.RowPtr[i]) || c.m.Col[c.diag[q]] != i || c.inv[q] != lv.invDiag[i] {
+			t.Fatalf("row %d of the copy: length, diagonal or 1/a_ii wrong", q)
+		}
+	}
+	// A forward sweep from zero and its residual, against the sweep over
+	// full rows and the full residual.
+	b := randomVector(n, 3)
+	x, y := make([]float64, n), make([]float64, n)
+	for q := range nc {
+		mode := sweepZero
+		if q == 0 {
+			mode = sweepFirst
+		}
+		k := colourKernel{c: &c, lo: int(c.ptr[q]), hi: int(c.ptr[q+1]), x: x, b: b, mode: mode}
+		k.rows(0, k.hi-k.lo)
+		k = colourKernel{c: &c, lo: int(c.ptr[q]), hi: int(c.ptr[q+1]), x: y, b: b, mode: sweepFull}
+		k.rows(0, k.hi-k.lo)
+	}
+	if e := maxRelDiff(x, y); e > 1e-14 {
+		t.Errorf("sweep from zero differs from the full sweep by %g", e)
+	}
+	r, ru := make([]float64, n), make([]float64, n)
+	(&residualKernel{a: a, x: x, b: b, r: r}).rows(0, n)
+	(&colourResidualKernel{c: &c, x: x, r: ru}).rows(0, n)
+	if e := maxRelDiff(ru, r); e > 1e-13 {
+		t.Errorf("residual of the upper parts differs from the full one by %g", e)
+	}
+	for _, i := range c.rows[c.ptr[nc-1]:] {
+		if math.Abs(r[i]) > 1e-13 || ru[i] != 0 {
+			t.Fatalf("row %d of the last colour: residual %g (%g) after the forward sweep", i, r[i], ru[i])
+		}
+	}
+}
+
+// TestPowerRho checks the power-method estimate on the 1D Laplacian
+// tridiag(−1, 2, −1), whose D⁻¹A has the largest eigenvalue
+// 1 + cos(π/(n+1)): the estimate is a lower bound that approaches it, and
+// it is bit-identical for several GOMAXPROCS (the matrix has enough rows
+// for the blocks to be split over goroutines).
+func TestPowerRho(t *testing.T) {
+	defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(0))
+	n := 4*setupGrain + 5
+	a := &sparse.CSR{Rows: n, Cols: n, RowPtr: make([]int32, n+1)}
+	for i := range n {
+		for j := max(0, i-1); j <= min(n-1, i+1); j++ {
+			v := -1.0
+			if i == j {
+				v = 2
+			}
+			a.Col = append(a.Col, int32(j))
+			a.Val = append(a.Val, v)
+		}
+		a.RowPtr[i+1] = int32(len(a.Col))
+	}
+	diag, inv := make([]float64, n), make([]float64, n)
+	for i := range diag {
+		diag[i], inv[i] = 2, 0.5
+	}
+	lmax := 1 + math.Cos(math.Pi/float64(n+1))
+	var ref float64
+	for _, procs := range []int{1, 2, 3} {
+		runtime.GOMAXPROCS(procs)
+		rho := powerRho(a, a.Val, diag, inv, 40)
+		if procs == 1 {
+			ref = rho
+			if !(rho <= lmax && rho > 0.99*lmax) {
+				t.Fatalf("estimate %.6f, want in (0.99, 1]·%.6f", rho, lmax)
+			}
+			continue
+		}
+		if math.Float64bits(rho) != math.Float64bits(ref) {
+			t.Fatalf("GOMAXPROCS=%d: estimate %v, want %v (GOMAXPROCS=1)", procs, rho, ref)
+		}
+	}
+}
+
+// TestValid checks that the parallel check agrees with CSR.Validate on a
+// valid matrix and on corruptions of each rule, placed in the last rows
+// so that they fall in another range than the first (the matrix has
+// enough rows to be split).
+func TestValid(t *testing.T) {
+	defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(3))
+	base := laplace1D(4*setupGrain + 3)
+	n := base.Rows
+	last := int(base.RowPtr[n-1]) // first entry of the last row
+	corrupt := map[string]func(a *sparse.CSR){
+		"valid":            func(a *sparse.CSR) {},
+		"NaN":              func(a *sparse.CSR) { a.Val[last] = math.NaN() },
+		"Inf":              func(a *sparse.CSR) { a.Val[last+1] = math.Inf(1) },
+		"column too large": func(a *sparse.CSR) { a.Col[last+1] = int32(n) },
+		"column negative":  func(a *sparse.CSR) { a.Col[last] = -1 },
+		"not ascending":    func(a *sparse.CSR) { a.Col[last], a.Col[last+1] = a.Col[last+1], a.Col[last] },
+		"RowPtr decreases": func(a *sparse.CSR) { a.RowPtr[n-1] = a.RowPtr[n-2] - 1 },
+		"RowPtr end":       func(a *sparse.CSR) { a.RowPtr[n]-- },
+		"lengths":          func(a *sparse.CSR) { a.Val = a.Val[:len(a.Val)-1] },
+		"RowPtr length":    func(a *sparse.CSR) { a.RowPtr = a.RowPtr[:n] },
+	}
+	for name, f := range corrupt {
+		a := &sparse.CSR{Rows: n, Cols: n, RowPtr: slices.Clone(base.RowPtr), Col: slices.Clone(base.Col), Val: slices.Clone(base.Val)}
+		f(a)
+		if got, want := valid(a), a.Validate() == nil; got != want || got != (name == "valid") {
+			t.Errorf("%s: valid = %v, Validate ok = %v", name, got, want)
+		}
+	}
 }

@@ -2,49 +2,33 @@ package amg
 
 import (
 	"math"
+	"runtime"
 
 	"github.com/posteriori-fem/posteriori/internal/sparse"
 )
 
-// filteredKernel computes w = A_F v for the filtered matrix A_F of a,
-// without forming it: a^F_ij = a_ij for strong connections, a^F_ii =
-// diagF_i, and zero elsewhere. A_F has the row sums of a, since the weak
-// connections are lumped into its diagonal.
-type filteredKernel struct {
-	a    *sparse.CSR
-	c    *connections
-	v, w []float64
-}
-
-func (k *filteredKernel) rows(lo, hi int) {
-	a, v, strong := k.a, k.v, k.c.strong
-	for i := lo; i < hi; i++ {
-		s := k.c.diagF[i] * v[i]
-		for q := a.RowPtr[i]; q < a.RowPtr[i+1]; q++ {
-			if strong[q] {
-				s += a.Val[q] * v[a.Col[q]]
-			}
-		}
-		k.w[i] = s
-	}
-}
-
 // powerIterations is the number of steps of the power method used to
 // estimate the largest eigenvalue of D⁻¹A_F (for ω) and of D⁻¹A (for the
-// Chebyshev smoother). The Rayleigh quotient is a lower bound; six steps
-// from a random start give about 90–95% of λ_max on the test matrices,
-// and more steps did not reduce the CG iteration counts.
+// Chebyshev smoother). The Rayleigh quotient is a lower bound of λ_max;
+// see the package documentation for the measurements behind six.
 const powerIterations = 6
 
-// powerRho estimates the largest eigenvalue of D⁻¹M, for a symmetric
-// positive semi-definite M, given by mulVec(w, v) setting w = M v, and
-// positive d = diag, by iters steps of the
-// power method v ← D⁻¹M v started from a fixed pseudo-random vector; it
-// returns the last Rayleigh quotient (v, M v)/(v, D v), a lower bound that
-// converges to λ_max. Each step is one product, which must not depend on
-// GOMAXPROCS, and one sequential pass over the vectors, so the estimate is
+// powerBlock is the number of rows of a block of the power method: the
+// inner products are summed block by block, each block by one goroutine,
+// and the block sums in block order, so that the estimate does not depend
+// on how the blocks are split over goroutines.
+const powerBlock = 4096
+
+// powerRho estimates the largest eigenvalue of D⁻¹M, for the symmetric
+// positive semi-definite matrix M with the structure of a and the values
+// val, and the positive diagonal d = diag with reciprocals invDiag, by
+// iters steps of the power method v ← D⁻¹M v started from a fixed
+// pseudo-random vector; it returns the last Rayleigh quotient
+// (v, M v)/(v, D v), a lower bound that converges to λ_max. Each step is
+// one pass over the matrix and the vectors, fused, split over goroutines
+// by blocks of powerBlock rows (see powerBlock), so the estimate is
 // deterministic.
-func powerRho(mulVec func(w, v []float64), diag []float64, iters int) float64 {
+func powerRho(a *sparse.CSR, val, diag, invDiag []float64, iters int) float64 {
 	n := len(diag)
 	if n == 0 {
 		return 0
@@ -59,35 +43,86 @@ func powerRho(mulVec func(w, v []float64), diag []float64, iters int) float64 {
 		seed ^= seed >> 27
 		v[i] = float64(seed*2685821657736338717>>11)/(1<<53) - 0.5
 	}
+	nb := (n + powerBlock - 1) / powerBlock
+	sums := make([][2]float64, nb) // per block: (v, M v), (M v, D⁻¹ M v)
+	nw := max(1, min(runtime.GOMAXPROCS(0), n/setupGrain, nb))
+	// The blocks of each goroutine, balanced by entries.
+	blockPtr := make([]int32, nb+1)
+	for blk := range nb + 1 {
+		blockPtr[blk] = a.RowPtr[min(n, blk*powerBlock)]
+	}
+	bounds := splitRows(nb, nw, blockPtr)
+	vdv := 0.0 // (v, D v), sequential (once)
+	for i, d := range diag {
+		vdv += v[i] * d * v[i]
+	}
 	lambda := 0.0
-	diag = diag[:n]
 	for range iters {
-		mulVec(w, v)
-		// One pass: the Rayleigh quotient of v, and w ← D⁻¹ M v with its
-		// squared D-norm. The Rayleigh quotient does not depend on the
-		// scale of v, so v is only rescaled to keep it far from overflow.
-		vmv, vdv, nrm := 0.0, 0.0, 0.0
-		for i, d := range diag {
-			vi, wi := v[i], w[i]
-			vmv += vi * wi
-			vdv += vi * d * vi
-			wi /= d
-			w[i] = wi
-			nrm += wi * d * wi
+		// One pass: w ← D⁻¹ M v, (v, M v), and (w, D w) = (Mv, D⁻¹ M v),
+		// which is (v, D v) of the next step. The Rayleigh quotient does
+		// not depend on the scale of v, so v is only rescaled to keep it
+		// far from overflow.
+		parallel(nw, func(c int) {
+			for blk := bounds[c]; blk < bounds[c+1]; blk++ {
+				lo, hi := blk*powerBlock, min(n, (blk+1)*powerBlock)
+				sums[blk] = powerStep(a.RowPtr[lo:hi+1], a.Col, val, invDiag[lo:hi], v, w[lo:hi], v[lo:hi])
+			}
+		})
+		vmv, nrm := 0.0, 0.0
+		for _, s := range sums {
+			vmv += s[0]
+			nrm += s[1]
 		}
 		if !(vdv > 0) || !(nrm > 0) {
 			return lambda
 		}
 		lambda = vmv / vdv
+		vdv = nrm
 		if nrm > 1e200 || nrm < 1e-200 {
 			s := 1 / math.Sqrt(nrm)
 			for i := range w {
 				w[i] *= s
 			}
+			vdv = 1
 		}
 		v, w = w, v
 	}
 	return lambda
+}
+
+// powerStep is the pass of powerRho over one block of rows: with rp the
+// block's row offsets, it sets ws = D⁻¹ M v for the rows of the block (vs
+// and invDiag being the block's part of v and of D⁻¹) and returns
+// ((vs, M v), (M v, D⁻¹ M v)) summed over the block.
+func powerStep(rp, col []int32, val, invDiag, v, ws, vs []float64) [2]float64 {
+	vmv, nrm := 0.0, 0.0
+	ws, vs = ws[:len(invDiag)], vs[:len(invDiag)]
+	rp = rp[:len(invDiag)+1]
+	for i, inv := range invDiag {
+		cs := col[rp[i]:rp[i+1]]
+		vals := val[rp[i]:rp[i+1]]
+		vals = vals[:len(cs)]
+		s := 0.0
+		for q, j := range cs {
+			s += vals[q] * v[j]
+		}
+		vmv += vs[i] * s
+		wi := s * inv
+		ws[i] = wi
+		nrm += s * wi
+	}
+	return [2]float64{vmv, nrm}
+}
+
+// filteredRho returns the estimate ρ of the spectral radius of D⁻¹A_F
+// used for the prolongator: the power-method estimate (powerRho), or the
+// Gershgorin bound if that is smaller, or if the power method fails.
+func filteredRho(a *sparse.CSR, diag, invDiag []float64, c *connections) float64 {
+	rho := c.gershgorin
+	if p := powerRho(a, c.valF, diag, invDiag, powerIterations); p > 0 && p < rho {
+		rho = p
+	}
+	return rho
 }
 
 // prolongator returns the smoothed prolongator
@@ -97,26 +132,15 @@ func powerRho(mulVec func(w, v []float64), diag []float64, iters int) float64 {
 // with D = diag(a), A_F the filtered matrix, P̂ the tentative prolongator of
 // the aggregation agg (P̂_{i,agg[i]} = 1: the constants on each aggregate,
 // the near null space of a scalar diffusion operator; rows of isolated
-// nodes are empty) and ρ the power-method estimate of the spectral radius
-// of D⁻¹A_F (the Gershgorin bound if that is smaller, or if the power
-// method fails). It returns P and ρ.
+// nodes are empty) and ρ the estimate of the spectral radius of D⁻¹A_F of
+// filteredRho.
 //
 // Row i of P is formed directly from row i of a: the term of entry (i, j),
 // j = i or j strong, goes to column agg[j] with the value
 // δ_ij − ω a^F_ij / a_ii; terms for the same aggregate are summed in
 // column order of a. Rows are computed in parallel, each independently of
 // the split, and written straight into the result.
-func prolongator(a *sparse.CSR, diag []float64, c *connections, agg []int32, nagg int) (*sparse.CSR, float64, error) {
-	rho := c.gershgorin
-	fk := &filteredKernel{a: a, c: c}
-	var t team
-	mv := func(w, v []float64) {
-		fk.v, fk.w = v, w
-		t.run(fk, a.Rows, a.RowPtr)
-	}
-	if p := powerRho(mv, diag, powerIterations); p > 0 && p < rho {
-		rho = p
-	}
+func prolongator(a *sparse.CSR, diag []float64, c *connections, agg []int32, nagg int, rho float64) (*sparse.CSR, error) {
 	omega := 0.0
 	if rho > 0 {
 		omega = 4 / (3 * rho)
@@ -133,7 +157,7 @@ func prolongator(a *sparse.CSR, diag []float64, c *connections, agg []int32, nag
 			case j == i:
 				v = 1 - w*c.diagF[i]
 			case c.strong[k]:
-				v = -w * a.Val[k]
+				v = -w * c.valF[k]
 			default:
 				continue
 			}
@@ -171,8 +195,7 @@ func prolongator(a *sparse.CSR, diag []float64, c *connections, agg []int32, nag
 			sortPairs(p.Col[s:e], p.Val[s:e])
 		}
 	}
-	p, err := fill(a.Rows, nagg, count, put)
-	return p, rho, err
+	return fill(a.Rows, nagg, a.RowPtr, count, put)
 }
 
 // sortPairs sorts the short slice cols ascending by insertion, permuting

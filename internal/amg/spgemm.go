@@ -16,37 +16,68 @@ import (
 const setupGrain = 8192
 
 // chunks splits [0, n) into at most GOMAXPROCS consecutive ranges of at
-// least setupGrain indices (one range if n is small) and calls fn(c, lo, hi)
-// for range c on its own goroutine, then waits. It returns the number of
-// ranges. The ranges depend on GOMAXPROCS, so callers must make the result
-// of each index independent of the range it falls in; they then combine
-// the per-range results in range order.
-func chunks(n int, fn func(c, lo, hi int)) int {
+// least setupGrain indices (one range if n is small), balanced by the row
+// offsets rowPtr[0..n] if rowPtr is not nil (by indices otherwise), and
+// calls fn(c, lo, hi) for range c on its own goroutine, then waits. It
+// returns the number of ranges. The ranges depend on GOMAXPROCS, so
+// callers must make the result of each index independent of the range it
+// falls in; they then combine the per-range results in range order.
+func chunks(n int, rowPtr []int32, fn func(c, lo, hi int)) int {
 	nw := max(1, min(runtime.GOMAXPROCS(0), n/setupGrain))
 	if nw == 1 {
 		fn(0, 0, n)
 		return 1
 	}
-	size := (n + nw - 1) / nw
+	bounds := splitRows(n, nw, rowPtr)
 	var wg sync.WaitGroup
 	for c := range nw {
-		lo, hi := c*size, min((c+1)*size, n)
+		lo, hi := bounds[c], bounds[c+1]
 		wg.Go(func() { fn(c, lo, hi) })
 	}
 	wg.Wait()
 	return nw
 }
 
+// splitRows returns the bounds b[0] = 0 ≤ b[1] ≤ … ≤ b[nw] = n of nw
+// consecutive ranges of [0, n) with about equal numbers of entries
+// according to the row offsets rowPtr[0..n] (of indices if rowPtr is nil).
+func splitRows(n, nw int, rowPtr []int32) []int {
+	b := make([]int, nw+1)
+	b[nw] = n
+	for c := 1; c < nw; c++ {
+		if rowPtr == nil {
+			b[c] = n * c / nw
+			continue
+		}
+		base := int64(rowPtr[0])
+		target := base + (int64(rowPtr[n])-base)*int64(c)/int64(nw)
+		lo, hi := b[c-1], n // the first i ≥ b[c-1] with rowPtr[i] ≥ target
+		for lo < hi {
+			m := int(uint(lo+hi) >> 1)
+			if int64(rowPtr[m]) < target {
+				lo = m + 1
+			} else {
+				hi = m
+			}
+		}
+		b[c] = lo
+	}
+	return b
+}
+
 // fill builds a rows × cols CSR whose row lengths are known: count(lo, hi,
 // rowLen) stores the lengths of rows lo..hi-1 in rowLen[lo:hi], and
 // put(lo, hi, m) writes the columns and values of those rows at
-// m.RowPtr[i]. Both run in parallel over row ranges; each row is computed
+// m.RowPtr[i]. Both run in parallel over row ranges: count's balanced by
+// work, offsets that estimate the work of the rows (such as the row
+// offsets of the matrix the rows are computed from; nil balances by
+// rows), put's by the entries of the result. Each row is computed
 // independently of the ranges, and written straight into the result, so
 // there is no copy and no over-allocation. fill fails if the number of
 // entries does not fit in an int32.
-func fill(rows, cols int, count func(lo, hi int, rowLen []int32), put func(lo, hi int, m *sparse.CSR)) (*sparse.CSR, error) {
+func fill(rows, cols int, work []int32, count func(lo, hi int, rowLen []int32), put func(lo, hi int, m *sparse.CSR)) (*sparse.CSR, error) {
 	m := &sparse.CSR{Rows: rows, Cols: cols, RowPtr: make([]int32, rows+1)}
-	chunks(rows, func(_, lo, hi int) { count(lo, hi, m.RowPtr[1:]) })
+	chunks(rows, work, func(_, lo, hi int) { count(lo, hi, m.RowPtr[1:]) })
 	nnz := 0
 	for i := range rows {
 		nnz += int(m.RowPtr[i+1])
@@ -57,7 +88,7 @@ func fill(rows, cols int, count func(lo, hi int, rowLen []int32), put func(lo, h
 	}
 	m.Col = make([]int32, nnz)
 	m.Val = make([]float64, nnz)
-	chunks(rows, func(_, lo, hi int) { put(lo, hi, m) })
+	chunks(rows, m.RowPtr, func(_, lo, hi int) { put(lo, hi, m) })
 	return m, nil
 }
 
@@ -85,13 +116,15 @@ func mul(a, b *sparse.CSR) (*sparse.CSR, error) {
 		}
 		return mark
 	}
+	aRow, aCol, aVal := a.RowPtr, a.Col, a.Val
+	bRow, bCol, bVal := b.RowPtr, b.Col, b.Val
 	count := func(lo, hi int, rowLen []int32) {
 		mark := marker()
 		for i := lo; i < hi; i++ {
 			c := int32(0)
-			for ka := a.RowPtr[i]; ka < a.RowPtr[i+1]; ka++ {
-				k := a.Col[ka]
-				for _, j := range b.Col[b.RowPtr[k]:b.RowPtr[k+1]] {
+			for ka := aRow[i]; ka < aRow[i+1]; ka++ {
+				k := aCol[ka]
+				for _, j := range bCol[bRow[k]:bRow[k+1]] {
 					if mark[j] != int32(i) {
 						mark[j] = int32(i)
 						c++
@@ -107,10 +140,10 @@ func mul(a, b *sparse.CSR) (*sparse.CSR, error) {
 		for i := lo; i < hi; i++ {
 			row := m.Col[m.RowPtr[i]:m.RowPtr[i+1]]
 			q := 0
-			for ka := a.RowPtr[i]; ka < a.RowPtr[i+1]; ka++ {
-				k, av := a.Col[ka], a.Val[ka]
-				bc := b.Col[b.RowPtr[k]:b.RowPtr[k+1]]
-				bv := b.Val[b.RowPtr[k]:b.RowPtr[k+1]]
+			for ka := aRow[i]; ka < aRow[i+1]; ka++ {
+				k, av := aCol[ka], aVal[ka]
+				bc := bCol[bRow[k]:bRow[k+1]]
+				bv := bVal[bRow[k]:bRow[k+1]]
 				bv = bv[:len(bc)]
 				for t, j := range bc {
 					if mark[j] != int32(i) {
@@ -130,7 +163,7 @@ func mul(a, b *sparse.CSR) (*sparse.CSR, error) {
 			}
 		}
 	}
-	return fill(a.Rows, b.Cols, count, put)
+	return fill(a.Rows, b.Cols, a.RowPtr, count, put)
 }
 
 // sortShort sorts a short slice in place: insertion sort for the typical
@@ -150,29 +183,63 @@ func sortShort(s []int32) {
 	}
 }
 
+// maxTransposeChunks bounds the number of row ranges of transpose, each of
+// which keeps a count per column of a.
+const maxTransposeChunks = 8
+
 // transpose returns aᵀ. Entries are distributed by a counting sort over
-// the columns of a; since the rows of a are visited in ascending order, the
-// rows of the result are sorted. It is sequential and linear in
-// Rows + Cols + NNZ.
+// the columns of a, in parallel: the rows of a are split into ranges, each
+// range counts its entries per column, the counts give every range its
+// place in each row of the result (ranges in order), and then each range
+// copies its entries there, visiting its rows in ascending order. The
+// rows of the result are therefore sorted, and the result is the same
+// whatever the split. It is linear in Rows + NNZ + (ranges · Cols).
 func transpose(a *sparse.CSR) *sparse.CSR {
 	t := &sparse.CSR{Rows: a.Cols, Cols: a.Rows, RowPtr: make([]int32, a.Cols+1), Col: make([]int32, a.NNZ()), Val: make([]float64, a.NNZ())}
-	for _, j := range a.Col {
-		t.RowPtr[j+1]++
-	}
+	nw := max(1, min(runtime.GOMAXPROCS(0), maxTransposeChunks, a.Rows/setupGrain))
+	bounds := splitRows(a.Rows, nw, a.RowPtr)
+	next := make([][]int32, nw) // per range: its count, then its next position, per column
+	parallel(nw, func(c int) {
+		cnt := make([]int32, a.Cols)
+		for _, j := range a.Col[a.RowPtr[bounds[c]]:a.RowPtr[bounds[c+1]]] {
+			cnt[j]++
+		}
+		next[c] = cnt
+	})
+	pos := int32(0)
 	for j := range a.Cols {
-		t.RowPtr[j+1] += t.RowPtr[j]
-	}
-	next := slices.Clone(t.RowPtr[:a.Cols])
-	for i := range a.Rows {
-		for k := a.RowPtr[i]; k < a.RowPtr[i+1]; k++ {
-			j := a.Col[k]
-			q := next[j]
-			next[j]++
-			t.Col[q] = int32(i)
-			t.Val[q] = a.Val[k]
+		t.RowPtr[j] = pos
+		for c := range nw {
+			n := next[c][j]
+			next[c][j] = pos
+			pos += n
 		}
 	}
+	t.RowPtr[a.Cols] = pos
+	parallel(nw, func(c int) {
+		nx := next[c]
+		for i := bounds[c]; i < bounds[c+1]; i++ {
+			for k := a.RowPtr[i]; k < a.RowPtr[i+1]; k++ {
+				j := a.Col[k]
+				q := nx[j]
+				nx[j]++
+				t.Col[q] = int32(i)
+				t.Val[q] = a.Val[k]
+			}
+		}
+	})
 	return t
+}
+
+// parallel calls fn(0), …, fn(n-1), each on its own goroutine (fn(0) on
+// the calling one), and waits.
+func parallel(n int, fn func(c int)) {
+	var wg sync.WaitGroup
+	for c := 1; c < n; c++ {
+		wg.Go(func() { fn(c) })
+	}
+	fn(0)
+	wg.Wait()
 }
 
 // symmetrize returns (a + aᵀ)/2 for a square a whose asymmetry is only

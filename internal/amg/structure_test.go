@@ -129,8 +129,10 @@ func TestMaxLevels(t *testing.T) {
 
 // TestDeterministic checks that setup and V-cycle give bit-identical
 // results with GOMAXPROCS 1, 2 and 3, on a matrix large enough (> 20000
-// rows on the two finest levels) for every parallel path to be taken. This
-// is the rule of the house (DEVELOPERS.md).
+// rows on the two finest levels, and without -short more than
+// amg.ColourRows on the finest, which is then smoothed by multicolour
+// Gauss–Seidel) for every parallel path to be taken. This is the rule of
+// the house (DEVELOPERS.md).
 func TestDeterministic(t *testing.T) {
 	defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(0))
 	f := family{lshape, true, 1}
@@ -161,6 +163,9 @@ func TestDeterministic(t *testing.T) {
 				if n := amg.LevelMatrix(h, 1).Rows; n <= amg.ParallelRows {
 					t.Logf("level 1 has only %d rows", n)
 				}
+				if n := sys.A.Rows; n <= amg.ColourRows && !testing.Short() {
+					t.Errorf("level 0 has only %d rows, want > %d", n, amg.ColourRows)
+				}
 				continue
 			}
 			if h.Levels() != len(refLevels) {
@@ -183,12 +188,15 @@ func TestDeterministic(t *testing.T) {
 }
 
 // TestNoAllocs checks that Apply allocates nothing, on the serial path
-// (a small matrix) and on the parallel one (more than 20000 rows, with
-// GOMAXPROCS 2).
+// (a small matrix) and on the parallel one (more than amg.ColourRows rows,
+// with GOMAXPROCS 2).
 func TestNoAllocs(t *testing.T) {
 	defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(2))
-	for _, r := range []int{0, 1} {
+	for _, r := range []int{0, 2} {
 		sys := assemble(t, square, familyMesh(t, family{square, false, 1}, r), 1)
+		if r > 0 && sys.A.Rows <= amg.ColourRows {
+			t.Fatalf("%d rows, want > %d", sys.A.Rows, amg.ColourRows)
+		}
 		for _, s := range []amg.Settings{{}, {Smoother: amg.Chebyshev, Smoothing: 3}} {
 			h, err := amg.New(sys.A, s)
 			if err != nil {

@@ -3,6 +3,8 @@ package sparse
 import (
 	"fmt"
 	"math"
+	"runtime"
+	"sync"
 )
 
 // Operator is a square linear operator y = A x, as CG needs it. *CSR
@@ -101,10 +103,15 @@ type CGResult struct {
 // CG returns at once with 0 iterations.
 //
 // CG allocates three work vectors of length n per call (four unless pre is
-// Identity) and nothing per iteration; any allocation per iteration comes
-// from the operator or the preconditioner. Inner products are
-// sequential loops with a fixed summation order (four interleaved partial
-// sums), so results are reproducible.
+// Identity), for n > 65536 and GOMAXPROCS > 1 also a few small objects for
+// the goroutines of its vector operations, and nothing per iteration; any
+// allocation per iteration comes from the operator or the preconditioner.
+// Inner products are summed in blocks of 8192 elements (four interleaved
+// partial sums within a block, see dot) and the block sums in block order;
+// for n > 65536 the blocks, the vector updates and, for a *CSR operator,
+// the product with A (fused with the inner product p·Ap) are split over up
+// to GOMAXPROCS goroutines, whole blocks each, so results are
+// reproducible and do not depend on GOMAXPROCS.
 //
 // Errors: ErrDims if A is not square or b, x or pre (if it has a
 // Len() int method) do not match it; ErrSettings for invalid settings;
@@ -140,7 +147,7 @@ func CG(a Operator, b, x []float64, pre Preconditioner, s CGSettings) (CGResult,
 	if i := firstNonFinite(x); i >= 0 {
 		return res, fmt.Errorf("%w: initial guess x[%d] = %g", ErrNotFinite, i, x[i])
 	}
-	bnorm := math.Sqrt(dot(b, b))
+	bnorm := math.Sqrt(blockDot(b, b))
 	if bnorm == 0 {
 		clear(x)
 		res.Converged = true
@@ -161,6 +168,10 @@ func CG(a Operator, b, x []float64, pre Preconditioner, s CGSettings) (CGResult,
 	z := r
 	if !ident {
 		z = make([]float64, n)
+	}
+	var v *vecOps // nil: the vector operations run on this goroutine
+	if n > vecParallel && runtime.GOMAXPROCS(0) > 1 {
+		v = newVecOps(a, n)
 	}
 
 	rr := trueResidual(a, b, x, r, q)
@@ -184,20 +195,17 @@ func CG(a Operator, b, x []float64, pre Preconditioner, s CGSettings) (CGResult,
 		rzNew := rr
 		if !ident {
 			pre.Apply(z, r)
-			rzNew = dot(r, z)
+			rzNew = v.dot(r, z)
 		}
 		if !(rzNew > 0) || math.IsInf(rzNew, 0) {
 			res.Residual, res.Converged = finalResidual(a, b, x, r, q, bnorm, thresh)
 			return res, fmt.Errorf("%w at iteration %d: r·M⁻¹r = %g (preconditioner not SPD or bad data)", ErrBreakdown, res.Iterations, rzNew)
 		}
 		if restart {
-			copy(p, z)
+			v.xpby(p, z, 0)
 			restart = false
 		} else {
-			beta := rzNew / rz
-			for i, zi := range z {
-				p[i] = zi + beta*p[i]
-			}
+			v.xpby(p, z, rzNew/rz)
 		}
 		rz = rzNew
 
@@ -207,14 +215,13 @@ func CG(a Operator, b, x []float64, pre Preconditioner, s CGSettings) (CGResult,
 				ErrNotConverged, res.Iterations, res.Residual, tol)
 		}
 
-		a.MulVec(q, p)
-		pq := dot(p, q)
+		pq := v.mulDot(a, q, p)
 		if !(pq > 0) || math.IsInf(pq, 0) {
 			res.Residual, res.Converged = finalResidual(a, b, x, r, q, bnorm, thresh)
 			return res, fmt.Errorf("%w at iteration %d: p·Ap = %g (operator not SPD or bad data)", ErrBreakdown, res.Iterations, pq)
 		}
 		alpha := rz / pq
-		rr = update(x, r, p, q, alpha)
+		rr = v.update(x, r, p, q, alpha)
 		res.Iterations++
 		if math.IsNaN(rr) || math.IsInf(rr, 0) {
 			res.Residual, res.Converged = finalResidual(a, b, x, r, q, bnorm, thresh)
@@ -267,7 +274,8 @@ func finalResidual(a Operator, b, x, r, q []float64, bnorm, thresh float64) (rel
 	return rn / bnorm, rn <= thresh
 }
 
-// trueResidual sets r = b - A x, using q as scratch, and returns ||r||².
+// trueResidual sets r = b - A x, using q as scratch, and returns ||r||²
+// (summed by blocks, like vecOps.dot).
 func trueResidual(a Operator, b, x, r, q []float64) float64 {
 	a.MulVec(q, x)
 	q = q[:len(b)]
@@ -275,7 +283,7 @@ func trueResidual(a Operator, b, x, r, q []float64) float64 {
 	for i, bi := range b {
 		r[i] = bi - q[i]
 	}
-	return dot(r, r)
+	return blockDot(r, r)
 }
 
 // dot returns x·y. It keeps four partial sums, over the indices ≡ 0, 1, 2,
@@ -340,4 +348,193 @@ func firstNonFinite(v []float64) int {
 		}
 	}
 	return -1
+}
+
+// Vector operations of CG on blocks (see CG): vecBlock is the length of a
+// block, and vectors longer than vecParallel are processed by several
+// goroutines, each given whole blocks, at least vecParallel/2 elements.
+const (
+	vecBlock    = 1 << 13
+	vecParallel = 1 << 16
+)
+
+// blockDot returns x·y summed by blocks of vecBlock elements: the block
+// sums (each computed by dot) are added in block order. For
+// len(x) ≤ vecBlock it is dot(x, y).
+func blockDot(x, y []float64) float64 {
+	s := 0.0
+	for lo := 0; lo < len(x); lo += vecBlock {
+		hi := min(len(x), lo+vecBlock)
+		s += dot(x[lo:hi], y[lo:hi])
+	}
+	return s
+}
+
+// Operations of vecOps.
+const (
+	opDot = iota
+	opXpby
+	opMulDot
+	opUpdate
+)
+
+// vecOps runs the vector operations of one CG call block by block, on
+// the calling goroutine and on workers whose goroutine bodies are
+// closures built once, so that an iteration allocates nothing. Each block
+// is handled by one goroutine and its sum is stored in sums; the sums are
+// then added in block order, so the results do not depend on the number
+// of goroutines. A nil *vecOps does the same on the calling goroutine
+// alone, without allocating (vectors of at most vecParallel elements, or
+// GOMAXPROCS = 1).
+type vecOps struct {
+	m    *CSR // the operator, if it is a CSR (fused product), else nil
+	n    int
+	sums []float64 // per block
+
+	nw  int // goroutines, the caller's included
+	wg  sync.WaitGroup
+	fns []func()
+	// The blocks of worker w are even[w]..even[w+1]-1, balanced by
+	// elements, or for the product with m byNNZ[w]..byNNZ[w+1]-1,
+	// balanced by the entries of m.
+	even, byNNZ []int
+
+	// The current operation and its operands.
+	op               int
+	x, y, r, p, q, z []float64
+	alpha            float64
+}
+
+// newVecOps prepares the vector operations for n unknowns and the
+// operator a.
+func newVecOps(a Operator, n int) *vecOps {
+	nb := (n + vecBlock - 1) / vecBlock
+	v := &vecOps{n: n, sums: make([]float64, nb)}
+	v.m, _ = a.(*CSR)
+	v.nw = max(1, min(runtime.GOMAXPROCS(0), n/(vecParallel/2), nb))
+	v.even, v.byNNZ = make([]int, v.nw+1), make([]int, v.nw+1)
+	for w := range v.nw + 1 {
+		v.even[w] = nb * w / v.nw
+	}
+	copy(v.byNNZ, v.even)
+	if v.m != nil {
+		// The first block b ≥ byNNZ[w-1] at whose first row the entries
+		// reach the share of workers 0..w-1.
+		total := int64(v.m.RowPtr[n])
+		for w := 1; w < v.nw; w++ {
+			target := total * int64(w) / int64(v.nw)
+			b := v.byNNZ[w-1]
+			for b < nb && int64(v.m.RowPtr[b*vecBlock]) < target {
+				b++
+			}
+			v.byNNZ[w] = b
+		}
+	}
+	for w := 1; w < v.nw; w++ {
+		v.fns = append(v.fns, func() {
+			v.blocks(w)
+			v.wg.Done()
+		})
+	}
+	return v
+}
+
+// run performs the current operation on all blocks and returns the sum
+// of the block sums (zero for an operation without sums).
+func (v *vecOps) run() float64 {
+	v.wg.Add(v.nw - 1)
+	for _, f := range v.fns {
+		go f()
+	}
+	v.blocks(0)
+	v.wg.Wait()
+	s := 0.0
+	for _, b := range v.sums {
+		s += b
+	}
+	return s
+}
+
+// blocks performs the current operation on the blocks of worker w.
+func (v *vecOps) blocks(w int) {
+	bounds := v.even
+	if v.op == opMulDot {
+		bounds = v.byNNZ
+	}
+	for b := bounds[w]; b < bounds[w+1]; b++ {
+		lo, hi := b*vecBlock, min(v.n, (b+1)*vecBlock)
+		switch v.op {
+		case opDot:
+			v.sums[b] = dot(v.x[lo:hi], v.y[lo:hi])
+		case opXpby:
+			v.sums[b] = 0
+			p, z := v.p[lo:hi], v.z[lo:hi]
+			z = z[:len(p)]
+			if v.alpha == 0 {
+				copy(p, z)
+				break
+			}
+			for i, zi := range z {
+				p[i] = zi + v.alpha*p[i]
+			}
+		case opMulDot:
+			v.m.mulRows(v.q, v.p, lo, hi)
+			v.sums[b] = dot(v.p[lo:hi], v.q[lo:hi])
+		case opUpdate:
+			v.sums[b] = update(v.x[lo:hi], v.r[lo:hi], v.p[lo:hi], v.q[lo:hi], v.alpha)
+		}
+	}
+}
+
+// dot returns x·y, summed by blocks like blockDot.
+func (v *vecOps) dot(x, y []float64) float64 {
+	if v == nil {
+		return blockDot(x, y)
+	}
+	v.op, v.x, v.y = opDot, x, y
+	return v.run()
+}
+
+// xpby sets p = z + beta p (p = z for beta = 0).
+func (v *vecOps) xpby(p, z []float64, beta float64) {
+	if v == nil {
+		if beta == 0 {
+			copy(p, z)
+			return
+		}
+		z = z[:len(p)]
+		for i, zi := range z {
+			p[i] = zi + beta*p[i]
+		}
+		return
+	}
+	v.op, v.p, v.z, v.alpha = opXpby, p, z, beta
+	v.run()
+}
+
+// mulDot sets q = A p and returns p·q, summed by blocks; for a CSR
+// operator and several goroutines the product and the inner product are
+// fused, block by block.
+func (v *vecOps) mulDot(a Operator, q, p []float64) float64 {
+	if v == nil || v.m == nil {
+		a.MulVec(q, p)
+		return v.dot(p, q)
+	}
+	v.op, v.q, v.p = opMulDot, q, p
+	return v.run()
+}
+
+// update sets x += alpha p and r -= alpha q and returns the new r·r,
+// summed by blocks.
+func (v *vecOps) update(x, r, p, q []float64, alpha float64) float64 {
+	if v == nil {
+		s := 0.0
+		for lo := 0; lo < len(p); lo += vecBlock {
+			hi := min(len(p), lo+vecBlock)
+			s += update(x[lo:hi], r[lo:hi], p[lo:hi], q[lo:hi], alpha)
+		}
+		return s
+	}
+	v.op, v.x, v.r, v.p, v.q, v.alpha = opUpdate, x, r, p, q, alpha
+	return v.run()
 }

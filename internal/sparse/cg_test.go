@@ -3,6 +3,7 @@ package sparse
 import (
 	"errors"
 	"math"
+	"runtime"
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
@@ -280,5 +281,82 @@ func TestDotUpdate(t *testing.T) {
 		if relDiff(x, wx) != 0 || relDiff(r, wr) != 0 || math.Abs(rr-wrr) > 1e-15*float64(n+1) {
 			t.Errorf("n=%d: update differs", n)
 		}
+	}
+}
+
+// opOnly hides the *CSR behind the Operator interface, so that CG takes
+// its path for general operators.
+type opOnly struct{ *CSR }
+
+func (o opOnly) MulVec(dst, x []float64) { o.CSR.MulVec(dst, x) }
+func (o opOnly) Dims() (int, int)        { return o.CSR.Dims() }
+
+// TestCGParallelDeterministic checks that CG gives bit-identical iterates
+// for GOMAXPROCS 1 (vector operations on one goroutine), 2 and 3, on a
+// system large enough (more than vecParallel unknowns) for the vector
+// operations to be split, with a CSR operator (fused product) and a
+// general one, and that blockDot is the sum of the block products.
+func TestCGParallelDeterministic(t *testing.T) {
+	defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(0))
+	a := laplacian2D(t, 300, 300)
+	if a.Rows <= vecParallel {
+		t.Fatalf("%d rows, want > %d", a.Rows, vecParallel)
+	}
+	rnd := newRand()
+	b := randomVec(rnd, a.Rows)
+	j, err := NewJacobi(a)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, op := range []Operator{a, opOnly{a}} {
+		for _, pre := range []Preconditioner{Identity{}, j} {
+			var ref []float64
+			var refRes CGResult
+			for _, procs := range []int{1, 2, 3} {
+				runtime.GOMAXPROCS(procs)
+				x := make([]float64, a.Rows)
+				res, err := CG(op, b, x, pre, CGSettings{Tol: 1e-6, MaxIter: 60})
+				if err != nil && !errors.Is(err, ErrNotConverged) {
+					t.Fatal(err)
+				}
+				if ref == nil {
+					ref, refRes = x, res
+					continue
+				}
+				if res != refRes {
+					t.Fatalf("%T %T GOMAXPROCS=%d: %+v, want %+v", op, pre, procs, res, refRes)
+				}
+				for i := range x {
+					if math.Float64bits(x[i]) != math.Float64bits(ref[i]) {
+						t.Fatalf("%T %T GOMAXPROCS=%d: x[%d] = %v, want %v", op, pre, procs, i, x[i], ref[i])
+					}
+				}
+			}
+		}
+	}
+	// The parallel path allocates per call, not per iteration.
+	runtime.GOMAXPROCS(2)
+	x := make([]float64, a.Rows)
+	allocs := func(iters int) float64 {
+		return testing.AllocsPerRun(3, func() {
+			clear(x)
+			CG(a, b, x, j, CGSettings{Tol: 1e-12, MaxIter: iters})
+		})
+	}
+	if few, many := allocs(5), allocs(40); !raceEnabled && (few != many || few > 12) {
+		t.Errorf("parallel CG: %v allocations for 5 iterations, %v for 40; want equal and ≤ 12", few, many)
+	}
+	y := randomVec(rnd, a.Rows)
+	want := 0.0
+	for lo := 0; lo < len(b); lo += vecBlock {
+		hi := min(len(b), lo+vecBlock)
+		s := 0.0
+		for i := lo; i < hi; i++ {
+			s += b[i] * y[i]
+		}
+		want += s
+	}
+	if got := blockDot(b, y); math.Abs(got-want) > 1e-12*math.Abs(want) {
+		t.Errorf("blockDot = %g, want %g", got, want)
 	}
 }

@@ -39,8 +39,9 @@
 //
 // Results are deterministic: CSR.MulVec sums each row in column order on a
 // single goroutine, whatever the number of goroutines used, and CG's inner
-// products are sequential loops with a fixed summation order. Repeated runs
-// give bit-identical answers for any GOMAXPROCS.
+// products are sums of fixed blocks, each summed in a fixed order on one
+// goroutine, added in block order. Repeated runs give bit-identical
+// answers for any GOMAXPROCS.
 //
 // # Conjugate gradients
 //
