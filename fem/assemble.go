@@ -77,7 +77,7 @@ func Assemble(s *Space, p *Problem) (*System, error) {
 	} else {
 		a = pattern(s)
 		b = make([]float64, s.NumDOF())
-		if err := assembleElements(s, p, rules, a, b); err != nil {
+		if err := assembleP2(s, p, rules, a, b); err != nil {
 			return nil, err
 		}
 	}
@@ -309,8 +309,12 @@ func element(s *Space, p *Problem, r rules, w *elementWork, k int, ke, fe []floa
 		if deg == 1 {
 			return elementP1(p, r, g, t, k, ke, fe)
 		}
+		stiffnessP2(g, t, ke)
 	}
 	for q := range r.stiff.Len() {
+		if p.PiecewiseConstant() {
+			break // the closed form above
+		}
 		l := [3]float64{r.stiff.Bary[3*q], r.stiff.Bary[3*q+1], r.stiff.Bary[3*q+2]}
 		if !p.PiecewiseConstant() {
 			x, y := g.point(l)
@@ -362,6 +366,56 @@ func element(s *Space, p *Problem, r rules, w *elementWork, k int, ke, fe []floa
 		}
 	}
 	return nil
+}
+
+// stiffnessP2 writes the upper triangle (j ≥ i) of the P2 stiffness
+// matrix of a constant tensor t into ke, in closed form. With
+// G_ab = |T| ∇λ_a·t∇λ_b, the gradients ∇φ_i = (4λ_i − 1)∇λ_i and
+// ∇φ_{3+m} = 4(λ_p∇λ_q + λ_q∇λ_p) (p, q the ends of the edge opposite
+// vertex m) and the means of λ_a (1/3) and λ_aλ_b ((1 + δ_ab)/12) over T
+// give K_ii = G_ii, K_ij = −G_ij/3 (vertices i ≠ j); K_{i,3+m} = 4/3 G_io
+// when i is an end of edge m and o its other end, 0 when i = m; and
+// K_{3+m,3+n} = 4/3 [(1+δ_pr)G_qs + (1+δ_ps)G_qr + (1+δ_qr)G_ps + (1+δ_qs)G_pr]
+// for edges p–q and r–s. The degree-2 rule gives the same, exactly.
+func stiffnessP2(g *geometry, t Tensor, ke []float64) {
+	var G [3][3]float64
+	for a := range 3 {
+		fx, fy := t.Apply(g.gl[a][0], g.gl[a][1])
+		for b := a; b < 3; b++ {
+			G[a][b] = g.area * (fx*g.gl[b][0] + fy*g.gl[b][1])
+			G[b][a] = G[a][b]
+		}
+	}
+	d := func(a, b int) float64 {
+		if a == b {
+			return 2
+		}
+		return 1
+	}
+	for i := range 3 {
+		ke[6*i+i] = G[i][i]
+		for j := i + 1; j < 3; j++ {
+			ke[6*i+j] = -G[i][j] / 3
+		}
+		for m := range 3 {
+			p, q := (m+1)%3, (m+2)%3
+			switch i {
+			case p:
+				ke[6*i+3+m] = 4. / 3 * G[i][q]
+			case q:
+				ke[6*i+3+m] = 4. / 3 * G[i][p]
+			default:
+				ke[6*i+3+m] = 0
+			}
+		}
+	}
+	for m := range 3 {
+		p, q := (m+1)%3, (m+2)%3
+		for n := m; n < 3; n++ {
+			r, s := (n+1)%3, (n+2)%3
+			ke[6*(3+m)+3+n] = 4. / 3 * (d(p, r)*G[q][s] + d(p, s)*G[q][r] + d(q, r)*G[p][s] + d(q, s)*G[p][r])
+		}
+	}
 }
 
 // elementP1 computes the P1 element matrix and load in closed form for a

@@ -1,6 +1,7 @@
 package fem
 
 import (
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"runtime"
@@ -27,10 +28,10 @@ func jittered(t *testing.T, m *mesh.Mesh, h float64, seed uint64) *mesh.Mesh {
 	return &j
 }
 
-// The P1 assembly by edges (the diagonal from the row sums, the loads
-// split over edges) gives the matrix and load of the element-by-element
-// assembly with the closed-form element matrices, to rounding.
-func TestP1AssemblyMatchesElements(t *testing.T) {
+// The P1 and P2 assemblies by edges (the diagonals of vertex rows from the
+// row sums, the shared entries in slots per side) give the matrix and load
+// of the element-by-element assembly, to rounding.
+func TestAssemblyMatchesElements(t *testing.T) {
 	q, err := mesh.Quadrants(12)
 	if err != nil {
 		t.Fatal(err)
@@ -57,55 +58,65 @@ func TestP1AssemblyMatchesElements(t *testing.T) {
 		}, F: f},
 		"reaction": {C: 1e3},
 	}
-	for mn, m := range meshes {
+	for key, m := range meshes {
 		for pn, p := range problems {
-			if p.A != nil && mn != "quadrants" {
+			if p.A != nil && key != "quadrants" {
 				continue
 			}
-			s, _ := NewSpace(m, 1)
-			r, err := elementRules(1, p)
-			if err != nil {
-				t.Fatal(err)
-			}
-			ref := pattern(s)
-			refB := make([]float64, s.NumDOF())
-			if err := assembleElements(s, p, r, ref, refB); err != nil {
-				t.Fatal(err)
-			}
-			a, b, err := assembleP1(s, p, r)
-			if err != nil {
-				t.Fatal(err)
-			}
-			if len(a.Col) != len(ref.Col) {
-				t.Fatalf("%s/%s: %d entries, want %d", mn, pn, len(a.Col), len(ref.Col))
-			}
-			bmax := 0.0
-			for _, v := range refB {
-				bmax = max(bmax, math.Abs(v))
-			}
-			for i := range a.Rows {
-				rmax := 0.0
-				for q := ref.RowPtr[i]; q < ref.RowPtr[i+1]; q++ {
-					rmax = max(rmax, math.Abs(ref.Val[q]))
+			for deg := 1; deg <= 2; deg++ {
+				mn := fmt.Sprintf("%s/P%d", key, deg)
+				s, _ := NewSpace(m, deg)
+				r, err := elementRules(deg, p)
+				if err != nil {
+					t.Fatal(err)
 				}
-				for q := ref.RowPtr[i]; q < ref.RowPtr[i+1]; q++ {
-					if a.RowPtr[i] != ref.RowPtr[i] || a.Col[q] != ref.Col[q] {
-						t.Fatalf("%s/%s: row %d: pattern differs", mn, pn, i)
-					}
-					if d := math.Abs(a.Val[q] - ref.Val[q]); d > arithTol*rmax {
-						t.Fatalf("%s/%s: A[%d,%d] = %.17g, elementwise %.17g", mn, pn, i, a.Col[q], a.Val[q], ref.Val[q])
-					}
+				ref := pattern(s)
+				refB := make([]float64, s.NumDOF())
+				if err := assembleElements(s, p, r, ref, refB); err != nil {
+					t.Fatal(err)
 				}
-				if d := math.Abs(b[i] - refB[i]); d > arithTol*bmax {
-					t.Fatalf("%s/%s: b[%d] = %.17g, elementwise %.17g", mn, pn, i, b[i], refB[i])
+				var a *Matrix
+				var b []float64
+				if deg == 1 {
+					a, b, err = assembleP1(s, p, r)
+				} else {
+					a, b = pattern(s), make([]float64, s.NumDOF())
+					err = assembleP2(s, p, r, a, b)
+				}
+				if err != nil {
+					t.Fatal(err)
+				}
+				if len(a.Col) != len(ref.Col) {
+					t.Fatalf("%s/%s: %d entries, want %d", mn, pn, len(a.Col), len(ref.Col))
+				}
+				bmax := 0.0
+				for _, v := range refB {
+					bmax = max(bmax, math.Abs(v))
+				}
+				for i := range a.Rows {
+					rmax := 0.0
+					for q := ref.RowPtr[i]; q < ref.RowPtr[i+1]; q++ {
+						rmax = max(rmax, math.Abs(ref.Val[q]))
+					}
+					for q := ref.RowPtr[i]; q < ref.RowPtr[i+1]; q++ {
+						if a.RowPtr[i] != ref.RowPtr[i] || a.Col[q] != ref.Col[q] {
+							t.Fatalf("%s/%s: row %d: pattern differs", mn, pn, i)
+						}
+						if d := math.Abs(a.Val[q] - ref.Val[q]); d > arithTol*rmax {
+							t.Fatalf("%s/%s: A[%d,%d] = %.17g, elementwise %.17g", mn, pn, i, a.Col[q], a.Val[q], ref.Val[q])
+						}
+					}
+					if d := math.Abs(b[i] - refB[i]); d > arithTol*bmax {
+						t.Fatalf("%s/%s: b[%d] = %.17g, elementwise %.17g", mn, pn, i, b[i], refB[i])
+					}
 				}
 			}
 		}
 	}
 }
 
-// The P1 passes split over goroutines (the pattern above 2·2^15 vertices)
-// give bit-identical systems whatever GOMAXPROCS is.
+// The P1 and P2 passes split over goroutines (the P1 pattern above
+// 2·2^15 vertices) give bit-identical systems whatever GOMAXPROCS is.
 func TestP1AssembleDeterministicLarge(t *testing.T) {
 	if testing.Short() {
 		t.Skip("large mesh")
@@ -118,6 +129,8 @@ func TestP1AssembleDeterministicLarge(t *testing.T) {
 		F:         func(x, y float64) float64 { return math.Exp(x - y) },
 		Dirichlet: map[int32]Func{mesh.SideBottom: func(x, y float64) float64 { return x }}}
 	defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(0))
-	s, _ := NewSpace(m, 1)
-	assembleSame(t, s, p)
+	for deg := 1; deg <= 2; deg++ {
+		s, _ := NewSpace(m, deg)
+		assembleSame(t, s, p)
+	}
 }
