@@ -36,10 +36,6 @@ type System struct {
 // degree p + LoadExtraDegree.
 const LoadExtraDegree = 2
 
-// block is the number of triangles whose element matrices are computed in
-// parallel before being added, in triangle order, to the global matrix.
-const block = 16384
-
 // Assemble builds the linear system of p on s. Every pass is split over
 // GOMAXPROCS goroutines and every entry is summed in an order that does not
 // depend on the split, so the result is bit-identical whatever GOMAXPROCS
@@ -50,8 +46,10 @@ const block = 16384
 // on every triangle) plus the sum of its mass entries (the P1 mass matrix
 // has M_ii = Σ_{j≠i} M_ij); the load of a vertex in a triangle is split in
 // halves over the triangle's two edges at the vertex and summed over the
-// row. For P2 the element matrices are summed in triangle order. Assemble
-// is linear in the number of triangles.
+// row. P2 follows the same scheme (see assembleP2): entries of one
+// triangle are written directly, those of an edge through slots, and the
+// vertex diagonals are minus the row sums. Assemble is linear in the
+// number of triangles.
 //
 // It returns an error wrapping ErrNotFinite, with the triangle and point,
 // when the source, the diffusion or the boundary data evaluate to NaN or
@@ -203,59 +201,6 @@ type elementWork struct {
 
 func newElementWork(ld int) *elementWork {
 	return &elementWork{phi: make([]float64, ld), grad: make([][2]float64, ld)}
-}
-
-// assembleElements adds the element matrices and loads of every triangle to
-// a and b (P2); the positions of the entries are found by binary search in
-// the rows.
-func assembleElements(s *Space, p *Problem, rules rules, a *Matrix, b []float64) error {
-	nt, ld := s.Mesh.NumTriangles(), s.LocalDOFs()
-	ke := make([]float64, block*ld*ld)
-	fe := make([]float64, block*ld)
-	pos := make([]int32, block*ld*ld) // of entry (i, j) of each element matrix in a.Val
-	dofs := make([]int32, block*ld)
-	for k0 := 0; k0 < nt; k0 += block {
-		k1 := min(k0+block, nt)
-		err := parallel.For(k1-k0, 512, func(lo, hi int) error {
-			w := newElementWork(ld)
-			for off := lo; off < hi; off++ {
-				k := k0 + off
-				if err := element(s, p, rules, w, k, ke[off*ld*ld:(off+1)*ld*ld], fe[off*ld:(off+1)*ld]); err != nil {
-					return err
-				}
-				d := s.ElementDOFs(dofs[off*ld:off*ld:(off+1)*ld], k)
-				for i, di := range d {
-					row := a.Col[a.RowPtr[di]:a.RowPtr[di+1]]
-					for j, dj := range d {
-						pos[(off*ld+i)*ld+j] = a.RowPtr[di] + int32(search(row, dj))
-					}
-				}
-			}
-			return nil
-		})
-		if err != nil {
-			return err
-		}
-		// Each goroutine adds the entries of the rows it owns, in triangle
-		// order, so every sum has the order of the serial loop.
-		_ = parallel.For(a.Rows, 1<<14, func(lo, hi int) error {
-			l, h := int32(lo), int32(hi)
-			for off := range k1 - k0 {
-				for i, di := range dofs[off*ld : (off+1)*ld] {
-					if di < l || di >= h {
-						continue
-					}
-					b[di] += fe[off*ld+i]
-					r := (off*ld + i) * ld
-					for j, q := range pos[r : r+ld] {
-						a.Val[q] += ke[r+j]
-					}
-				}
-			}
-			return nil
-		})
-	}
-	return nil
 }
 
 // search returns the position of c in the ascending slice row, which must

@@ -7,6 +7,7 @@ import (
 	"runtime"
 	"testing"
 
+	"github.com/posteriori-fem/posteriori/internal/parallel"
 	"github.com/posteriori-fem/posteriori/mesh"
 )
 
@@ -133,4 +134,61 @@ func TestP1AssembleDeterministicLarge(t *testing.T) {
 		s, _ := NewSpace(m, deg)
 		assembleSame(t, s, p)
 	}
+}
+
+// block is the number of triangles whose element matrices are computed in
+// parallel before being added, in triangle order, to the global matrix.
+const block = 16384
+
+// assembleElements is the reference of the tests: it adds the element
+// matrices and loads of every triangle to a and b, in triangle order, the
+// positions of the entries found by binary search in the rows.
+func assembleElements(s *Space, p *Problem, rules rules, a *Matrix, b []float64) error {
+	nt, ld := s.Mesh.NumTriangles(), s.LocalDOFs()
+	ke := make([]float64, block*ld*ld)
+	fe := make([]float64, block*ld)
+	pos := make([]int32, block*ld*ld) // of entry (i, j) of each element matrix in a.Val
+	dofs := make([]int32, block*ld)
+	for k0 := 0; k0 < nt; k0 += block {
+		k1 := min(k0+block, nt)
+		err := parallel.For(k1-k0, 512, func(lo, hi int) error {
+			w := newElementWork(ld)
+			for off := lo; off < hi; off++ {
+				k := k0 + off
+				if err := element(s, p, rules, w, k, ke[off*ld*ld:(off+1)*ld*ld], fe[off*ld:(off+1)*ld]); err != nil {
+					return err
+				}
+				d := s.ElementDOFs(dofs[off*ld:off*ld:(off+1)*ld], k)
+				for i, di := range d {
+					row := a.Col[a.RowPtr[di]:a.RowPtr[di+1]]
+					for j, dj := range d {
+						pos[(off*ld+i)*ld+j] = a.RowPtr[di] + int32(search(row, dj))
+					}
+				}
+			}
+			return nil
+		})
+		if err != nil {
+			return err
+		}
+		// Each goroutine adds the entries of the rows it owns, in triangle
+		// order, so every sum has the order of the serial loop.
+		_ = parallel.For(a.Rows, 1<<14, func(lo, hi int) error {
+			l, h := int32(lo), int32(hi)
+			for off := range k1 - k0 {
+				for i, di := range dofs[off*ld : (off+1)*ld] {
+					if di < l || di >= h {
+						continue
+					}
+					b[di] += fe[off*ld+i]
+					r := (off*ld + i) * ld
+					for j, q := range pos[r : r+ld] {
+						a.Val[q] += ke[r+j]
+					}
+				}
+			}
+			return nil
+		})
+	}
+	return nil
 }
