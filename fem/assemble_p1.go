@@ -157,10 +157,23 @@ func assembleP1(s *Space, p *Problem, r rules) (*Matrix, []float64, error) {
 	err := parallel.For(nt, 4096, func(lo, hi int) error {
 		var g geometry
 		for k := lo; k < hi; k++ {
-			s.geom(&g, k)
+			// r_i = 2|T| ∇λ_i = (y_j − y_l, x_l − x_j) for (i, j, l) in
+			// cyclic order, so K_ij = |T| ∇λ_i·t∇λ_j = r_i·t r_j / (4|T|):
+			// one division per triangle. The full geometry is needed only
+			// for quadrature (AFunc, f).
+			v := m.Tri[3*k : 3*k+3]
+			x0, y0 := m.X[2*v[0]], m.X[2*v[0]+1]
+			x1, y1 := m.X[2*v[1]], m.X[2*v[1]+1]
+			x2, y2 := m.X[2*v[2]], m.X[2*v[2]+1]
+			rv := [3][2]float64{{y1 - y2, x2 - x1}, {y2 - y0, x0 - x2}, {y0 - y1, x1 - x0}}
+			det := (x1-x0)*(y2-y0) - (y1-y0)*(x2-x0) // 2|T|
+			area, scale := 0.5*det, 0.5/det
+			if !pc || eb != nil {
+				s.geom(&g, k)
+			}
 			var t Tensor
 			if pc {
-				t = rt.at(g.region)
+				t = rt.at(m.Region[k])
 			} else {
 				var err error
 				if t, err = meanTensor(p, r, &g, k); err != nil {
@@ -187,10 +200,10 @@ func assembleP1(s *Space, p *Problem, r rules) (*Matrix, []float64, error) {
 				if m.Tri[3*k+i] > m.Tri[3*k+j] {
 					side = 1
 				}
-				fx, fy := t.Apply(g.gl[i][0], g.gl[i][1])
-				ek[2*e+side] = g.area * (fx*g.gl[j][0] + fy*g.gl[j][1])
+				fx, fy := t.Apply(rv[i][0], rv[i][1])
+				ek[2*e+side] = scale * (fx*rv[j][0] + fy*rv[j][1])
 				if ea != nil {
-					ea[2*e+side] = g.area
+					ea[2*e+side] = area
 				}
 				if eb != nil { // vertex i is Edge[2e+side], j the other end
 					eb[2*(2*e+side)+side] = 0.5 * f[i]
