@@ -90,16 +90,10 @@ func (d Dorfler) mark(dst []bool, eta2 []float64, buckets bool) ([]bool, error) 
 		sum.addBucket(h.hi[key], h.lo[key], key)
 	}
 	sum.normalize()
-	total, shift := sum.float64(0), uint(0)
-	if total == 0 {
+	bound, ok := d.bound(&sum)
+	if !ok {
 		return dst, nil
 	}
-	if math.IsInf(total, 1) {
-		total, shift = sum.float64(128), 128
-	}
-	var bound exactSum
-	bound.addScaled(d.Theta*total, shift)
-	bound.normalize()
 
 	// The bucket where the bound is crossed, walking down from the top.
 	var taken, trial exactSum
@@ -135,6 +129,22 @@ func (d Dorfler) mark(dst []bool, eta2 []float64, buckets bool) ([]bool, error) 
 	return dst, nil
 }
 
+// bound returns θ·Σ η_T² (see Dorfler) from the exact normalized sum of
+// the indicators, or false when the sum is zero.
+func (d Dorfler) bound(sum *exactSum) (exactSum, bool) {
+	var b exactSum
+	total, shift := sum.float64(0), uint(0)
+	if total == 0 {
+		return b, false
+	}
+	if math.IsInf(total, 1) {
+		total, shift = sum.float64(128), 128
+	}
+	b.addScaled(d.Theta*total, shift)
+	b.normalize()
+	return b, true
+}
+
 // markSmall is Mark by a selection on all positive indicators.
 func (d Dorfler) markSmall(dst []bool, eta2 []float64) ([]bool, error) {
 	var sum exactSum
@@ -146,16 +156,10 @@ func (d Dorfler) markSmall(dst []bool, eta2 []float64) ([]bool, error) {
 	}
 	sum.normalize()
 	dst = resize(dst, len(eta2))
-	total, shift := sum.float64(0), uint(0)
-	if total == 0 {
+	bound, ok := d.bound(&sum)
+	if !ok {
 		return dst, nil
 	}
-	if math.IsInf(total, 1) {
-		total, shift = sum.float64(128), 128
-	}
-	var bound exactSum
-	bound.addScaled(d.Theta*total, shift)
-	bound.normalize()
 	p := getIndex(len(eta2))
 	idx := *p
 	for i, v := range eta2 {

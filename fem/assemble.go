@@ -384,17 +384,7 @@ func elementP1(p *Problem, r rules, g *geometry, t Tensor, k int, ke, fe []float
 	if p.F == nil {
 		return nil
 	}
-	for q := range r.load.Len() {
-		l := [3]float64{r.load.Bary[3*q], r.load.Bary[3*q+1], r.load.Bary[3*q+2]}
-		x, y := g.point(l)
-		f := p.F(x, y)
-		if math.IsNaN(f) || math.IsInf(f, 0) {
-			return atTriangle(k, x, y, fmt.Errorf("%w: source f = %g", ErrNotFinite, f))
-		}
-		wq := f * r.load.W[q] * g.area
-		fe[0] += wq * l[0]
-		fe[1] += wq * l[1]
-		fe[2] += wq * l[2]
-	}
-	return nil
+	f, err := loadP1(p, r, g, k)
+	copy(fe, f[:])
+	return err
 }
