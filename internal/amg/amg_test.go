@@ -4,7 +4,6 @@ import (
 	"errors"
 	"fmt"
 	"math"
-	"math/rand/v2"
 	"strings"
 	"testing"
 
@@ -55,25 +54,6 @@ func TestIterationsBounded(t *testing.T) {
 	t.Log(table.String())
 }
 
-// randomVector returns a reproducible vector with entries uniform in
-// [-1, 1).
-func randomVector(n int, seed uint64) []float64 {
-	r := rand.New(rand.NewPCG(seed, 7))
-	v := make([]float64, n)
-	for i := range v {
-		v[i] = 2*r.Float64() - 1
-	}
-	return v
-}
-
-func dot(x, y []float64) float64 {
-	s := 0.0
-	for i := range x {
-		s += x[i] * y[i]
-	}
-	return s
-}
-
 // TestSymmetric checks that the V-cycle is a symmetric positive definite
 // map, (x, M⁻¹y) = (M⁻¹x, y) and (x, M⁻¹x) > 0, as CG requires (Saad,
 // Iterative Methods for Sparse Linear Systems, §9.2). The V-cycle is
@@ -111,14 +91,14 @@ func TestSymmetric(t *testing.T) {
 		n := sys.A.Rows
 		mx, my := make([]float64, n), make([]float64, n)
 		for trial := range 3 {
-			x, y := randomVector(n, uint64(2*trial)), randomVector(n, uint64(2*trial+1))
+			x, y := amg.RandomVector(n, uint64(2*trial)), amg.RandomVector(n, uint64(2*trial+1))
 			h.Apply(mx, x)
 			h.Apply(my, y)
-			xmx, ymy := dot(x, mx), dot(y, my)
+			xmx, ymy := amg.Dot(x, mx), amg.Dot(y, my)
 			if !(xmx > 0 && ymy > 0) {
 				t.Fatalf("%v %+v: (x, M⁻¹x) = %g, (y, M⁻¹y) = %g, want > 0", c.f, c.s, xmx, ymy)
 			}
-			asym := math.Abs(dot(x, my)-dot(mx, y)) / math.Sqrt(xmx*ymy)
+			asym := math.Abs(amg.Dot(x, my)-amg.Dot(mx, y)) / math.Sqrt(xmx*ymy)
 			if asym > 1e-12 {
 				t.Errorf("%v %+v: |(x, M⁻¹y) − (M⁻¹x, y)| = %.3g relative, want ≤ 1e-12", c.f, c.s, asym)
 			}

@@ -6,6 +6,12 @@ import "github.com/posteriori-fem/posteriori/internal/sparse"
 // with package fem; fem imports amg, so those tests cannot be in package
 // amg itself.
 
+// RandomVector and Dot are the test helpers of parts_test.go.
+var (
+	RandomVector = randomVector
+	Dot          = dot
+)
+
 // Isolated is the aggregate label of a decoupled node.
 const Isolated = isolated
 

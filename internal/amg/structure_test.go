@@ -141,7 +141,7 @@ func TestDeterministic(t *testing.T) {
 		r = 1
 	}
 	sys := assemble(t, f.d, familyMesh(t, f, r), f.deg)
-	r0 := randomVector(sys.A.Rows, 11)
+	r0 := amg.RandomVector(sys.A.Rows, 11)
 	for _, s := range []amg.Settings{{}, {Smoother: amg.Chebyshev, Smoothing: 2}} {
 		var ref []float64
 		var refLevels []*sparse.CSR
