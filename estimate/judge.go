@@ -11,17 +11,17 @@ import (
 
 // TrueError returns the squared energy error ‖a^½ ∇(u − u_h)‖²_T (plus
 // c‖u − u_h‖²_T when c > 0) of each triangle in dst, resized, and the total
-// energy error, for a known exact solution. The integration is that of
-// fem.Function.Error: degree fem.ErrorDegree, graded towards ex.Singular.
+// energy error, for a known exact solution, by fem.Function.EnergyError
+// (whose doc states the integration scheme and its accuracy).
 func TrueError(dst []float64, u *fem.Function, ex fem.Exact, p *fem.Problem) ([]float64, float64, error) {
 	if u == nil {
 		return dst, 0, fmt.Errorf("estimate: TrueError: nil solution: %w", ErrArgument)
 	}
-	dst, e, err := u.Error(dst, ex, p)
+	dst, e, err := u.EnergyError(dst, ex, p)
 	if err != nil {
 		return dst, 0, fmt.Errorf("estimate: TrueError: %w", err)
 	}
-	return dst, e.Energy, nil
+	return dst, e, nil
 }
 
 // Assessment says how well indicators match the true error.

@@ -32,8 +32,9 @@
 //
 // Quadrature: Dunavant's symmetric rules on triangles and Gauss–Legendre
 // rules on edges (package internal/quadrature). The load uses degree
-// p + LoadExtraDegree; errors use degree ErrorDegree with SingularLevels
-// levels of graded subdivision on triangles containing a singular point.
+// p + LoadExtraDegree; errors use rules chosen per triangle from the distance to the
+// exact solution's singular points, and the Duffy transformation with
+// geometric layers on triangles that contain one (see Function.Error).
 //
 // # Limits
 //

@@ -27,7 +27,8 @@ func Corner(alpha float64) fem.Exact {
 				return 0, 0 // singular for α < 1; a measure-zero point
 			}
 			c := alpha * math.Pow(r, alpha-1)
-			return c * math.Sin((alpha-1)*th), c * math.Cos((alpha-1)*th)
+			s, co := math.Sincos((alpha - 1) * th)
+			return c * s, c * co
 		},
 		Singular: [][2]float64{{0, 0}},
 	}

@@ -35,7 +35,7 @@ func CheckCommand(t *testing.T, run Command) {
 		}
 		rows := 0
 		for _, line := range strings.Split(out.String(), "\n") {
-			if f := strings.Fields(line); len(f) == 8 {
+			if f := strings.Fields(line); len(f) == 9 {
 				if _, err := strconv.Atoi(f[0]); err == nil {
 					rows++
 				}
