@@ -254,11 +254,11 @@ func (m *Mesh) checkCoincident(bnd []int32, piece []int32) error {
 			if !listed[b] {
 				v = b
 			}
-			return vertErr(int(b), fmt.Errorf("%w: vertices %d and %d at (%g, %g), and vertex %d ends no listed boundary edge (list the crack faces in Bnd, or merge the copies)",
-				ErrCoincident, a, b, x[2*a], x[2*a+1], v))
+			return vertErr(int(b), fmt.Errorf("%w: vertex %d is at (%g, %g) too, and vertex %d ends no listed boundary edge (list a crack's faces in Bnd, or merge the copies)",
+				ErrCoincident, a, x[2*a], x[2*a+1], v))
 		case vertPiece[a] != vertPiece[b]:
-			return vertErr(int(b), fmt.Errorf("%w: vertices %d and %d at (%g, %g) lie in separate pieces of the mesh (a crack that cuts the mesh apart; merge the copies)",
-				ErrCoincident, a, b, x[2*a], x[2*a+1]))
+			return vertErr(int(b), fmt.Errorf("%w: vertex %d is at (%g, %g) too, and the two lie in separate pieces of the mesh (a crack that cuts the mesh apart; merge the copies)",
+				ErrCoincident, a, x[2*a], x[2*a+1]))
 		}
 	}
 	return nil
