@@ -217,27 +217,31 @@ func New(a Arrays) (m *Mesh, reoriented []int32, err error) {
 // (x, y, index), so copies are neighbours and the lower index comes first.
 func (m *Mesh) checkCoincident(bnd []int32, piece []int32) error {
 	nv := m.NumVertices()
-	order := make([]int32, nv)
-	for i := range order {
-		order[i] = int32(i)
+	type point struct {
+		x, y float64
+		v    int32
 	}
+	order := make([]point, nv)
 	x := m.X
-	slices.SortFunc(order, func(a, b int32) int {
-		if c := cmp.Compare(x[2*a], x[2*b]); c != 0 {
+	for i := range order {
+		order[i] = point{x[2*i], x[2*i+1], int32(i)}
+	}
+	slices.SortFunc(order, func(a, b point) int {
+		if c := cmp.Compare(a.x, b.x); c != 0 {
 			return c
 		}
-		if c := cmp.Compare(x[2*a+1], x[2*b+1]); c != 0 {
+		if c := cmp.Compare(a.y, b.y); c != 0 {
 			return c
 		}
-		return cmp.Compare(a, b)
+		return cmp.Compare(a.v, b.v)
 	})
 	var listed []bool     // whether a vertex ends a listed boundary edge
 	var vertPiece []int32 // the piece of some triangle at each vertex
 	for p := 1; p < nv; p++ {
-		a, b := order[p-1], order[p]
-		if x[2*a] != x[2*b] || x[2*a+1] != x[2*b+1] {
+		if order[p-1].x != order[p].x || order[p-1].y != order[p].y {
 			continue
 		}
+		a, b := order[p-1].v, order[p].v
 		if listed == nil {
 			listed = make([]bool, nv)
 			for _, v := range bnd {
