@@ -41,6 +41,12 @@ func TestBadInput(t *testing.T) {
 	run := func(p adapt.Problem, s adapt.Settings) func() error {
 		return func() error { _, err := adapt.Run(context.Background(), p, s, adapt.Method{}); return err }
 	}
+	runWith := func(ctx context.Context, meth adapt.Method) func() error {
+		return func() error {
+			_, err := adapt.Run(ctx, adapt.Problem{Mesh: good, Degree: 1, Data: &fem.Problem{F: one, Dirichlet: dir}}, adapt.Settings{MaxSteps: 3}, meth)
+			return err
+		}
+	}
 	readJSON := func(s string) func() error {
 		return func() error { _, _, err := mesh.ReadJSON(strings.NewReader(s)); return err }
 	}
@@ -66,6 +72,9 @@ func TestBadInput(t *testing.T) {
 		{"empty mesh", arrays(nil, nil), mesh.ErrEmpty},
 		{"mismatched lengths", arrays([]float64{0, 0, 1}, []int32{0, 1, 2}), mesh.ErrLength},
 		{"generator with no cells", func() error { _, err := mesh.LShape(0); return err }, mesh.ErrArgument},
+		{"coincident vertices, two meshes joined unmerged", arrays([]float64{0, 0, 1, 0, 1, 1, 0, 1, 1, 0, 2, 0, 2, 1, 1, 1}, []int32{0, 1, 2, 0, 2, 3, 4, 5, 6, 4, 6, 7}), mesh.ErrCoincident},
+		{"zero mesh refined", func() error { _, _, err := (&mesh.Mesh{}).Refine(nil); return err }, mesh.ErrEmpty},
+		{"zero mesh quality", func() error { _, err := (&mesh.Mesh{}).Quality(); return err }, mesh.ErrEmpty},
 		{"disconnected piece without Dirichlet edge", func() error {
 			_, err := fem.Assemble(sApart, &fem.Problem{F: one, Dirichlet: map[int32]fem.Func{1: nil}})
 			return err
@@ -84,6 +93,11 @@ func TestBadInput(t *testing.T) {
 			_, _, err := sys.Solve(fem.SolveSettings{MaxIter: 1, Preconditioner: fem.Diagonal})
 			return err
 		}, fem.ErrNotConverge},
+		{"Dirichlet and Neumann on one tag", assemble(&fem.Problem{Dirichlet: dir, Neumann: map[int32]fem.Func{mesh.SideLeft: nil}}), fem.ErrTag},
+		{"recovery method 7", func() error {
+			_, err := estimate.Recovery{Method: 7}.Estimate(nil, u, &fem.Problem{F: one, Dirichlet: dir})
+			return err
+		}, estimate.ErrArgument},
 		{"estimate with NaN source", func() error {
 			_, err := estimate.Residual{}.Estimate(nil, u, &fem.Problem{F: func(x, y float64) float64 { return nan }, Dirichlet: dir})
 			return err
@@ -105,6 +119,13 @@ func TestBadInput(t *testing.T) {
 		{"no stop rule", run(adapt.Problem{Mesh: good, Degree: 1, Data: &fem.Problem{Dirichlet: dir}}, adapt.Settings{}), adapt.ErrSettings},
 		{"zero budget and nothing else", run(adapt.Problem{Mesh: good, Degree: 1, Data: &fem.Problem{Dirichlet: dir}}, adapt.Settings{MaxDOFs: 0}), adapt.ErrSettings},
 		{"negative step limit", run(adapt.Problem{Mesh: good, Degree: 1, Data: &fem.Problem{Dirichlet: dir}}, adapt.Settings{MaxSteps: -1}), adapt.ErrSettings},
+		{"zero mesh in the loop", run(adapt.Problem{Mesh: &mesh.Mesh{}, Degree: 1, Data: &fem.Problem{Dirichlet: dir}}, adapt.Settings{MaxSteps: 1}), mesh.ErrEmpty},
+		{"nil context", runWith(nil, adapt.Method{}), adapt.ErrArgument}, // a nil context is the bad input under test
+		{"recovery method 7 in the loop", runWith(context.Background(), adapt.Method{Estimator: estimate.Recovery{Method: 7}}), estimate.ErrArgument},
+		{"estimator returns nil, nil", runWith(context.Background(), adapt.Method{Estimator: nilEstimator{}}), adapt.ErrMethod},
+		{"estimator returns too few indicators", runWith(context.Background(), adapt.Method{Estimator: shortEstimator{}}), adapt.ErrMethod},
+		{"solver returns too few values", runWith(context.Background(), adapt.Method{Solver: shortSolver{}}), adapt.ErrMethod},
+		{"marker returns a short mask", runWith(context.Background(), adapt.Method{Marker: shortMarker{}}), adapt.ErrMethod},
 		// Files.
 		{"truncated JSON", readJSON(`{"vertices": [[0, 0], [1, 0]`), mesh.ErrFormat},
 		{"wrong JSON type", readJSON(`{"vertices": "many", "triangles": []}`), mesh.ErrFormat},
@@ -129,4 +150,29 @@ func TestBadInput(t *testing.T) {
 	if _, re, err := mesh.New(mesh.Arrays{X: sq, Tri: []int32{1, 0, 2, 3, 0, 2}}); err != nil || len(re) != 1 {
 		t.Errorf("inverted triangle: %v, reoriented %v", err, re)
 	}
+}
+
+// Methods of a careless caller: each returns no error and a result that
+// does not fit the step.
+type (
+	nilEstimator   struct{}
+	shortEstimator struct{}
+	shortSolver    struct{}
+	shortMarker    struct{}
+)
+
+func (nilEstimator) Estimate(*estimate.Indicators, *fem.Function, *fem.Problem) (*estimate.Indicators, error) {
+	return nil, nil
+}
+
+func (shortEstimator) Estimate(*estimate.Indicators, *fem.Function, *fem.Problem) (*estimate.Indicators, error) {
+	return &estimate.Indicators{Eta2: []float64{1}}, nil
+}
+
+func (shortSolver) Solve(s *fem.Space, _ *fem.Problem, _ []float64) ([]float64, int, error) {
+	return make([]float64, s.NumDOF()-1), 0, nil
+}
+
+func (shortMarker) Mark(dst []bool, eta2 []float64) ([]bool, error) {
+	return make([]bool, len(eta2)/2), nil
 }

@@ -8,20 +8,41 @@ import (
 
 // Reasons a marker rejects its input, for errors.Is. On any error Mark
 // returns a nil mask and leaves the caller's dst as it was.
+//
+// Like every sentinel of this library, their texts carry no package
+// prefix; the errors that wrap them start with "adapt: ".
 var (
 	// ErrTheta: the marker's parameter (Dorfler.Theta, Maximum.Theta or
 	// Fraction.F) is outside its range or NaN. The returned error wraps it
 	// and names the parameter and its range.
-	ErrTheta = errors.New("adapt: marking parameter out of range")
+	ErrTheta = errors.New("marking parameter out of range")
 
 	// ErrIndicator: some η_T² is negative, NaN or ±Inf. It comes wrapped in
 	// an *IndicatorError that names the triangle.
-	ErrIndicator = errors.New("adapt: indicator is negative, NaN or infinite")
+	ErrIndicator = errors.New("indicator is negative, NaN or infinite")
 
 	// ErrTooMany: more than 2³¹−1 indicators (triangle indices are int32
 	// throughout the library). Only markers that select (Dorfler, Fraction)
 	// have this limit.
-	ErrTooMany = errors.New("adapt: more than 2^31-1 indicators")
+	ErrTooMany = errors.New("more than 2^31-1 indicators")
+)
+
+// Reasons Run rejects its input or stops, for errors.Is.
+var (
+	// ErrSettings: settings or a problem that cannot run: no stop rule, a
+	// negative budget, a budget below the initial mesh, a bad degree, a
+	// missing mesh or problem data.
+	ErrSettings = errors.New("invalid settings")
+
+	// ErrArgument: an argument of Run that is not part of the settings is
+	// unusable, such as a nil context.
+	ErrArgument = errors.New("invalid argument")
+
+	// ErrMethod: a caller's Solver, Estimator or Marker returned a result
+	// that does not fit the step: a solution with the wrong number of
+	// values, no indicators or the wrong number of them, or a mask of the
+	// wrong length. The StepError's Stage says which.
+	ErrMethod = errors.New("method returned a result that does not fit the step")
 )
 
 // IndicatorError reports the first invalid squared indicator, in index
@@ -67,10 +88,10 @@ func indicatorErr(i int, v float64) error {
 // thetaErr is the error for a parameter out of range; want describes the
 // range, e.g. "0 < θ ≤ 1".
 func thetaErr(name string, v float64, want string) error {
-	return fmt.Errorf("%w: %s = %v, want %s", ErrTheta, name, v, want)
+	return fmt.Errorf("adapt: %w: %s = %v, want %s", ErrTheta, name, v, want)
 }
 
 // sizeErr is the error for more indicators than int32 can index.
 func sizeErr(n int) error {
-	return fmt.Errorf("%w: got %d", ErrTooMany, n)
+	return fmt.Errorf("adapt: %w: got %d", ErrTooMany, n)
 }

@@ -2,9 +2,9 @@ package adapt
 
 import (
 	"context"
-	"errors"
 	"fmt"
 	"math"
+	"strings"
 	"time"
 
 	"github.com/posteriori-fem/posteriori/estimate"
@@ -158,25 +158,36 @@ type StepError struct {
 	Err   error
 }
 
-// Error describes the error with its location.
+// Error reads "adapt: step 3: solve: fem: triangle 5 at (0.5, 0.25): ...",
+// saying each context once: the reason's own "adapt: " is dropped, and
+// the stage is left out when the reason already begins with it, as the
+// errors of package estimate begin with "estimate: ".
 func (e *StepError) Error() string {
-	return fmt.Sprintf("adapt: step %d: %s: %v", e.Step, e.Stage, e.Err)
+	msg := "<nil>"
+	if e.Err != nil {
+		msg = strings.TrimPrefix(e.Err.Error(), "adapt: ")
+	}
+	if !strings.HasPrefix(msg, e.Stage+": ") {
+		msg = e.Stage + ": " + msg
+	}
+	return fmt.Sprintf("adapt: step %d: %s", e.Step, msg)
 }
 
 // Unwrap returns the reason, for errors.Is and errors.As.
 func (e *StepError) Unwrap() error { return e.Err }
-
-// ErrSettings reports settings that cannot run: no stop rule, a negative
-// or zero budget, a budget below the initial mesh, a bad degree.
-var ErrSettings = errors.New("adapt: invalid settings")
 
 // Run drives the solve–estimate–mark–refine loop from p.Mesh until a stop
 // rule holds. Each step solves (from the previous solution carried to the
 // new mesh), estimates, measures the true error if p.Exact is set, records
 // the step, then marks and refines. On an error it returns the result so
 // far (completed steps, last good mesh and solution) with a *StepError;
-// after cancellation the error wraps ctx.Err().
+// after cancellation the error wraps ctx.Err(). A nil ctx is an error
+// wrapping ErrArgument; bad settings wrap ErrSettings; a caller's method
+// whose result does not fit the step gives a StepError wrapping ErrMethod.
 func Run(ctx context.Context, p Problem, s Settings, meth Method) (*Result, error) {
+	if ctx == nil {
+		return nil, fmt.Errorf("adapt: Run: nil context: %w", ErrArgument)
+	}
 	if err := check(p, s); err != nil {
 		return nil, err
 	}
@@ -226,7 +237,7 @@ func Run(ctx context.Context, p Problem, s Settings, meth Method) (*Result, erro
 			return fail(StageSolve, err)
 		}
 		if len(uv) != sp.NumDOF() {
-			return fail(StageSolve, fmt.Errorf("solver returned %d values for %d DOFs: %w", len(uv), sp.NumDOF(), ErrSettings))
+			return fail(StageSolve, fmt.Errorf("%w: solver returned %d values for %d DOFs", ErrMethod, len(uv), sp.NumDOF()))
 		}
 		u := &fem.Function{Space: sp, U: uv}
 		if err := ctx.Err(); err != nil {
@@ -237,8 +248,11 @@ func Run(ctx context.Context, p Problem, s Settings, meth Method) (*Result, erro
 			return fail(StageEstimate, err)
 		}
 		rec.EstimateTime = time.Since(t)
+		if in == nil {
+			return fail(StageEstimate, fmt.Errorf("%w: estimator returned no indicators and no error", ErrMethod))
+		}
 		if len(in.Eta2) != m.NumTriangles() {
-			return fail(StageEstimate, fmt.Errorf("%d indicators for %d triangles: %w", len(in.Eta2), m.NumTriangles(), ErrSettings))
+			return fail(StageEstimate, fmt.Errorf("%w: estimator returned %d indicators for %d triangles", ErrMethod, len(in.Eta2), m.NumTriangles()))
 		}
 		rec.Estimate, rec.Oscillation = in.Total(), in.Oscillation()
 		if p.Exact != nil {
@@ -269,6 +283,9 @@ func Run(ctx context.Context, p Problem, s Settings, meth Method) (*Result, erro
 			t = time.Now()
 			marks, err = meth.Marker.Mark(marks, in.Eta2)
 			rec.MarkTime = time.Since(t)
+			if err == nil && len(marks) != m.NumTriangles() {
+				err = fmt.Errorf("%w: marker returned %d marks for %d triangles", ErrMethod, len(marks), m.NumTriangles())
+			}
 			if err != nil {
 				res.Steps = append(res.Steps, rec)
 				return fail(StageMark, err)
@@ -325,22 +342,24 @@ func dofs(m *mesh.Mesh, degree int) int {
 func check(p Problem, s Settings) error {
 	switch {
 	case p.Mesh == nil || p.Data == nil:
-		return fmt.Errorf("%w: the problem needs a mesh and data", ErrSettings)
+		return fmt.Errorf("adapt: Run: %w: the problem needs a mesh and data", ErrSettings)
+	case p.Mesh.NumTriangles() == 0:
+		return fmt.Errorf("adapt: Run: the problem's mesh has no triangles: %w", mesh.ErrEmpty)
 	case p.Degree != 1 && p.Degree != 2:
-		return fmt.Errorf("%w: degree %d, want 1 or 2", ErrSettings, p.Degree)
+		return fmt.Errorf("adapt: Run: %w: Degree = %d, want 1 or 2", ErrSettings, p.Degree)
 	case s.Tol < 0 || s.Tol != s.Tol:
-		return fmt.Errorf("%w: Tol = %g, want ≥ 0", ErrSettings, s.Tol)
+		return fmt.Errorf("adapt: Run: %w: Tol = %g, want ≥ 0", ErrSettings, s.Tol)
 	case !(s.AlgebraicFraction >= 0) || math.IsInf(s.AlgebraicFraction, 0):
-		return fmt.Errorf("%w: AlgebraicFraction = %g, want a finite value ≥ 0", ErrSettings, s.AlgebraicFraction)
+		return fmt.Errorf("adapt: Run: %w: AlgebraicFraction = %g, want a finite value ≥ 0", ErrSettings, s.AlgebraicFraction)
 	case s.MaxDOFs < 0 || s.MaxSteps < 0:
-		return fmt.Errorf("%w: MaxDOFs = %d, MaxSteps = %d, want ≥ 0", ErrSettings, s.MaxDOFs, s.MaxSteps)
+		return fmt.Errorf("adapt: Run: %w: MaxDOFs = %d, MaxSteps = %d, want ≥ 0", ErrSettings, s.MaxDOFs, s.MaxSteps)
 	case s.Tol == 0 && s.MaxDOFs == 0 && s.MaxSteps == 0:
-		return fmt.Errorf("%w: no stop rule: set Tol, MaxDOFs or MaxSteps", ErrSettings)
+		return fmt.Errorf("adapt: Run: %w: no stop rule: set Tol, MaxDOFs or MaxSteps", ErrSettings)
 	case s.MaxDOFs > 0 && dofs(p.Mesh, p.Degree) > s.MaxDOFs:
-		return fmt.Errorf("%w: the initial mesh has %d DOFs, more than MaxDOFs = %d", ErrSettings, dofs(p.Mesh, p.Degree), s.MaxDOFs)
+		return fmt.Errorf("adapt: Run: %w: the initial mesh has %d DOFs, more than MaxDOFs = %d", ErrSettings, dofs(p.Mesh, p.Degree), s.MaxDOFs)
 	}
 	if err := p.Data.Check(p.Mesh); err != nil {
-		return fmt.Errorf("adapt: %w", err)
+		return fmt.Errorf("adapt: Run: %w", err)
 	}
 	return nil
 }

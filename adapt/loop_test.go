@@ -4,6 +4,7 @@ import (
 	"context"
 	"errors"
 	"math"
+	"os"
 	"testing"
 
 	"github.com/posteriori-fem/posteriori/estimate"
@@ -66,9 +67,15 @@ func uniformRate(t *testing.T, m *mesh.Mesh, deg, levels int, ex fem.Exact, p *f
 
 func TestAdaptiveRates(t *testing.T) {
 	t.Parallel()
-	maxDOFs := 100000
-	if testing.Short() {
+	// The full budget runs with POSTERIORI_SOAK=1 (.ci/run sets it): the
+	// true errors of Kellogg's solution, evaluated at every step, make it
+	// the slowest test of the package.
+	maxDOFs := 40000
+	switch {
+	case testing.Short():
 		maxDOFs = 20000
+	case os.Getenv(soakEnv) == "1":
+		maxDOFs = 100000
 	}
 	lex, lp := problems.LShape()
 	kex, kp := problems.Kellogg()

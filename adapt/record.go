@@ -68,7 +68,7 @@ func WriteCSV(w io.Writer, steps []Step) error {
 }
 
 // ErrCSV reports a malformed step record file.
-var ErrCSV = errors.New("adapt: malformed step records")
+var ErrCSV = errors.New("malformed step records")
 
 // ReadCSV reads records written by WriteCSV. Times are rounded to the
 // nanosecond. It rejects a wrong header, a wrong number of fields, numbers
@@ -80,11 +80,11 @@ func ReadCSV(r io.Reader) ([]Step, error) {
 	cr.ReuseRecord = true
 	head, err := cr.Read()
 	if err != nil {
-		return nil, fmt.Errorf("%w: header: %v", ErrCSV, err)
+		return nil, fmt.Errorf("adapt: ReadCSV: %w: header: %v", ErrCSV, err)
 	}
 	for i, h := range CSVHeader {
 		if head[i] != h {
-			return nil, fmt.Errorf("%w: header column %d is %q, want %q", ErrCSV, i+1, head[i], h)
+			return nil, fmt.Errorf("adapt: ReadCSV: %w: header column %d is %q, want %q", ErrCSV, i+1, head[i], h)
 		}
 	}
 	var steps []Step
@@ -94,7 +94,7 @@ func ReadCSV(r io.Reader) ([]Step, error) {
 			return steps, nil
 		}
 		if err != nil {
-			return nil, fmt.Errorf("%w: %v", ErrCSV, err)
+			return nil, fmt.Errorf("adapt: ReadCSV: %w: %v", ErrCSV, err)
 		}
 		var s Step
 		var bad error
@@ -106,7 +106,7 @@ func ReadCSV(r io.Reader) ([]Step, error) {
 				err = errors.New("negative")
 			}
 			if err != nil && bad == nil {
-				bad = fmt.Errorf("%w: line %d, column %s: %v", ErrCSV, line, CSVHeader[col-1], err)
+				bad = fmt.Errorf("adapt: ReadCSV: %w: line %d, column %s: %v", ErrCSV, line, CSVHeader[col-1], err)
 			}
 			return v
 		}
@@ -117,7 +117,7 @@ func ReadCSV(r io.Reader) ([]Step, error) {
 				err = errors.New("not finite")
 			}
 			if err != nil && bad == nil {
-				bad = fmt.Errorf("%w: line %d, column %s: %v", ErrCSV, line, CSVHeader[col-1], err)
+				bad = fmt.Errorf("adapt: ReadCSV: %w: line %d, column %s: %v", ErrCSV, line, CSVHeader[col-1], err)
 			}
 			return v
 		}

@@ -70,7 +70,10 @@ func TestEdgeCases(t *testing.T) {
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
 			t.Parallel()
-			q := tc.m.Quality()
+			q, err := tc.m.Quality()
+			if err != nil {
+				t.Fatal(err)
+			}
 			s, _ := fem.NewSpace(tc.m, 1)
 			sys, err := fem.Assemble(s, tc.p)
 			if err != nil {

@@ -128,6 +128,13 @@ func TestEstimateErrors(t *testing.T) {
 			}
 		}
 	}
+	// A Method that is neither Averaging nor SPR.
+	for _, meth := range []Method{-1, 2, 7} {
+		in, err := Recovery{Method: meth}.Estimate(nil, u, p)
+		if in != nil || !errors.Is(err, ErrArgument) {
+			t.Errorf("Recovery{Method: %d}: got %v, %v; want ErrArgument", meth, in, err)
+		}
+	}
 }
 
 func TestAssess(t *testing.T) {

@@ -144,7 +144,12 @@ func basis(nc int, xi, eta float64, b []float64) {
 // otherwise one pass over the vertices and one over the triangles. Each pass
 // is split over GOMAXPROCS goroutines and every sum is taken in an order
 // fixed by the mesh, so the result does not depend on GOMAXPROCS.
+//
+// A Method other than Averaging and SPR is an error wrapping ErrArgument.
 func (r Recovery) Estimate(dst *Indicators, u *fem.Function, p *fem.Problem) (*Indicators, error) {
+	if r.Method != Averaging && r.Method != SPR {
+		return nil, fmt.Errorf("estimate: Recovery: Method %d is none of Averaging (%d) and SPR (%d): %w", int(r.Method), int(Averaging), int(SPR), ErrArgument)
+	}
 	dst, err := prepare("Recovery", dst, u, p)
 	if err != nil {
 		return nil, err

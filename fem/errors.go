@@ -5,7 +5,9 @@ import (
 	"fmt"
 )
 
-// Reasons package fem rejects its input, for errors.Is.
+// Reasons package fem rejects its input, for errors.Is. ErrTag covers a
+// Dirichlet or Neumann tag that no boundary edge carries and a tag given
+// as both; the error that wraps it names the tag and says which.
 var (
 	ErrArgument    = errors.New("invalid argument")
 	ErrDegree      = errors.New("degree must be 1 or 2")
@@ -13,7 +15,7 @@ var (
 	ErrReaction    = errors.New("reaction coefficient is negative or not finite")
 	ErrNotFinite   = errors.New("value is NaN or infinite")
 	ErrIllPosed    = errors.New("problem has no Dirichlet part and no reaction, so its solution is not unique")
-	ErrTag         = errors.New("boundary tag carried by no edge, or given twice")
+	ErrTag         = errors.New("unusable boundary condition")
 	ErrRegion      = errors.New("region has no diffusion coefficient")
 	ErrNotConverge = errors.New("linear solver did not converge")
 	ErrOutside     = errors.New("point outside the mesh")

@@ -90,8 +90,11 @@ func (p *Problem) Source(x, y float64) float64 {
 // PureNeumann). Values of F, AFunc and the boundary data are checked where
 // they are evaluated, during assembly.
 func (p *Problem) Check(m *mesh.Mesh) error {
-	if p == nil || m == nil {
-		return fmt.Errorf("fem: nil problem or mesh: %w", ErrArgument)
+	if p == nil {
+		return fmt.Errorf("fem: Problem.Check: nil problem: %w", ErrArgument)
+	}
+	if m == nil {
+		return fmt.Errorf("fem: Problem.Check: nil mesh: %w", ErrArgument)
 	}
 	if math.IsNaN(p.C) || math.IsInf(p.C, 0) || p.C < 0 {
 		return fmt.Errorf("fem: c = %g: %w", p.C, ErrReaction)
@@ -104,15 +107,15 @@ func (p *Problem) Check(m *mesh.Mesh) error {
 	tags := boundaryTags(m)
 	for _, tag := range p.DirichletTags() {
 		if !tags[tag] {
-			return atTag(tag, fmt.Errorf("%w: Dirichlet tag not on the boundary", ErrTag))
+			return atTag(tag, fmt.Errorf("%w: a Dirichlet tag that no boundary edge carries", ErrTag))
 		}
 		if _, ok := p.Neumann[tag]; ok {
-			return atTag(tag, fmt.Errorf("%w: tag is both Dirichlet and Neumann", ErrTag))
+			return atTag(tag, fmt.Errorf("%w: given both as Dirichlet and as Neumann", ErrTag))
 		}
 	}
 	for tag := range p.Neumann {
 		if !tags[tag] {
-			return atTag(tag, fmt.Errorf("%w: Neumann tag not on the boundary", ErrTag))
+			return atTag(tag, fmt.Errorf("%w: a Neumann tag that no boundary edge carries", ErrTag))
 		}
 	}
 	if len(p.Dirichlet) == 0 && p.C == 0 && !p.PureNeumann {

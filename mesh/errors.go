@@ -3,6 +3,7 @@ package mesh
 import (
 	"errors"
 	"fmt"
+	"strings"
 )
 
 // Reasons a mesh is rejected. They are wrapped in a *ValidationError that
@@ -21,6 +22,7 @@ var (
 	ErrDuplicateEdge  = errors.New("boundary edge listed twice")
 	ErrTag            = errors.New("boundary tag is negative")
 	ErrUnusedVertex   = errors.New("vertex belongs to no triangle")
+	ErrCoincident     = errors.New("vertices share their coordinates")
 	ErrArgument       = errors.New("invalid argument")
 )
 
@@ -66,3 +68,21 @@ func edgeErr(b int, err error) error {
 func lenErr(format string, args ...any) error {
 	return &ValidationError{Triangle: -1, Vertex: -1, Edge: -1, Err: fmt.Errorf("%w: "+format, append([]any{ErrLength}, args...)...)}
 }
+
+// contextError puts the name of a function or format in front of an error
+// of this package, whose text already starts with "mesh: ", so that the
+// package is named once: "mesh: json: vertex 3: ...". It unwraps to the
+// error.
+type contextError struct {
+	where string
+	err   error
+}
+
+func (e *contextError) Error() string {
+	return "mesh: " + e.where + ": " + strings.TrimPrefix(e.err.Error(), "mesh: ")
+}
+
+func (e *contextError) Unwrap() error { return e.err }
+
+// within returns err with the context where, as contextError describes.
+func within(where string, err error) error { return &contextError{where: where, err: err} }

@@ -27,7 +27,11 @@ func ExampleMesh_Refine() {
 		fmt.Printf("%d triangles -> %d, %d new vertices\n", m.NumTriangles(), fine.NumTriangles(), len(parents.Edge))
 		m = fine
 	}
-	q := m.Quality()
+	q, err := m.Quality()
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
 	fmt.Printf("h from %.4g to %.4g, smallest angle %.4g rad\n", q.HMin, q.HMax, q.MinAngle)
 	// Output:
 	// 24 triangles -> 30, 3 new vertices

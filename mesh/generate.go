@@ -199,9 +199,19 @@ func (g *grid) build(name string, tag func(mx, my, cx, cy float64) int32) (*Mesh
 		}
 		region = append(region, r, r)
 	}
-	m, _, err := New(Arrays{X: x, Tri: tri, Region: region})
+	// The faces of the slit are declared, as New requires of the doubled
+	// vertices; their tags are set below with the others.
+	var bnd, bndTag []int32
+	if g.slit {
+		for i := nx / 2; i < nx; i++ {
+			bnd = append(bnd, id[slot(i, ny/2, false)], id[slot(i+1, ny/2, false)],
+				id[slot(i, ny/2, true)], id[slot(i+1, ny/2, true)])
+			bndTag = append(bndTag, 0, 0)
+		}
+	}
+	m, _, err := New(Arrays{X: x, Tri: tri, Region: region, Bnd: bnd, BndTag: bndTag})
 	if err != nil {
-		return nil, fmt.Errorf("mesh: %s: %w", name, err)
+		return nil, within(name, err)
 	}
 	for e := range m.NumEdges() {
 		if !m.IsBoundary(e) {

@@ -7,7 +7,6 @@ import (
 	"fmt"
 	"io"
 	"strconv"
-	"strings"
 )
 
 // Limits of ReadJSON: a file with more vertices or triangles, declared or
@@ -60,16 +59,6 @@ func at(err error, field string) error {
 }
 
 func elem(name string, i int) string { return name + "[" + strconv.Itoa(i) + "]" }
-
-// prefixed wraps an error from New (whose message starts with "mesh: ")
-// so that it reads "mesh: json: ..." and still unwraps to it.
-type prefixed struct{ err error }
-
-func (p *prefixed) Error() string {
-	return "mesh: json: " + strings.TrimPrefix(p.err.Error(), "mesh: ")
-}
-
-func (p *prefixed) Unwrap() error { return p.err }
 
 // WriteJSON writes m, and the fields of d if d is not nil, as one JSON
 // object in the layout described at ReadJSON. It writes the declared sizes,
@@ -323,7 +312,7 @@ func (r *jsonReader) build() (*Mesh, *Data, error) {
 	}
 	m, _, err := New(Arrays{X: r.x, Tri: r.tri, Region: r.region, Bnd: r.bnd, BndTag: r.tag})
 	if err != nil {
-		return nil, nil, &prefixed{err}
+		return nil, nil, within("json", err)
 	}
 	return m, d, nil
 }

@@ -1,7 +1,10 @@
 package mesh
 
 import (
+	"cmp"
+	"fmt"
 	"math"
+	"slices"
 )
 
 // Interior is the EdgeTag of an edge with a triangle on each side.
@@ -110,9 +113,28 @@ func dist2(x []float64, a, b int32) float64 {
 // triangle that repeats a vertex, NaN or infinite coordinates, a zero-area
 // triangle, an edge shared by more than two triangles or by two triangles
 // on the same side, a boundary edge that is not an edge, is interior, is
-// listed twice or carries a negative tag, and a vertex used by no triangle.
+// listed twice or carries a negative tag, a vertex used by no triangle, and
+// vertices that share their coordinates other than on the faces of a crack
+// (see below).
 //
-// New runs in time linear in the size of the mesh.
+// # Coincident vertices
+//
+// Two vertices with the same coordinates are accepted only as the two
+// faces of a crack (a slit), as Slit makes them: each copy must be an
+// end of a boundary edge listed in a.Bnd, and the copies must lie in the
+// same connected piece of the mesh, which holds when the crack ends inside
+// the domain or the domain reaches around it. Anything else is rejected
+// with ErrCoincident, located at the copy with the higher index: copies
+// that no listed boundary edge declares (vertices that were meant to be
+// one, as when two meshes are joined without merging their common
+// vertices), and copies that the crack cuts into separate pieces (an
+// interface between two meshes, duplicated end to end). Vertices count as
+// the same when their coordinates compare equal; a crack's faces must use
+// exactly equal coordinates for its copies.
+//
+// New runs in time O(N log N) for a mesh of N vertices and triangles: the
+// search for coincident vertices sorts the vertices by their coordinates;
+// everything else is linear.
 func New(a Arrays) (m *Mesh, reoriented []int32, err error) {
 	if len(a.X)%2 != 0 {
 		return nil, nil, lenErr("len(X) = %d is odd", len(a.X))
@@ -180,8 +202,70 @@ func New(a Arrays) (m *Mesh, reoriented []int32, err error) {
 	if err := m.tagBoundary(a.Bnd, a.BndTag); err != nil {
 		return nil, nil, err
 	}
-	_, m.pieces = m.Components()
+	var piece []int32
+	piece, m.pieces = m.Components()
+	if err := m.checkCoincident(a.Bnd, piece); err != nil {
+		return nil, nil, err
+	}
 	return m, reoriented, nil
+}
+
+// checkCoincident applies New's rule for vertices that share their
+// coordinates: each copy is an end of a listed boundary edge (bnd, already
+// checked to be boundary edges) and all copies lie in the same piece
+// (piece holds the piece of each triangle). The vertices are sorted by
+// (x, y, index), so copies are neighbours and the lower index comes first.
+func (m *Mesh) checkCoincident(bnd []int32, piece []int32) error {
+	nv := m.NumVertices()
+	type point struct {
+		x, y float64
+		v    int32
+	}
+	order := make([]point, nv)
+	x := m.X
+	for i := range order {
+		order[i] = point{x[2*i], x[2*i+1], int32(i)}
+	}
+	slices.SortFunc(order, func(a, b point) int {
+		if c := cmp.Compare(a.x, b.x); c != 0 {
+			return c
+		}
+		if c := cmp.Compare(a.y, b.y); c != 0 {
+			return c
+		}
+		return cmp.Compare(a.v, b.v)
+	})
+	var listed []bool     // whether a vertex ends a listed boundary edge
+	var vertPiece []int32 // the piece of some triangle at each vertex
+	for p := 1; p < nv; p++ {
+		if order[p-1].x != order[p].x || order[p-1].y != order[p].y {
+			continue
+		}
+		a, b := order[p-1].v, order[p].v
+		if listed == nil {
+			listed = make([]bool, nv)
+			for _, v := range bnd {
+				listed[v] = true
+			}
+			vertPiece = make([]int32, nv)
+			for k, v := range m.Tri {
+				vertPiece[v] = piece[k/3]
+			}
+		}
+		switch {
+		case !listed[a] || !listed[b]:
+			v := a
+			if !listed[b] {
+				v = b
+			}
+			return vertErr(int(b), fmt.Errorf("%w: vertex %d is at (%g, %g) too, and vertex %d ends no listed boundary edge (list a crack's faces in Bnd, or merge the copies)",
+				ErrCoincident, a, x[2*a], x[2*a+1], v))
+		case vertPiece[a] != vertPiece[b]:
+			return vertErr(int(b), fmt.Errorf("%w: vertex %d is at (%g, %g) too, and the two lie in separate pieces of the mesh (a crack that cuts the mesh apart; merge the copies)",
+				ErrCoincident, a, x[2*a], x[2*a+1]))
+		}
+	}
+	return nil
 }
 
 // degenerateTol is the smallest |sin| of an angle, in effect, that New

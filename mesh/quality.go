@@ -11,8 +11,13 @@ type Quality struct {
 }
 
 // Quality returns the quality figures of m. It is linear in the number of
-// triangles.
-func (m *Mesh) Quality() Quality {
+// triangles. A mesh with no triangles (such as the zero Mesh) has no
+// figures: the error then wraps ErrEmpty, and ErrLength or ErrIndex for
+// arrays that New did not build.
+func (m *Mesh) Quality() (Quality, error) {
+	if err := checkShape(m, "Quality"); err != nil {
+		return Quality{}, err
+	}
 	q := Quality{
 		MinAngle: math.Inf(1), MaxAngle: math.Inf(-1),
 		HMin: math.Inf(1), HMax: math.Inf(-1),
@@ -30,7 +35,7 @@ func (m *Mesh) Quality() Quality {
 		ar := m.Area(k)
 		q.AreaMin, q.AreaMax = min(q.AreaMin, ar), max(q.AreaMax, ar)
 	}
-	return q
+	return q, nil
 }
 
 // angle returns the interior angle at vertex a of triangle (a, b, c).

@@ -23,14 +23,19 @@ import (
 // number; the other halves and the new interior edges are appended.
 // Regions and boundary tags are inherited.
 //
-// marked must have one entry per triangle. Refine does not modify m. Its
+// marked must have one entry per triangle. A mesh with no triangles (such
+// as the zero Mesh) or with arrays of inconsistent lengths is rejected with
+// an error wrapping ErrEmpty, ErrLength or ErrIndex. Refine does not modify m. Its
 // cost is that of copying m's arrays and one scan of its edges and
 // triangles, plus time linear in the number of triangles refined: the
 // topology of the untouched part is not rebuilt.
 func (m *Mesh) Refine(marked []bool) (*Mesh, *Parents, error) {
+	if err := checkShape(m, "Refine"); err != nil {
+		return nil, nil, err
+	}
 	nv, nt, ne := m.NumVertices(), m.NumTriangles(), m.NumEdges()
 	if len(marked) != nt {
-		return nil, nil, lenErr("Refine: %d marks for %d triangles", len(marked), nt)
+		return nil, nil, fmt.Errorf("mesh: Refine: %d marks for %d triangles: %w", len(marked), nt, ErrLength)
 	}
 	// Closure: mark edges.
 	mid := make([]int32, ne) // midpoint vertex of a bisected edge, or -1

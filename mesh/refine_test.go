@@ -168,7 +168,7 @@ func TestRefineSimilarityClasses(t *testing.T) {
 			for k := range u.NumTriangles() {
 				classes[shape(u, k)] = true
 			}
-			minAngle = min(minAngle, u.Quality().MinAngle)
+			minAngle = min(minAngle, mustQuality(t, u).MinAngle)
 			all := make([]bool, u.NumTriangles())
 			for k := range all {
 				all[k] = true
@@ -192,7 +192,7 @@ func TestRefineSimilarityClasses(t *testing.T) {
 				t.Fatalf("triangle %d has shape %v, not among the %d classes %v", k, shape(m, k), len(classes), classes)
 			}
 		}
-		if q := m.Quality(); q.MinAngle < minAngle-1e-12 {
+		if q := mustQuality(t, m); q.MinAngle < minAngle-1e-12 {
 			t.Errorf("minimum angle %g below the classes' %g", q.MinAngle, minAngle)
 		}
 		t.Logf("%d classes, minimum angle %.4f rad, %d triangles after random refinement", len(classes), minAngle, m.NumTriangles())

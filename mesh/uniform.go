@@ -27,6 +27,9 @@ type Parents struct {
 // e is new vertex NumVertices()+e. Regions and boundary tags are inherited.
 // RefineUniform is linear in the size of the mesh.
 func (m *Mesh) RefineUniform() (*Mesh, *Parents, error) {
+	if err := checkShape(m, "RefineUniform"); err != nil {
+		return nil, nil, err
+	}
 	nv, nt, ne := m.NumVertices(), m.NumTriangles(), m.NumEdges()
 	if float64(nv+ne) > math.MaxInt32/2 || float64(4*nt) > math.MaxInt32/3 {
 		return nil, nil, fmt.Errorf("mesh: RefineUniform: %d triangles is too many for int32 indices: %w", 4*nt, ErrArgument)
@@ -63,7 +66,7 @@ func (m *Mesh) RefineUniform() (*Mesh, *Parents, error) {
 	}
 	fine, _, err := New(Arrays{X: x, Tri: tri, Region: region, Bnd: bnd, BndTag: tag})
 	if err != nil {
-		return nil, nil, fmt.Errorf("mesh: RefineUniform: %w", err)
+		return nil, nil, within("RefineUniform", err)
 	}
 	return fine, p, nil
 }

@@ -24,7 +24,7 @@ func TestRefineUniform(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			q0 := m.Quality()
+			q0 := mustQuality(t, m)
 			for level := range 4 {
 				f, p, err := m.RefineUniform()
 				if err != nil {
@@ -63,12 +63,12 @@ func TestRefineUniform(t *testing.T) {
 				// Newest-vertex bisection of these right isosceles meshes
 				// makes only similar triangles (Mitchell 1991): the angles
 				// do not change.
-				q := f.Quality()
+				q := mustQuality(t, f)
 				if math.Abs(q.MinAngle-q0.MinAngle) > tol || math.Abs(q.MaxAngle-q0.MaxAngle) > tol {
 					t.Fatalf("angles [%g, %g], want [%g, %g]", q.MinAngle, q.MaxAngle, q0.MinAngle, q0.MaxAngle)
 				}
-				if math.Abs(q.HMax-m.Quality().HMax/2) > tol {
-					t.Fatalf("h_max %g, want half of %g", q.HMax, m.Quality().HMax)
+				if math.Abs(q.HMax-mustQuality(t, m).HMax/2) > tol {
+					t.Fatalf("h_max %g, want half of %g", q.HMax, mustQuality(t, m).HMax)
 				}
 				m = f
 			}
@@ -105,7 +105,7 @@ func TestQuality(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	q := m.Quality()
+	q := mustQuality(t, m)
 	const tol = 1e-14
 	if math.Abs(q.MaxAngle-math.Pi/2) > tol || math.Abs(q.MinAngle-math.Atan2(3, 4)) > tol {
 		t.Errorf("angles %g %g, want %g %g", q.MinAngle, q.MaxAngle, math.Atan2(3, 4), math.Pi/2)

@@ -18,17 +18,16 @@ import (
 func Corner(alpha float64) fem.Exact {
 	return fem.Exact{
 		U: func(x, y float64) float64 {
-			r, th := polar(x, y)
-			return math.Pow(r, alpha) * math.Sin(alpha*th)
+			return powR2(x*x+y*y, alpha) * math.Sin(alpha*angle(x, y))
 		},
 		Grad: func(x, y float64) (float64, float64) {
-			r, th := polar(x, y)
-			if r == 0 {
+			r2 := x*x + y*y
+			if r2 == 0 {
 				return 0, 0 // singular for α < 1; a measure-zero point
 			}
-			c := alpha * math.Pow(r, alpha-1)
-			s, co := math.Sincos((alpha - 1) * th)
-			return c * s, c * co
+			c := alpha * powR2(r2, alpha-1)
+			sn, cs := math.Sincos((alpha - 1) * angle(x, y))
+			return c * sn, c * cs
 		},
 		Singular: [][2]float64{{0, 0}},
 	}

@@ -53,4 +53,4 @@ import "errors"
 
 // ErrDegree is wrapped by every error returned for a requested degree or
 // number of points outside the supported range. Use errors.Is to detect it.
-var ErrDegree = errors.New("quadrature: unsupported degree or number of points")
+var ErrDegree = errors.New("unsupported degree or number of points")

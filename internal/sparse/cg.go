@@ -122,7 +122,8 @@ type CGResult struct {
 // r·M⁻¹r <= 0 or a NaN or infinity appears, meaning A or pre is not SPD or
 // the data are bad. After a breakdown x holds the last iterate; it is
 // finite unless the iteration overflowed, in which case Residual is +Inf.
-func CG(a Operator, b, x []float64, pre Preconditioner, s CGSettings) (CGResult, error) {
+func CG(a Operator, b, x []float64, pre Preconditioner, s CGSettings) (_ CGResult, err error) {
+	defer inContext("CG", &err)
 	var res CGResult
 	n, c := a.Dims()
 	if n != c {

@@ -176,7 +176,8 @@ func (m *CSR) Diagonal(dst []float64) []float64 {
 // strictly ascending within each row, and finite values. It returns nil or
 // an error wrapping ErrDims or ErrStructure, or an *EntryError wrapping
 // ErrIndex, ErrStructure or ErrNotFinite that names the entry.
-func (m *CSR) Validate() error {
+func (m *CSR) Validate() (err error) {
+	defer inContext("Validate", &err)
 	if m.Rows < 0 || m.Cols < 0 || m.Rows > math.MaxInt32 || m.Cols > math.MaxInt32 {
 		return fmt.Errorf("%w: dimensions %dx%d", ErrDims, m.Rows, m.Cols)
 	}

@@ -7,41 +7,42 @@ import (
 )
 
 // Sentinel errors. Every error returned by this package wraps one of these,
-// so callers can test for a failure class with errors.Is.
+// so callers can test for a failure class with errors.Is. Their texts carry
+// no package prefix; the errors that wrap them start with "sparse: ".
 var (
 	// ErrDims reports mismatched dimensions or vector lengths, or negative
 	// sizes.
-	ErrDims = errors.New("sparse: dimension mismatch")
+	ErrDims = errors.New("dimension mismatch")
 
 	// ErrIndex reports a row or column index outside the matrix.
-	ErrIndex = errors.New("sparse: index out of range")
+	ErrIndex = errors.New("index out of range")
 
 	// ErrNotFinite reports a NaN or infinite value where a finite one is
 	// required.
-	ErrNotFinite = errors.New("sparse: value not finite")
+	ErrNotFinite = errors.New("value not finite")
 
 	// ErrNotPositive reports a diagonal entry that is zero or negative where
 	// a positive one is required (for example by NewJacobi).
-	ErrNotPositive = errors.New("sparse: value not positive")
+	ErrNotPositive = errors.New("value not positive")
 
 	// ErrStructure reports a CSR whose storage arrays are inconsistent:
 	// wrong lengths, decreasing row pointers or column indices that are not
 	// strictly ascending within a row.
-	ErrStructure = errors.New("sparse: malformed structure")
+	ErrStructure = errors.New("malformed structure")
 
 	// ErrSettings reports invalid CGSettings.
-	ErrSettings = errors.New("sparse: invalid settings")
+	ErrSettings = errors.New("invalid settings")
 
 	// ErrNotConverged reports that CG reached its iteration limit, or
 	// stagnated, before meeting the tolerance. The CGResult returned with it
 	// describes the last iterate, which is left in x.
-	ErrNotConverged = errors.New("sparse: not converged")
+	ErrNotConverged = errors.New("not converged")
 
 	// ErrBreakdown reports that CG could not continue: a curvature p·Ap or
 	// a preconditioned inner product r·M⁻¹r was not positive, or a NaN or
 	// infinity appeared. This means the operator or the preconditioner is
 	// not symmetric positive definite, or the data are bad.
-	ErrBreakdown = errors.New("sparse: breakdown")
+	ErrBreakdown = errors.New("breakdown")
 )
 
 // EntryError locates a failure at the matrix entry (Row, Col). Err carries
@@ -56,10 +57,31 @@ type EntryError struct {
 func (e *EntryError) Error() string {
 	reason := "unknown error"
 	if e.Err != nil {
-		reason = strings.TrimPrefix(e.Err.Error(), "sparse: ")
+		reason = e.Err.Error()
 	}
 	return fmt.Sprintf("sparse: entry (%d,%d): %s", e.Row, e.Col, reason)
 }
 
 // Unwrap returns the reason, for errors.Is and errors.As.
 func (e *EntryError) Unwrap() error { return e.Err }
+
+// inContext puts "sparse: <where>: " in front of *err, unless it is nil,
+// saying the package once: an EntryError's own "sparse: " is dropped.
+func inContext(where string, err *error) {
+	if *err != nil {
+		*err = &contextError{where: where, err: *err}
+	}
+}
+
+// contextError is an error of this package with the name of the function
+// that returned it; it unwraps to the error.
+type contextError struct {
+	where string
+	err   error
+}
+
+func (e *contextError) Error() string {
+	return "sparse: " + e.where + ": " + strings.TrimPrefix(e.err.Error(), "sparse: ")
+}
+
+func (e *contextError) Unwrap() error { return e.err }

@@ -36,7 +36,8 @@ type Jacobi struct{ inv []float64 }
 // *EntryError naming the row if a diagonal entry is missing, zero or
 // negative (wrapping ErrNotPositive), or NaN or infinite, or so small that
 // its reciprocal overflows (wrapping ErrNotFinite).
-func NewJacobi(m *CSR) (*Jacobi, error) {
+func NewJacobi(m *CSR) (_ *Jacobi, err error) {
+	defer inContext("NewJacobi", &err)
 	if m.Rows != m.Cols {
 		return nil, fmt.Errorf("%w: Jacobi needs a square matrix, have %dx%d", ErrDims, m.Rows, m.Cols)
 	}

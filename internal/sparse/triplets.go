@@ -24,7 +24,8 @@ import (
 // or hold more than math.MaxInt32 triplets; and an *EntryError wrapping
 // ErrIndex or ErrNotFinite for a triplet out of range or with a NaN or
 // infinite value or whose duplicates sum to an infinity.
-func FromTriplets(rows, cols int, ti, tj []int32, tv []float64) (*CSR, error) {
+func FromTriplets(rows, cols int, ti, tj []int32, tv []float64) (_ *CSR, err error) {
+	defer inContext("FromTriplets", &err)
 	if rows < 0 || cols < 0 || rows > math.MaxInt32-1 || cols > math.MaxInt32-1 {
 		return nil, fmt.Errorf("%w: dimensions %dx%d", ErrDims, rows, cols)
 	}
