@@ -2,7 +2,9 @@ package estimate
 
 import (
 	"cmp"
+	"errors"
 	"math"
+	"runtime"
 	"slices"
 	"testing"
 
@@ -263,5 +265,114 @@ func TestEquilibratedEffectivity(t *testing.T) {
 			}
 			t.Logf("%s P%d adaptive effectivities: %.4f", bc.name, deg, eff)
 		}
+	}
+}
+
+// The bound with reaction and with Neumann data that are not polynomials:
+// u = sin(πx) sin(πy) + x y on the unit square, −Δu + c u = f with
+// f = (2π² + c) sin(πx) sin(πy) + c x y (closed form), u = g on the left and
+// bottom sides, ∇u·n = g_N on the right and top; P1 and P2, uniform
+// refinement. C_F = 2/π: φ = 0 on x = 0 gives ‖φ‖ ≤ (2/π)‖∂_x φ‖ (first
+// eigenvalue (π/2)² of −φ'' on (0, 1) with φ(0) = 0, φ'(1) = 0).
+func TestEquilibratedReactionNeumann(t *testing.T) {
+	t.Parallel()
+	pi := math.Pi
+	u := func(x, y float64) float64 { return math.Sin(pi*x)*math.Sin(pi*y) + x*y }
+	grad := func(x, y float64) (float64, float64) {
+		return pi*math.Cos(pi*x)*math.Sin(pi*y) + y, pi*math.Sin(pi*x)*math.Cos(pi*y) + x
+	}
+	ex := fem.Exact{U: u, Grad: grad}
+	for _, c := range []float64{0, 10, 1e4} {
+		p := &fem.Problem{
+			C:         c,
+			F:         func(x, y float64) float64 { return (2*pi*pi+c)*math.Sin(pi*x)*math.Sin(pi*y) + c*x*y },
+			Dirichlet: map[int32]fem.Func{mesh.SideLeft: u, mesh.SideBottom: u},
+			Neumann: map[int32]fem.Func{
+				mesh.SideRight: func(x, y float64) float64 { gx, _ := grad(x, y); return gx },
+				mesh.SideTop:   func(x, y float64) float64 { _, gy := grad(x, y); return gy },
+			},
+		}
+		for _, deg := range []int{1, 2} {
+			m, _ := mesh.Rectangle(0, 0, 1, 1, 3, 3)
+			var eff []float64
+			for range 3 {
+				m, _, _ = m.RefineUniform()
+				uh := solveTol(t, m, deg, p, 1e-12)
+				_, e, err := TrueError(nil, uh, ex, p)
+				if err != nil {
+					t.Fatal(err)
+				}
+				in, parts, err := Equilibrated{Friedrichs: 2 / pi}.EstimateParts(nil, uh, p)
+				if err != nil {
+					t.Fatal(err)
+				}
+				if in.Total() < e {
+					t.Errorf("c = %g P%d: η = %.6g < error %.6g (%+v)", c, deg, in.Total(), e, parts)
+				}
+				eff = append(eff, in.Total()/e)
+			}
+			t.Logf("c = %g P%d η/error: %.4f", c, deg, eff)
+		}
+	}
+}
+
+// Results do not depend on GOMAXPROCS: every sum has a fixed order.
+func TestEquilibratedDeterministic(t *testing.T) {
+	ex, p := problems.Kellogg()
+	m, _ := mesh.Quadrants(16)
+	u, _, _ := run(t, m, 1, ex, p)
+	var got [2][]float64
+	for i, procs := range []int{1, 2} {
+		old := runtime.GOMAXPROCS(procs)
+		in, err := Equilibrated{}.Estimate(nil, u, p)
+		runtime.GOMAXPROCS(old)
+		if err != nil {
+			t.Fatal(err)
+		}
+		got[i] = in.Eta2
+	}
+	if !slices.Equal(got[0], got[1]) {
+		t.Error("indicators differ between GOMAXPROCS 1 and 2")
+	}
+}
+
+func TestEquilibratedBadInput(t *testing.T) {
+	t.Parallel()
+	m, _ := mesh.Rectangle(0, 0, 1, 1, 4, 4)
+	_, sp := sine()
+	u := solveTol(t, m, 1, sp, 1e-12)
+	all := map[int32]fem.Func{mesh.SideBottom: nil, mesh.SideRight: nil, mesh.SideTop: nil, mesh.SideLeft: nil}
+	mixed := map[int32]fem.Func{mesh.SideLeft: nil}
+	one := func(x, y float64) float64 { return 1 }
+	tests := []struct {
+		name string
+		q    Equilibrated
+		u    *fem.Function
+		p    *fem.Problem
+		want error
+	}{
+		{"AFunc", Equilibrated{}, u, &fem.Problem{AFunc: func(x, y float64, r int32) fem.Tensor { return fem.Scalar(1) }, Dirichlet: all}, ErrUnsupported},
+		{"pure Neumann", Equilibrated{}, u, &fem.Problem{PureNeumann: true}, ErrUnsupported},
+		{"negative Friedrichs", Equilibrated{Friedrichs: -1}, u, &fem.Problem{Dirichlet: all}, ErrArgument},
+		{"NaN Friedrichs", Equilibrated{Friedrichs: math.NaN()}, u, &fem.Problem{Dirichlet: all}, ErrArgument},
+		{"NaN source", Equilibrated{}, u, &fem.Problem{F: func(x, y float64) float64 { return math.NaN() }, Dirichlet: all}, ErrNotFinite},
+		{"NaN Neumann", Equilibrated{Friedrichs: 1}, u, &fem.Problem{Dirichlet: mixed, Neumann: map[int32]fem.Func{mesh.SideRight: func(x, y float64) float64 { return math.Inf(1) }}}, ErrNotFinite},
+		{"NaN Dirichlet", Equilibrated{}, u, &fem.Problem{Dirichlet: map[int32]fem.Func{mesh.SideBottom: func(x, y float64) float64 { return math.NaN() }, mesh.SideRight: nil, mesh.SideTop: nil, mesh.SideLeft: nil}}, ErrNotFinite},
+		// u_h of the sine problem is not the discrete solution of f = 1:
+		// ρ ≠ 0, and with Neumann sides no Friedrichs constant is known.
+		{"no Friedrichs", Equilibrated{}, u, &fem.Problem{F: one, Dirichlet: mixed}, ErrFriedrichs},
+		{"nil solution", Equilibrated{}, nil, &fem.Problem{Dirichlet: all}, ErrArgument},
+	}
+	for _, tc := range tests {
+		in, err := tc.q.Estimate(nil, tc.u, tc.p)
+		if !errors.Is(err, tc.want) || in != nil {
+			t.Errorf("%s: got %v, want %v", tc.name, err, tc.want)
+		}
+	}
+	// With the constant, the same estimate succeeds and bounds nothing
+	// smaller than its algebraic part.
+	_, parts, err := Equilibrated{Friedrichs: 2 / math.Pi}.EstimateParts(nil, u, &fem.Problem{F: one, Dirichlet: mixed})
+	if err != nil || !(parts.Algebraic > 0) {
+		t.Errorf("with a Friedrichs constant: %v, %+v", err, parts)
 	}
 }
