@@ -273,7 +273,7 @@ func TestEquilibratedEffectivity(t *testing.T) {
 // f = (2π² + c) sin(πx) sin(πy) + c x y (closed form), u = g on the left and
 // bottom sides, ∇u·n = g_N on the right and top; P1 and P2, uniform
 // refinement. C_F = 2/π: φ = 0 on x = 0 gives ‖φ‖ ≤ (2/π)‖∂_x φ‖ (first
-// eigenvalue (π/2)² of −φ'' on (0, 1) with φ(0) = 0, φ'(1) = 0).
+// eigenvalue (π/2)² of −φ” on (0, 1) with φ(0) = 0, φ'(1) = 0).
 func TestEquilibratedReactionNeumann(t *testing.T) {
 	t.Parallel()
 	pi := math.Pi
