@@ -27,6 +27,15 @@
 // averaging or by the superconvergent patch recovery (SPR) of Zienkiewicz
 // and Zhu.
 //
+// Equilibrated is the equilibrated-flux estimator (Prager–Synge): its
+// total is a guaranteed upper bound of the energy error, with no unknown
+// constant, for any contrast of a piecewise-constant diffusion, and it
+// includes the error of an inexactly solved u_h. Use it when the number
+// itself matters (a certified error, a stopping test); it costs one small
+// dense saddle-point solve per vertex. Residual and Recovery are cheaper and
+// good at locating the error, but their totals are off by an unknown
+// factor (see examples/compare).
+//
 // # Conventions
 //
 // h_T is the diameter (longest edge) of T; h_E the length of E. Indicators
@@ -36,7 +45,10 @@
 // fem.Function.Error.
 //
 // An estimate measures the discretization error of the finite element
-// solution of the stated problem, not modelling error; engineering use
+// solution of the stated problem (and, for Equilibrated, the algebraic
+// error of the given u_h), not modelling error: even the guaranteed bound
+// says nothing about whether the equation, its coefficients and its data
+// describe the physical system; engineering use
 // follows local codes and licensed practice.
 //
 // Every estimator is a fixed number of passes over the triangles, edges and

@@ -10,3 +10,9 @@ var (
 	ErrLength    = errors.New("lengths do not match")
 	ErrTooFew    = errors.New("too few points to fit a rate")
 )
+
+// Reasons the equilibrated estimator declines a problem, for errors.Is.
+var (
+	ErrUnsupported = errors.New("problem not supported by this estimator")
+	ErrFriedrichs  = errors.New("no Friedrichs constant known: set Equilibrated.Friedrichs")
+)

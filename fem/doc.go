@@ -26,6 +26,12 @@
 // nodes included; the assembled system keeps all of them, with identity
 // rows and columns at the Dirichlet nodes.
 //
+// Raviart–Thomas spaces (RTSpace): edge e carries the unit normal n_E, its
+// tangent from the low vertex Edge[2e] to the high vertex Edge[2e+1] turned
+// clockwise by a right angle; its DOFs are the moments ∫_E v·n_E L_j ds
+// against the Legendre polynomials in the same low-to-high parameter. A
+// triangle's interior DOFs follow its edge DOFs (see RTSpace).
+//
 // Diffusion is a symmetric positive definite 2×2 tensor, constant on each
 // region (Problem.A) or a function of position (Problem.AFunc). The energy
 // norm of an error e is (∫ a∇e·∇e + c e²)^½.
