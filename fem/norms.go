@@ -21,9 +21,11 @@ type Exact struct {
 	// Scale, if positive, is a length on which u varies away from the
 	// singular points: about the radius of a disc around each point in
 	// which u is analytic (a layer's width, a peak's radius). It bounds the
-	// length ℓ of Error's rule choice. Zero means no bound beyond the
-	// distance to the singular points; with no singular points either,
-	// every triangle gets the rule of degree ErrorDegree.
+	// length ℓ of Error's rule choice, which cuts a triangle of diameter
+	// h into about (h/(0.3ℓ))² pieces where h > 0.3ℓ: costly on coarse
+	// meshes when ℓ is small. Zero means no bound beyond the distance to
+	// the singular points; with no singular points either, every triangle
+	// gets the rule of degree ErrorDegree.
 	Scale float64
 }
 

@@ -18,7 +18,7 @@ func Sine() (fem.Exact, *fem.Problem) {
 	u := func(x, y float64) float64 { return math.Sin(math.Pi*x) * math.Sin(math.Pi*y) }
 	ex := fem.Exact{U: u, Grad: func(x, y float64) (float64, float64) {
 		return math.Pi * math.Cos(math.Pi*x) * math.Sin(math.Pi*y), math.Pi * math.Sin(math.Pi*x) * math.Cos(math.Pi*y)
-	}, Scale: 1 / math.Pi} // each derivative gains a factor π
+	}}
 	p := &fem.Problem{
 		F:         func(x, y float64) float64 { return 2 * math.Pi * math.Pi * u(x, y) },
 		Dirichlet: dirichletAll(nil),
@@ -36,7 +36,7 @@ func Peak() (fem.Exact, *fem.Problem) {
 	ex := fem.Exact{U: u, Grad: func(x, y float64) (float64, float64) {
 		v := u(x, y)
 		return -2 * a * (x - x0) * v, -2 * a * (y - y0) * v
-	}, Scale: 1 / math.Sqrt(a)} // the peak's radius
+	}}
 	p := &fem.Problem{
 		F: func(x, y float64) float64 {
 			r2 := (x-x0)*(x-x0) + (y-y0)*(y-y0)
@@ -55,7 +55,7 @@ func Layer() (fem.Exact, *fem.Problem) {
 	u := func(x, y float64) float64 { return math.Exp(-x/eps) + y }
 	ex := fem.Exact{U: u, Grad: func(x, y float64) (float64, float64) {
 		return -math.Exp(-x/eps) / eps, 1
-	}, Scale: eps} // the layer's width
+	}}
 	p := &fem.Problem{
 		F:         func(x, y float64) float64 { return -math.Exp(-x/eps) / (eps * eps) },
 		Dirichlet: dirichletAll(u),
