@@ -57,3 +57,37 @@ func BenchmarkLoop(b *testing.B) {
 		})
 	}
 }
+
+// BenchmarkLoopTrueError runs the main example's loop (L-shape, P1,
+// residual estimator, Dörfler θ = 0.5, nested iteration) with its exact
+// solution, so that every step also measures the true error, and reports
+// the time of that measurement over the time of the loop's own stages
+// (solve, estimate, mark, refine) in the same run ("error/loop"), and the
+// measurement's cost per triangle visited.
+func BenchmarkLoopTrueError(b *testing.B) {
+	for _, n := range []int{1e4, 1e5, 1e6} {
+		b.Run(fmt.Sprintf("dofs=%.0e", float64(n)), func(b *testing.B) {
+			m0, err := mesh.LShape(2)
+			if err != nil {
+				b.Fatal(err)
+			}
+			ex, p := problems.LShape()
+			var errTime, loopTime time.Duration
+			tris := 0
+			for b.Loop() {
+				res, err := Run(context.Background(), Problem{Mesh: m0, Degree: 1, Data: p, Exact: &ex},
+					Settings{MaxDOFs: n, AlgebraicFraction: 0.1}, Method{})
+				if err != nil {
+					b.Fatal(err)
+				}
+				for _, s := range res.Steps {
+					errTime += s.ErrorTime
+					loopTime += s.SolveTime + s.EstimateTime + s.MarkTime + s.RefineTime
+					tris += s.Triangles
+				}
+			}
+			b.ReportMetric(errTime.Seconds()/loopTime.Seconds(), "error/loop")
+			b.ReportMetric(float64(errTime.Nanoseconds())/float64(tris), "error-ns/triangle")
+		})
+	}
+}
