@@ -115,11 +115,10 @@ func (u *Function) errors(dst []float64, ex Exact, p *Problem, energyOnly bool) 
 	if !energyOnly {
 		l2, h1 = make([]float64, nt), make([]float64, nt)
 	}
-	err := parallel.For(nt, 256, func(lo, hi int) error {
-		it, err := newErrorIntegrator(u, ex, p, energyOnly)
-		if err != nil {
-			return err
-		}
+	// The cost per triangle varies (the rule's degree, the cuts near
+	// singular points): chunks are handed out as workers finish.
+	start := func() (*errorIntegrator, error) { return newErrorIntegrator(u, ex, p, energyOnly) }
+	err := parallel.Dynamic(nt, 1024, start, func(it *errorIntegrator, lo, hi int) error {
 		for k := lo; k < hi; k++ {
 			s, err := it.triangle(k)
 			if err != nil {
