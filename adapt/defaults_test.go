@@ -67,15 +67,14 @@ func cellMesh(t testing.TB, h float64, cells [][3]int, tag func(x0, y0, x1, y1 f
 	return m
 }
 
-// finProblem is a T-shaped fin of our own: a flange of 11 × 1 cells of
-// 1 cm (conductivity 50, region 1) on a stem of 1 × 4 cells below its
-// middle cell (conductivity 1, region 0), a unit heat source in the stem,
+// finProblem is a T-shaped fin of our own: a flange of 21 × 1 cells of
+// 1 cm (conductivity 1, region 1) on a stem of 1 × 4 cells below its
+// middle cell (conductivity 50, region 0), a unit heat source in the stem,
 // the temperature held at 0 at both ends of the flange (tag 1) and the
 // other sides insulated.
-var finFlange, finStem = 21, 4
-
 func finProblem(t testing.TB) (*mesh.Mesh, *fem.Problem) {
-	h, flange, stem := 0.01, finFlange, finStem
+	const flange, stem = 21, 4
+	h := 0.01 // a variable, so that the ends are computed as cellMesh computes the vertices
 	var cells [][3]int
 	for i := range flange {
 		cells = append(cells, [3]int{i, stem, 1})
@@ -90,6 +89,16 @@ func finProblem(t testing.TB) (*mesh.Mesh, *fem.Problem) {
 		return 0
 	}
 	m := cellMesh(t, h, cells, ends)
+	ends1 := 0
+	_, tags := m.BoundaryEdges()
+	for _, g := range tags {
+		if g == 1 {
+			ends1++
+		}
+	}
+	if ends1 != 2 {
+		t.Fatalf("fin: %d edges carry tag 1, want the 2 ends", ends1)
+	}
 	return m, &fem.Problem{
 		A: map[int32]fem.Tensor{0: fem.Scalar(50), 1: fem.Scalar(1)},
 		F: func(x, y float64) float64 {
