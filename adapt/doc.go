@@ -8,7 +8,8 @@
 // and a Method (a Solver, an estimate.Estimator and a Marker, each
 // replaceable). Each step
 //
-//	solve on the current mesh, starting from the previous solution carried to it,
+//	solve on the current mesh, starting from the previous solution carried to it
+//	  (by default until the algebraic error is a tenth of the previous estimate),
 //	estimate η_T² per triangle,
 //	measure the true error (when an exact solution is given),
 //	record the step,

@@ -94,7 +94,7 @@ func FuzzCSV(f *testing.F) {
 	_ = WriteCSV(&b, []Step{{Step: 0, Triangles: 24, DOFs: 21, FreeDOFs: 5, Estimate: 0.9, HasError: true, Error: 0.3, Effectivity: 3}})
 	f.Add(b.String())
 	f.Add("step\n")
-	f.Add(b.String() + "1,2,3,4,5,6,,,7,8,9,10,11,12,13\n")
+	f.Add(b.String() + "1,2,3,4,5,6,,,7,8,9,10,11,12,13,true\n")
 	f.Fuzz(func(t *testing.T, s string) {
 		steps, err := ReadCSV(bytes.NewBufferString(s))
 		if err != nil {

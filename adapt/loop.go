@@ -36,14 +36,28 @@ type Settings struct {
 	// OnStep, if not nil, sees each step's record as the step ends. It must
 	// not keep or modify the Step; an error it returns stops the loop.
 	OnStep func(Step) error
-	// AlgebraicFraction, if positive, lets a TargetSolver stop each solve
-	// after the first once its estimate of the algebraic error in the
-	// energy norm is at most AlgebraicFraction times the previous step's
-	// estimate η (nested iteration: the discretization error, not the
-	// solver, then dominates). 0 means every solve runs to the solver's
-	// own tolerance. A value of 0.1 is a common choice.
+	// AlgebraicFraction is the nested-iteration rule for a TargetSolver
+	// (such as the default FEMSolver): each solve after the first, warm
+	// started from the previous solution, stops once the solver's estimate
+	// of the algebraic error in the energy norm is at most
+	// AlgebraicFraction times the previous step's estimate η, so that the
+	// discretization error, not the solver, dominates. Zero means
+	// DefaultAlgebraicFraction (0.1); a negative value turns the rule off,
+	// so that every solve runs to the solver's own tolerance. The first
+	// solve, and any solve whose previous η is 0, also runs to the solver's
+	// own tolerance. A solve stops earlier still at the solver's residual
+	// tolerance or at its rounding floor (fem.SolveSettings.Tol documents
+	// the floor: about u κ(A) in relative residual, u = 2⁻⁵³), whichever
+	// it reaches first; Step.AtFloor records the floor.
 	AlgebraicFraction float64
 }
+
+// DefaultAlgebraicFraction is the nested-iteration fraction that
+// Settings.AlgebraicFraction = 0 selects. With it, the multigrid solves
+// after the first on the adaptive L-shape loop to 5e4 DOFs take at most 5
+// iterations (a full solve on the last mesh: 10), and the final error and
+// estimate are those of full solves to within 0.1% (TestNestedIteration).
+const DefaultAlgebraicFraction = 0.1
 
 // Method is how each step is done. Nil fields take the defaults:
 // FEMSolver{} (this library's assembly and solver), estimate.Residual{} and
@@ -65,11 +79,16 @@ type Solver interface {
 }
 
 // TargetSolver is a Solver that can also stop at an estimated algebraic
-// error: SolveTo returns once its estimate of ‖u − u_k‖ in the energy norm
-// is at most energyTol (or its own tolerance is met).
+// error and reports its stats: SolveTo returns once its estimate of
+// ‖u − u_k‖ in the energy norm is at most energyTol (never, for
+// energyTol = 0), or its own tolerance or rounding floor is met. The loop
+// calls SolveTo, not Solve, for every step, and records stats.Iterations
+// and stats.AtFloor (a TargetSolver fills in the fields that apply). A
+// type that embeds FEMSolver is a TargetSolver, so to wrap the solve it
+// must wrap SolveTo.
 type TargetSolver interface {
 	Solver
-	SolveTo(s *fem.Space, p *fem.Problem, guess []float64, energyTol float64) (u []float64, iterations int, err error)
+	SolveTo(s *fem.Space, p *fem.Problem, guess []float64, energyTol float64) (u []float64, stats fem.SolveStats, err error)
 }
 
 // FEMSolver is the default Solver: fem.Assemble and System.Solve with the
@@ -81,25 +100,29 @@ type FEMSolver struct {
 var _ TargetSolver = FEMSolver{}
 
 // SolveTo solves as Solve does, also stopping once the estimated energy
-// error is at most energyTol (fem.SolveSettings.EnergyTol).
-func (f FEMSolver) SolveTo(s *fem.Space, p *fem.Problem, guess []float64, energyTol float64) ([]float64, int, error) {
-	f.Settings.EnergyTol = energyTol
-	return f.Solve(s, p, guess)
+// error is at most energyTol (fem.SolveSettings.EnergyTol; 0 leaves the
+// settings' own value), and returns the solver's stats.
+func (f FEMSolver) SolveTo(s *fem.Space, p *fem.Problem, guess []float64, energyTol float64) ([]float64, fem.SolveStats, error) {
+	sys, err := fem.Assemble(s, p)
+	if err != nil {
+		return nil, fem.SolveStats{}, err
+	}
+	st := f.Settings
+	st.X0 = guess
+	if energyTol > 0 {
+		st.EnergyTol = energyTol
+	}
+	u, stats, err := sys.Solve(st)
+	if err != nil {
+		return nil, stats, err
+	}
+	return u.U, stats, nil
 }
 
 // Solve assembles and solves p on s, starting from guess.
 func (f FEMSolver) Solve(s *fem.Space, p *fem.Problem, guess []float64) ([]float64, int, error) {
-	sys, err := fem.Assemble(s, p)
-	if err != nil {
-		return nil, 0, err
-	}
-	st := f.Settings
-	st.X0 = guess
-	u, stats, err := sys.Solve(st)
-	if err != nil {
-		return nil, stats.Iterations, err
-	}
-	return u.U, stats.Iterations, nil
+	u, stats, err := f.SolveTo(s, p, guess, 0)
+	return u, stats.Iterations, err
 }
 
 // Status says why the loop stopped.
@@ -200,6 +223,10 @@ func Run(ctx context.Context, p Problem, s Settings, meth Method) (*Result, erro
 	if meth.Marker == nil {
 		meth.Marker = Dorfler{Theta: 0.5}
 	}
+	frac := s.AlgebraicFraction
+	if frac == 0 {
+		frac = DefaultAlgebraicFraction
+	}
 	res := &Result{}
 	m := p.Mesh
 	var guess *fem.Function // previous solution, carried to m
@@ -226,13 +253,17 @@ func Run(ctx context.Context, p Problem, s Settings, meth Method) (*Result, erro
 			g = guess.U
 		}
 		var uv []float64
-		var iters int
-		if ts, ok := meth.Solver.(TargetSolver); ok && s.AlgebraicFraction > 0 && step > 0 {
-			uv, iters, err = ts.SolveTo(sp, p.Data, g, s.AlgebraicFraction*res.Steps[step-1].Estimate)
+		var st fem.SolveStats
+		if ts, ok := meth.Solver.(TargetSolver); ok {
+			etol := 0.0
+			if frac > 0 && step > 0 {
+				etol = frac * res.Steps[step-1].Estimate
+			}
+			uv, st, err = ts.SolveTo(sp, p.Data, g, etol)
 		} else {
-			uv, iters, err = meth.Solver.Solve(sp, p.Data, g)
+			uv, st.Iterations, err = meth.Solver.Solve(sp, p.Data, g)
 		}
-		rec.Iterations, rec.SolveTime = iters, time.Since(t)
+		rec.Iterations, rec.AtFloor, rec.SolveTime = st.Iterations, st.AtFloor, time.Since(t)
 		if err != nil {
 			return fail(StageSolve, err)
 		}
@@ -349,8 +380,8 @@ func check(p Problem, s Settings) error {
 		return fmt.Errorf("adapt: Run: %w: Degree = %d, want 1 or 2", ErrSettings, p.Degree)
 	case s.Tol < 0 || s.Tol != s.Tol:
 		return fmt.Errorf("adapt: Run: %w: Tol = %g, want ≥ 0", ErrSettings, s.Tol)
-	case !(s.AlgebraicFraction >= 0) || math.IsInf(s.AlgebraicFraction, 0):
-		return fmt.Errorf("adapt: Run: %w: AlgebraicFraction = %g, want a finite value ≥ 0", ErrSettings, s.AlgebraicFraction)
+	case math.IsNaN(s.AlgebraicFraction) || math.IsInf(s.AlgebraicFraction, 0):
+		return fmt.Errorf("adapt: Run: %w: AlgebraicFraction = %g, want a finite value (0: default, negative: off)", ErrSettings, s.AlgebraicFraction)
 	case s.MaxDOFs < 0 || s.MaxSteps < 0:
 		return fmt.Errorf("adapt: Run: %w: MaxDOFs = %d, MaxSteps = %d, want ≥ 0", ErrSettings, s.MaxDOFs, s.MaxSteps)
 	case s.Tol == 0 && s.MaxDOFs == 0 && s.MaxSteps == 0:

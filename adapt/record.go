@@ -25,16 +25,17 @@ type Step struct {
 	Effectivity float64 // Estimate / Error
 	Marked      int     // triangles marked for refinement (0 at the last step)
 	Iterations  int     // solver iterations
+	AtFloor     bool    // whether the solve stopped at the rounding floor (fem.SolveStats.AtFloor), not at a tolerance
 
 	SolveTime, EstimateTime, ErrorTime, MarkTime, RefineTime time.Duration
 }
 
 // CSVHeader is the header line of the step records in CSV: one column per
 // field of Step, times in seconds; error and effectivity are empty when
-// they were not measured.
+// they were not measured; at_floor is true or false.
 var CSVHeader = []string{
 	"step", "triangles", "dofs", "free_dofs", "estimate", "oscillation", "error", "effectivity",
-	"marked", "iterations", "solve_s", "estimate_s", "error_s", "mark_s", "refine_s",
+	"marked", "iterations", "solve_s", "estimate_s", "error_s", "mark_s", "refine_s", "at_floor",
 }
 
 // WriteCSV writes the records with CSVHeader as the first line. Numbers are
@@ -55,6 +56,7 @@ func WriteCSV(w io.Writer, steps []Step) error {
 			strconv.Itoa(s.Step), strconv.Itoa(s.Triangles), strconv.Itoa(s.DOFs), strconv.Itoa(s.FreeDOFs),
 			f(s.Estimate), f(s.Oscillation), e, eff, strconv.Itoa(s.Marked), strconv.Itoa(s.Iterations),
 			sec(s.SolveTime), sec(s.EstimateTime), sec(s.ErrorTime), sec(s.MarkTime), sec(s.RefineTime),
+			strconv.FormatBool(s.AtFloor),
 		}
 		if err := cw.Write(row); err != nil {
 			return fmt.Errorf("adapt: WriteCSV: %w", err)
@@ -72,8 +74,9 @@ var ErrCSV = errors.New("malformed step records")
 
 // ReadCSV reads records written by WriteCSV. Times are rounded to the
 // nanosecond. It rejects a wrong header, a wrong number of fields, numbers
-// that do not parse, negative counts, and NaN or infinite values, with an
-// error that names the line and column.
+// that do not parse, negative counts, NaN or infinite values, and an
+// at_floor other than true or false, with an error that names the line and
+// column.
 func ReadCSV(r io.Reader) ([]Step, error) {
 	cr := csv.NewReader(r)
 	cr.FieldsPerRecord = len(CSVHeader)
@@ -121,6 +124,17 @@ func ReadCSV(r io.Reader) ([]Step, error) {
 			}
 			return v
 		}
+		boolAt := func() bool {
+			col++
+			v, err := strconv.ParseBool(row[col-1])
+			if err == nil && row[col-1] != strconv.FormatBool(v) {
+				err = errors.New("want true or false")
+			}
+			if err != nil && bad == nil {
+				bad = fmt.Errorf("%w: line %d, column %s: %v", ErrCSV, line, CSVHeader[col-1], err)
+			}
+			return v
+		}
 		dur := func() time.Duration { return time.Duration(math.Round(floatAt() * 1e9)) }
 		s.Step, s.Triangles, s.DOFs, s.FreeDOFs = intAt(), intAt(), intAt(), intAt()
 		s.Estimate, s.Oscillation = floatAt(), floatAt()
@@ -132,6 +146,7 @@ func ReadCSV(r io.Reader) ([]Step, error) {
 		}
 		s.Marked, s.Iterations = intAt(), intAt()
 		s.SolveTime, s.EstimateTime, s.ErrorTime, s.MarkTime, s.RefineTime = dur(), dur(), dur(), dur(), dur()
+		s.AtFloor = boolAt()
 		if bad != nil {
 			return nil, bad
 		}

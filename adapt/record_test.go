@@ -21,6 +21,7 @@ func TestCSVRoundTrip(t *testing.T) {
 			Error: 0.05, Effectivity: 2.469135780246, Marked: 3, Iterations: 7, SolveTime: 1500 * time.Microsecond},
 		{Step: 1, Triangles: 30, DOFs: 25, FreeDOFs: 9, Estimate: 1e-300, Oscillation: 3.5e-7, Marked: 0, Iterations: 0,
 			EstimateTime: time.Second, ErrorTime: 0, MarkTime: 3 * time.Nanosecond, RefineTime: time.Hour},
+		{Step: 2, Triangles: 44, DOFs: 31, FreeDOFs: 15, Estimate: 0.01, Iterations: 27, AtFloor: true},
 	}
 	var b bytes.Buffer
 	if err := WriteCSV(&b, steps); err != nil {
@@ -45,12 +46,15 @@ func TestCSVRoundTrip(t *testing.T) {
 	for _, bad := range []string{
 		"",
 		"step,dofs\n",
-		head + "0,1,2,3,0.1,0,,,0,0,0,0,0,0\n", // too few fields
-		head + "0,1,2,3,x,0,,,0,0,0,0,0,0,0\n", // not a number
-		head + "0,-1,2,3,0.1,0,,,0,0,0,0,0,0,0\n",   // negative count
-		head + "0,1,2,3,NaN,0,,,0,0,0,0,0,0,0\n",    // NaN
-		head + "0,1,2,3,0.1,0,0.5,,0,0,0,0,0,0,0\n", // effectivity missing
-		head + "0,1,2,3,0.1,0,,,0,0,0,0,0,0,+Inf\n", // infinite time
+		head + "0,1,2,3,0.1,0,,,0,0,0,0,0,0,0\n", // too few fields (the former 15 columns)
+		head + "0,1,2,3,x,0,,,0,0,0,0,0,0,0,false\n",        // not a number
+		head + "0,-1,2,3,0.1,0,,,0,0,0,0,0,0,0,false\n",     // negative count
+		head + "0,1,2,3,NaN,0,,,0,0,0,0,0,0,0,false\n",      // NaN
+		head + "0,1,2,3,0.1,0,0.5,,0,0,0,0,0,0,0,false\n",   // effectivity missing
+		head + "0,1,2,3,0.1,0,,,0,0,0,0,0,0,+Inf,false\n",   // infinite time
+		head + "0,1,2,3,0.1,0,,,0,0,0,0,0,0,0,\n",           // at_floor empty
+		head + "0,1,2,3,0.1,0,,,0,0,0,0,0,0,0,1\n",          // at_floor not true or false
+		head + "0,1,2,3,0.1,0,,,0,0,0,0,0,0,0,false,true\n", // too many fields
 	} {
 		if _, err := ReadCSV(strings.NewReader(bad)); !errors.Is(err, ErrCSV) {
 			t.Errorf("%q: %v, want ErrCSV", bad, err)

@@ -37,6 +37,13 @@ func (o observer) Solve(s *fem.Space, p *fem.Problem, guess []float64) ([]float6
 	return o.FEMSolver.Solve(s, p, guess)
 }
 
+// SolveTo is the method the loop calls (observer is a TargetSolver through
+// the embedded FEMSolver).
+func (o observer) SolveTo(s *fem.Space, p *fem.Problem, guess []float64, energyTol float64) ([]float64, fem.SolveStats, error) {
+	*o.cur = s.Mesh
+	return o.FEMSolver.SolveTo(s, p, guess, energyTol)
+}
+
 // A long run: the L-shape loop to about 2e6 DOFs (40 steps or more),
 // checking after each step, with runtime.ReadMemStats after a GC, that the
 // live heap stays within soakHeapFactor times the current mesh's size.

@@ -30,8 +30,29 @@ type SolveSettings struct {
 	Preconditioner Preconditioner
 	// Tol is the relative residual ‖B − A u‖₂ / ‖B‖₂ at which the solver
 	// stops; zero means 1e-10.
+	//
+	// Rounding sets a floor under the attainable relative residual: the
+	// residual of a stored u is computed with an error of up to
+	//
+	//	φ = ‖ γ_{mᵢ+1} (|B| + |A| |u|)ᵢ ‖₂ ≤ γ_{m+1} (1 + √m κ₂(A)) ‖B‖₂,
+	//	γ_j = j u₀ / (1 − j u₀),   u₀ = 2⁻⁵³,
+	//
+	// with mᵢ the entries of row i of A and m their maximum, so it grows
+	// like u₀ κ₂(A) (Higham, Accuracy and Stability of Numerical
+	// Algorithms, 2002, §3.5; the drift of the conjugate gradient residual:
+	// Greenbaum, SIAM J. Matrix Anal. Appl. 18, 1997; both from memory; the
+	// details are in internal/sparse, CGSettings.Tol). On graded meshes the
+	// default Tol can lie below what rounding allows: on the adaptive P2
+	// mesh of a two-material fin with 45,734 DOFs and smallest triangle
+	// 2.4e-9 (package adapt, TestFinDefaults) φ / ‖B‖₂ = 2.25e-9, and the
+	// solve from zero stagnates at 1.37e-10. A residual that stagnates
+	// within the floor ends the solve with SolveStats.AtFloor set and no
+	// error; one that stagnates above it is an error wrapping
+	// ErrNotConverge.
 	Tol float64
-	// MaxIter limits the iterations; zero means 10·n + 100 for n DOFs.
+	// MaxIter limits the iterations; zero means 10·n + 100 for n DOFs, a
+	// guard that the default multigrid preconditioner does not reach on a
+	// well-posed problem. Reaching it is an error wrapping ErrNotConverge.
 	MaxIter int
 	// X0 is the initial guess (length NumDOF); nil means zero, with the
 	// Dirichlet values in place.
@@ -49,13 +70,19 @@ type SolveStats struct {
 	Iterations  int     // preconditioned conjugate gradient iterations
 	Residual    float64 // final relative residual ‖B − A u‖₂ / ‖B‖₂
 	EnergyError float64 // the solver's last estimate of the algebraic error in the energy norm (0 before 4 iterations)
+	AtFloor     bool    // whether the solve stopped at the rounding floor, above Tol (see SolveSettings.Tol); not an error
+	Floor       float64 // the rounding floor, as a relative residual, where the solver computed it (at a stagnation), else 0
 }
 
 // Solve solves the system by the preconditioned conjugate gradient method,
-// with algebraic multigrid by default (see Preconditioner). For a pure Neumann problem the solution
-// is shifted to zero mean value. It returns an error wrapping
-// ErrNotConverge, with the stats of the last iterate, when the tolerance is
-// not met within MaxIter iterations.
+// with algebraic multigrid by default (see Preconditioner). For a pure
+// Neumann problem the solution is shifted to zero mean value. It stops at
+// Tol, at EnergyTol, or at the rounding floor (SolveStats.AtFloor; see
+// SolveSettings.Tol), and fails only for genuine non-convergence: it
+// returns an error wrapping ErrNotConverge, with the stats of the last
+// iterate, when MaxIter iterations pass or the residual stagnates above the
+// rounding floor, and an error naming the breakdown when the matrix or the
+// preconditioner proves not positive definite.
 func (sys *System) Solve(s SolveSettings) (*Function, SolveStats, error) {
 	n := sys.Space.NumDOF()
 	x := make([]float64, n)
@@ -90,7 +117,7 @@ func (sys *System) Solve(s SolveSettings) (*Function, SolveStats, error) {
 		return nil, SolveStats{}, fmt.Errorf("fem: Solve: %w", err)
 	}
 	res, err := sparse.CG(sys.A, sys.B, x, pre, sparse.CGSettings{Tol: s.Tol, MaxIter: s.MaxIter, EnergyTol: s.EnergyTol})
-	stats := SolveStats{Iterations: res.Iterations, Residual: res.Residual, EnergyError: res.EnergyError}
+	stats := SolveStats{Iterations: res.Iterations, Residual: res.Residual, EnergyError: res.EnergyError, AtFloor: res.AtFloor, Floor: res.Floor}
 	if err != nil {
 		if errors.Is(err, sparse.ErrNotConverged) {
 			return nil, stats, fmt.Errorf("fem: Solve: %w after %d iterations (relative residual %.3g): %w", ErrNotConverge, res.Iterations, res.Residual, err)

@@ -24,6 +24,47 @@ type CGSettings struct {
 	// Tol is the relative residual tolerance: CG stops once
 	// ||b - A x||₂ <= Tol ||b||₂. Zero means DefaultTol (1e-10); any other
 	// value must lie in the open interval (0, 1).
+	//
+	// Rounding bounds the attainable relative residual from below. The
+	// residual of a stored x is computed with an error of up to
+	//
+	//	φ₀ = ‖ γ_{mᵢ+1} (|b| + |A| |x|)ᵢ ‖₂ ≤ γ_{m+1} (1 + √m κ₂(A)) ‖b‖₂,
+	//	γ_j = j u / (1 − j u),   u = 2⁻⁵³,
+	//
+	// with mᵢ the entries stored in row i, m their maximum and
+	// κ₂(A) = ‖A‖₂ ‖A⁻¹‖₂ (the inequality uses ‖|A|‖₂ ≤ ‖A‖_∞ ≤ √m ‖A‖₂
+	// for symmetric A and ‖x‖₂ ≤ ‖A⁻¹‖₂ ‖b‖₂), so no test can resolve a
+	// relative residual much below φ₀ / ‖b‖₂, a floor that grows like
+	// u κ(A). Besides, the recursively updated residual of CG drifts from
+	// the true one, by O(u) ‖|A| |x|‖ per iteration near the solution and
+	// by up to O(k u κ(A)) relative after k iterations; CG resets the
+	// drift by residual replacement, and after a replacement it compares
+	// the true residual again as soon as the recursive one has halved.
+	// The rounding level after k iterations since the last replacement is
+	//
+	//	φ_k = ‖ γ_{mᵢ+1+k} (|b| + |A| |x|)ᵢ ‖₂.
+	//
+	// When the true residual, still above Tol, does not decrease over two
+	// replacements in a row, CG stops: at the floor (CGResult.AtFloor and
+	// Converged, no error) if it is at most φ_k, otherwise with
+	// ErrNotConverged. In TestCGFloor (1D stiffness matrices with
+	// κ₂ = 2e9 to 6e15, Jacobi) CG stopped at 0.09 to 0.13 times φ_k, at
+	// 0.6 to 1.2 times the residual of a Cholesky solution; on the
+	// adaptive P2 mesh of a two-material fin with 45,734 DOFs (package
+	// adapt, TestFinDefaults) from zero at 1.37e-10 = 0.06 φ_k / ‖b‖₂.
+	// φ needs the entries of A, so for an operator other than *CSR a
+	// stagnation is always ErrNotConverged.
+	//
+	// References (from memory):
+	//   - N. J. Higham, Accuracy and Stability of Numerical Algorithms,
+	//     2nd ed., SIAM, 2002: §3.5 (fl(A x) = (A + ΔA) x, |ΔA| ≤ γ_m |A|)
+	//     and §7.1 (normwise backward error, Rigal and Gaches).
+	//   - A. Greenbaum, Estimating the attainable accuracy of recursively
+	//     computed residual methods, SIAM J. Matrix Anal. Appl. 18 (1997)
+	//     535–551.
+	//   - H. A. van der Vorst and Q. Ye, Residual replacement strategies
+	//     for Krylov subspace iterative methods for the convergence of true
+	//     residuals, SIAM J. Sci. Comput. 22 (2000) 835–852.
 	Tol float64
 
 	// MaxIter is the largest number of iterations (products with A
@@ -48,6 +89,11 @@ type CGSettings struct {
 
 // EnergyDelay is the delay d of the energy-norm error estimate of CG.
 const EnergyDelay = 4
+
+// floorStalls is the number of residual replacements in a row after which
+// a true residual that stays within the rounding level stops CG at the
+// floor (see CGSettings.Tol).
+const floorStalls = 2
 
 // resolve returns the effective tolerance and iteration limit for n
 // unknowns.
@@ -82,9 +128,18 @@ type CGResult struct {
 	// breakdown, and 0 when b = 0.
 	Residual float64
 
-	// Converged reports whether Residual <= Tol, or the energy estimate
-	// met EnergyTol.
+	// Converged reports whether Residual <= Tol, the energy estimate met
+	// EnergyTol, or CG stopped at the rounding floor (AtFloor).
 	Converged bool
+
+	// AtFloor reports whether CG stopped at the rounding floor: the true
+	// residual, above Tol, did not decrease over two residual replacements
+	// in a row and is within the rounding level φ_k (see CGSettings.Tol).
+	AtFloor bool
+
+	// Floor is the rounding level φ_k / ‖b‖₂ of the returned x (see
+	// CGSettings.Tol) if CG computed it, at a stagnation, and 0 otherwise.
+	Floor float64
 
 	// EnergyError is the last energy-norm error estimate (see
 	// CGSettings.EnergyTol), or 0 if fewer than EnergyDelay iterations ran
@@ -99,8 +154,10 @@ type CGResult struct {
 // The iteration stops when the recursively updated residual satisfies
 // ||r_k||₂ <= Tol ||b||₂; the true residual b - A x_k is then recomputed,
 // and if it fails the test CG restarts from it (residual replacement)
-// rather than report a false convergence. If b = 0 then x is set to 0 and
-// CG returns at once with 0 iterations.
+// rather than report a false convergence. A true residual that stays above
+// Tol but within the rounding level over two replacements in a row stops CG
+// at the floor, with no error (see CGSettings.Tol). If b = 0 then x is set
+// to 0 and CG returns at once with 0 iterations.
 //
 // CG allocates three work vectors of length n per call (four unless pre is
 // Identity), for n > 65536 and GOMAXPROCS > 1 also a few small objects for
@@ -116,11 +173,13 @@ type CGResult struct {
 // Errors: ErrDims if A is not square or b, x or pre (if it has a
 // Len() int method) do not match it; ErrSettings for invalid settings;
 // ErrNotFinite if b or the initial x hold a NaN or infinity (x is then left
-// untouched); ErrNotConverged when MaxIter iterations pass, or the true
-// residual stops decreasing, before the tolerance is met (the result then
-// describes the last iterate, left in x); and ErrBreakdown when p·Ap <= 0,
-// r·M⁻¹r <= 0 or a NaN or infinity appears, meaning A or pre is not SPD or
-// the data are bad. After a breakdown x holds the last iterate; it is
+// untouched); ErrNotConverged when MaxIter iterations pass before the
+// tolerance is met (as for an inconsistent singular system, whose residual
+// keeps its component along the null space), or the true residual stops
+// decreasing above the rounding level (an inexact or changing operator;
+// in both cases the result describes the last iterate, left in x); and
+// ErrBreakdown when p·Ap <= 0, r·M⁻¹r <= 0 or a NaN or infinity appears,
+// meaning A or pre is not SPD or the data are bad. After a breakdown x holds the last iterate; it is
 // finite unless the iteration overflowed, in which case Residual is +Inf.
 func CG(a Operator, b, x []float64, pre Preconditioner, s CGSettings) (_ CGResult, err error) {
 	defer inContext("CG", &err)
@@ -185,7 +244,10 @@ func CG(a Operator, b, x []float64, pre Preconditioner, s CGSettings) (_ CGResul
 		res.Converged = true
 		return res, nil
 	}
-	lastTrue := math.Sqrt(rr)
+	lastTrue := math.Sqrt(rr) // the smallest true residual so far
+	stalls := 0               // residual replacements in a row without progress
+	check := thresh           // the recursive residual at which to compute the true one
+	replaced := 0             // the iteration of the last residual replacement
 
 	var rz float64 // r·z for the current residual
 	restart := true
@@ -242,10 +304,11 @@ func CG(a Operator, b, x []float64, pre Preconditioner, s CGSettings) (_ CGResul
 				return res, nil
 			}
 		}
-		if math.Sqrt(rr) > thresh {
+		if math.Sqrt(rr) > check {
 			continue
 		}
-		// The recursive residual passes: confirm with the true one.
+		// The recursive residual meets Tol, or has halved since the last
+		// replacement: compare with the true one.
 		rr = trueResidual(a, b, x, r, q)
 		rn := math.Sqrt(rr)
 		if rn <= thresh {
@@ -253,12 +316,28 @@ func CG(a Operator, b, x []float64, pre Preconditioner, s CGSettings) (_ CGResul
 			res.Converged = true
 			return res, nil
 		}
-		if !(rn < lastTrue) {
-			res.Residual, res.Converged = finalResidual(a, b, x, r, q, bnorm, thresh)
-			return res, fmt.Errorf("%w: stagnated after %d iterations at relative residual %.3g > Tol %.3g",
-				ErrNotConverged, res.Iterations, res.Residual, tol)
+		if rn < lastTrue {
+			lastTrue, stalls = rn, 0
+		} else {
+			// No progress since the last residual replacement.
+			stalls++
+			phi, ok := roundingLevel(a, b, x, res.Iterations-replaced)
+			res.Residual, res.Floor = rn/bnorm, phi/bnorm
+			switch {
+			case !ok:
+				return res, fmt.Errorf("%w: stagnated after %d iterations at relative residual %.3g > Tol %.3g",
+					ErrNotConverged, res.Iterations, res.Residual, tol)
+			case !(rn <= phi):
+				return res, fmt.Errorf("%w: stagnated after %d iterations at relative residual %.3g > Tol %.3g, above the rounding level %.3g",
+					ErrNotConverged, res.Iterations, res.Residual, tol, res.Floor)
+			case stalls >= floorStalls:
+				res.Converged, res.AtFloor = true, true
+				return res, nil
+			}
 		}
-		lastTrue = rn
+		// Replace the residual; check again once the recursive residual
+		// has halved, or met Tol.
+		check, replaced = max(thresh, rn/2), res.Iterations
 		restart = true
 		nhs = 0
 	}

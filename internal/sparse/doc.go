@@ -65,8 +65,12 @@
 // not depend on the preconditioner). Because the recursively updated rₖ
 // drifts from the true residual b - A xₖ in floating point, the test is
 // then repeated with the true residual; if that fails, the iteration
-// restarts from it. CGResult.Residual always reports the true relative
-// residual ‖b - A x‖₂ / ‖b‖₂ of the returned x.
+// restarts from it. Rounding sets a floor under the attainable residual,
+// of order u κ(A) relative (u = 2⁻⁵³); a true residual that stagnates
+// within it is a convergence at the floor (CGResult.AtFloor), not an error
+// (CGSettings.Tol gives the bound and its sources). CGResult.Residual
+// always reports the true relative residual ‖b - A x‖₂ / ‖b‖₂ of the
+// returned x.
 //
 // Two preconditioners are provided: Identity (none) and Jacobi (the
 // diagonal of A). Others can be supplied through the Preconditioner
