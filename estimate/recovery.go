@@ -65,13 +65,15 @@ func (m Method) String() string {
 // that region, so that a jump of a is not smeared; the triangles of a
 // region use that region's recovered value.
 //
-// Measured limits (examples/compare, adaptive runs to 2e4 DOFs): the P1
-// effectivity is within 1.00 ± 0.02 on the smooth, L-shape, slit, peak and
-// layer problems, for both methods; P2 averaging underestimates (0.4–0.85),
-// P2 SPR stays within 0.95–1.1. On the Kellogg checkerboard, whose solution
-// is only in H^{1.1}, both methods underestimate by 2–3× (0.30–0.45): the
-// recovered gradient stays bounded at the singular point, so the error of
-// the triangles around it is missed. Residual has no such blind spot.
+// Measured limits (go run ./examples/compare: adaptive runs to 2e4 DOFs,
+// final effectivities): the P1 effectivity is within 1.00 ± 0.02 on the
+// smooth, L-shape, slit, peak and layer problems, for both methods; P2
+// averaging underestimates (0.33–0.85), P2 SPR stays within 0.95–1.1. On
+// the Kellogg checkerboard, whose solution is only in H^{1.1}, both methods
+// underestimate by 2–3.5× (0.29–0.43 at the last step, 0.22–0.57 over the
+// steps): the recovered gradient stays bounded at the singular point, so
+// the error of the triangles around it is missed. Residual has no such
+// blind spot.
 //
 // The data oscillation is computed as by Residual. η_T is integrated with
 // the Dunavant rule of degree 2p (2p + 2 for AFunc); for P1 with

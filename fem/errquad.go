@@ -49,7 +49,7 @@ import (
 //     extrapolation of a geometric tail).
 const (
 	errRadialRatio  = 0.25 // σ of the geometric layers in s and t
-	errRadialPoints = 14   // Gauss–Legendre points per layer
+	errRadialPoints = 12   // Gauss–Legendre points per layer
 	errRelTol       = 1e-12
 	errMaxLayers    = 40
 	errMaxDepth     = 40 // subdivisions into four of a piece near a singular point
@@ -76,6 +76,7 @@ type errorIntegrator struct {
 	hasScale bool
 	needU    bool      // the L² error or a reaction term needs u itself
 	table    ruleTable // the rules away from singular points
+	locate   bool      // check every value, to locate a NaN or infinity
 	// Fast path: P1 without u, whose gradient (gx, gy) is constant on the
 	// triangle.
 	constGrad bool
@@ -124,7 +125,7 @@ func (it *errorIntegrator) at(x, y float64, l [3]float64) (e2, g2, en float64) {
 	}
 	ux, uy := it.ex.Grad(x, y)
 	e, dx, dy := ue-v, ux-gx, uy-gy
-	if math.IsNaN(e+dx+dy) || math.IsInf(e+dx+dy, 0) {
+	if it.locate && (math.IsNaN(e+dx+dy) || math.IsInf(e+dx+dy, 0)) {
 		if it.bad == nil {
 			it.bad = atTriangle(it.ev.k, x, y, fmt.Errorf("%w: exact solution or its gradient", ErrNotFinite))
 		}
@@ -147,27 +148,47 @@ func (it *errorIntegrator) triangle(k int) (errSums, error) {
 	}
 	it.bad = nil
 	if it.constGrad = it.degree == 1 && !it.needU; it.constGrad {
-		_, it.gx, it.gy = it.ev.Eval([3]float64{1.0 / 3, 1.0 / 3, 1.0 / 3})
+		// ∇u_h = Σ u_i ∇λ_i.
+		it.gx, it.gy = 0, 0
+		for i := range 3 {
+			it.gx += it.ev.coef[i] * g.gl[i][0]
+			it.gy += it.ev.coef[i] * g.gl[i][1]
+		}
 	}
-	corners := [3][3]float64{{1, 0, 0}, {0, 1, 0}, {0, 0, 1}}
-	var s errSums
-	if len(it.ex.Singular) == 0 && !it.hasScale {
-		s = it.rule(corners, g.area, it.full)
-	} else {
-		s = it.piece(corners, g.area, 0)
+	s := it.integrate(g.area)
+	if v := s[0] + s[1] + s[2]; math.IsNaN(v) || math.IsInf(v, 0) {
+		// Integrate again, checking each point, to locate the bad value.
+		it.locate = true
+		it.integrate(g.area)
+		it.locate = false
+		if it.bad == nil {
+			it.bad = atPiece(k, fmt.Errorf("%w: error integral", ErrNotFinite))
+		}
 	}
 	return s, it.bad
+}
+
+// integrate integrates over the current triangle, of the given area.
+func (it *errorIntegrator) integrate(area float64) errSums {
+	corners := [3][3]float64{{1, 0, 0}, {0, 1, 0}, {0, 0, 1}}
+	if len(it.ex.Singular) == 0 && !it.hasScale {
+		return it.rule(corners, area, it.full)
+	}
+	return it.piece(corners, area, 0)
 }
 
 // rule applies r on the piece with barycentric corners c and the given area.
 func (it *errorIntegrator) rule(c [3][3]float64, area float64, r *quadrature.Triangle) errSums {
 	g := &it.ev.g
+	whole := c == [3][3]float64{{1, 0, 0}, {0, 1, 0}, {0, 0, 1}}
 	var s errSums
 	for q := range r.Len() {
-		a, b, d := r.Bary[3*q], r.Bary[3*q+1], r.Bary[3*q+2]
-		var l [3]float64
-		for i := range 3 {
-			l[i] = a*c[0][i] + b*c[1][i] + d*c[2][i]
+		l := [3]float64{r.Bary[3*q], r.Bary[3*q+1], r.Bary[3*q+2]}
+		if !whole {
+			a, b, d := l[0], l[1], l[2]
+			for i := range 3 {
+				l[i] = a*c[0][i] + b*c[1][i] + d*c[2][i]
+			}
 		}
 		x, y := g.point(l)
 		e2, g2, en := it.at(x, y, l)

@@ -1,6 +1,7 @@
 package fem
 
 import (
+	"errors"
 	"fmt"
 	"math"
 	"math/rand/v2"
@@ -307,4 +308,48 @@ func TestRuleChoiceAccuracy(t *testing.T) {
 		}
 	}
 	t.Logf("largest relative differences: %v", worst)
+}
+
+// Bad exact solutions are errors that say where: a NaN gradient names its
+// triangle and point, on the rule path and on the singular path; missing
+// functions, a negative Scale and a NaN singular point are rejected.
+func TestErrorBadExact(t *testing.T) {
+	t.Parallel()
+	m, err := mesh.Rectangle(0, 0, 1, 1, 4, 4)
+	if err != nil {
+		t.Fatal(err)
+	}
+	s, _ := NewSpace(m, 1)
+	u := &Function{Space: s, U: make([]float64, s.NumDOF())}
+	nanRight := func(x, y float64) (float64, float64) {
+		if x > 0.6 {
+			return math.NaN(), 0
+		}
+		return 1, 0
+	}
+	one := func(x, y float64) float64 { return 1 }
+	for _, sing := range [][][2]float64{nil, {{0.75, 0.5}}} {
+		for _, energy := range []bool{false, true} {
+			var err error
+			ex := Exact{U: one, Grad: nanRight, Singular: sing}
+			if energy {
+				_, _, err = u.EnergyError(nil, ex, nil)
+			} else {
+				_, _, err = u.Error(nil, ex, nil)
+			}
+			var de *DataError
+			if !errors.Is(err, ErrNotFinite) || !errors.As(err, &de) || de.Triangle < 0 || !de.AtPoint || !(de.X > 0.6) {
+				t.Errorf("singular %v, energy %v: error %v, want a located ErrNotFinite at x > 0.6", sing, energy, err)
+			}
+		}
+	}
+	for name, ex := range map[string]Exact{
+		"no gradient":    {U: one},
+		"negative scale": {U: one, Grad: nanRight, Scale: -1},
+		"NaN point":      {U: one, Grad: nanRight, Singular: [][2]float64{{math.NaN(), 0}}},
+	} {
+		if _, _, err := u.Error(nil, ex, nil); !errors.Is(err, ErrArgument) && !errors.Is(err, ErrNotFinite) {
+			t.Errorf("%s: error %v", name, err)
+		}
+	}
 }
