@@ -139,13 +139,20 @@ func basis(nc int, xi, eta float64, b []float64) {
 	}
 }
 
-// Estimate computes the recovery indicators and the data oscillation. For
-// Averaging with P1 and piecewise-constant a it makes one pass over the
-// triangles for the gradients, one scan of the triangles per range of
-// vertices for the vertex sums and one pass over the triangles for η_T²;
-// otherwise one pass over the vertices and one over the triangles. Each pass
-// is split over GOMAXPROCS goroutines and every sum is taken in an order
-// fixed by the mesh, so the result does not depend on GOMAXPROCS.
+// Estimate computes the recovery indicators and the data oscillation. Each
+// pass is split over GOMAXPROCS goroutines and every sum is taken in an
+// order fixed by the mesh, so the result does not depend on GOMAXPROCS.
+//
+// A fast path for a special case; if it does not apply, the general but
+// slower implementation:
+//
+//   - Averaging, P1, piecewise-constant a (averagingP1, averaging.go): one
+//     pass over the triangles for the gradients, one scan of the triangles
+//     per range of vertices for the vertex sums and one pass over the
+//     triangles for η_T², on the arrays of the mesh and the nodal values.
+//   - otherwise, that is for SPR, P2 or AFunc (general): one pass over the
+//     vertices for the recovered gradient (averagePatches in averaging.go,
+//     fitPatches in spr.go) and one over the triangles for η_T².
 //
 // A Method other than Averaging and SPR is an error wrapping ErrArgument.
 func (r Recovery) Estimate(dst *Indicators, u *fem.Function, p *fem.Problem) (*Indicators, error) {
@@ -156,9 +163,10 @@ func (r Recovery) Estimate(dst *Indicators, u *fem.Function, p *fem.Problem) (*I
 	if err != nil {
 		return nil, err
 	}
-	if r.Method != SPR && u.Space.Degree == 1 && p.PiecewiseConstant() {
+	switch {
+	case r.Method == Averaging && u.Space.Degree == 1 && p.PiecewiseConstant():
 		err = averagingP1(dst, u, p)
-	} else {
+	default:
 		err = r.general(dst, u, p)
 	}
 	if err != nil {
@@ -167,8 +175,10 @@ func (r Recovery) Estimate(dst *Indicators, u *fem.Function, p *fem.Problem) (*I
 	return dst, nil
 }
 
-// general is Estimate for every case, after prepare: the path of SPR, P2
-// and AFunc, against which the P1 averaging fast path is tested.
+// general is Estimate for every input, after prepare: the path of SPR, P2
+// and AFunc, and the reference against which the P1 averaging fast path is
+// tested. η_T² is integrated in closed form (recoveryNormP1) for P1 with
+// piecewise-constant a, else by quadrature (recoveryNorm).
 func (r Recovery) general(dst *Indicators, u *fem.Function, p *fem.Problem) error {
 	s := u.Space
 	m := s.Mesh
@@ -176,11 +186,10 @@ func (r Recovery) general(dst *Indicators, u *fem.Function, p *fem.Problem) erro
 	vstart, vtri := m.VertexTriangles()
 	rc := sides(m, vstart, vtri)
 	var err error
-	switch r.Method {
-	case SPR:
+	if r.Method == SPR {
 		rc.nc = 3 * deg
 		err = fitPatches(u, rc, vstart, vtri)
-	default:
+	} else {
 		rc.nc = 1
 		err = averagePatches(u, rc, vstart, vtri)
 	}
@@ -252,78 +261,6 @@ func sides(m *mesh.Mesh, vstart, vtri []int32) *recovered {
 		rc.start[v+1] = int32(len(rc.region))
 	}
 	return rc
-}
-
-// averagePatches stores, per vertex side, the area-weighted mean gradient.
-func averagePatches(u *fem.Function, rc *recovered, vstart, vtri []int32) error {
-	m := u.Space.Mesh
-	ns := len(rc.region)
-	rc.coef = make([]float64, 2*ns)
-	if u.Space.Degree == 1 {
-		return averageP1(u, rc, vstart, vtri)
-	}
-	return parallel.For(m.NumVertices(), 1024, func(lo, hi int) error {
-		ev := fem.NewEvaluator(u)
-		for v := lo; v < hi; v++ {
-			for s := rc.start[v]; s < rc.start[v+1]; s++ {
-				gx, gy := sideAverage(ev, m, vtri[vstart[v]:vstart[v+1]], int32(v), rc.region[s])
-				rc.coef[2*s], rc.coef[2*s+1] = gx, gy
-			}
-		}
-		return nil
-	})
-}
-
-// averageP1 is averagePatches for P1, where the gradient is constant on
-// each triangle: one pass stores |T| and |T|∇u_h per triangle, one pass
-// sums them per vertex side (in patch order, so the sums do not depend on
-// GOMAXPROCS).
-func averageP1(u *fem.Function, rc *recovered, vstart, vtri []int32) error {
-	m := u.Space.Mesh
-	ag := make([]float64, 3*m.NumTriangles()) // |T|, |T| ∂x u_h, |T| ∂y u_h
-	_ = parallel.For(m.NumTriangles(), 2048, func(lo, hi int) error {
-		ev := fem.NewEvaluator(u)
-		for k := lo; k < hi; k++ {
-			ev.Load(k)
-			_, gx, gy := ev.Eval([3]float64{1. / 3, 1. / 3, 1. / 3})
-			a := ev.Area()
-			ag[3*k], ag[3*k+1], ag[3*k+2] = a, a*gx, a*gy
-		}
-		return nil
-	})
-	return parallel.For(m.NumVertices(), 2048, func(lo, hi int) error {
-		for v := lo; v < hi; v++ {
-			patch := vtri[vstart[v]:vstart[v+1]]
-			for s := rc.start[v]; s < rc.start[v+1]; s++ {
-				var a, gx, gy float64
-				for _, k := range patch {
-					if m.Region[k] == rc.region[s] {
-						a, gx, gy = a+ag[3*k], gx+ag[3*k+1], gy+ag[3*k+2]
-					}
-				}
-				rc.coef[2*s], rc.coef[2*s+1] = gx/a, gy/a
-			}
-		}
-		return nil
-	})
-}
-
-// sideAverage returns the area-weighted mean of the gradients at vertex v
-// of the triangles of region r in patch.
-func sideAverage(ev *fem.Evaluator, m *mesh.Mesh, patch []int32, v int32, r int32) (gx, gy float64) {
-	area := 0.0
-	for _, k := range patch {
-		if m.Region[k] != r {
-			continue
-		}
-		ev.Load(int(k))
-		var l [3]float64
-		l[localVertex(m, int(k), v)] = 1
-		_, x, y := ev.Eval(l)
-		a := ev.Area()
-		gx, gy, area = gx+a*x, gy+a*y, area+a
-	}
-	return gx / area, gy / area
 }
 
 // nodeValues fills g with the recovered gradient at the local nodes of the

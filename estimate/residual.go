@@ -52,22 +52,38 @@ type Residual struct {
 
 var _ Estimator = Residual{}
 
-// Estimate computes the residual indicators and the data oscillation. It is
-// one pass over the triangles, one over the edges and one more over the
-// triangles that adds the edge terms, each split over GOMAXPROCS
-// goroutines; every value is computed by one goroutine in a fixed order, so
-// the result does not depend on GOMAXPROCS. For P1 with piecewise-constant
-// a the passes work on the arrays of the mesh and the nodal values: the
-// first stores the flux a∇u_h of each triangle, from which the second
-// takes the edge terms in closed form.
+// Estimate computes the residual indicators and the data oscillation, in
+// three passes, each split over GOMAXPROCS goroutines: one over the
+// triangles (element residual and oscillation), one over the edges (edge
+// terms) and one more over the triangles that adds the edge terms. Every
+// value is computed by one goroutine in a fixed order, so the result does
+// not depend on GOMAXPROCS.
+//
+// Fast paths for special cases; if none of them applies, the general but
+// slower implementation:
+//
+//   - P1, piecewise-constant a (residualP1, residual_p1.go): the passes work
+//     on the arrays of the mesh and the nodal values; the first stores the
+//     flux a∇u_h of each triangle, from which the second takes the edge
+//     terms in closed form.
+//   - P2, piecewise-constant a (residualP2, residual_p2.go): the first pass
+//     also stores the flux a∇u_h at the vertices of each triangle, from
+//     which the second takes the jumps and the homogeneous boundary terms in
+//     closed form.
+//   - otherwise, that is for AFunc (general): every term by quadrature, a and
+//     ∇u_h evaluated at each point.
 func (r Residual) Estimate(dst *Indicators, u *fem.Function, p *fem.Problem) (*Indicators, error) {
 	dst, err := prepare("Residual", dst, u, p)
 	if err != nil {
 		return nil, err
 	}
-	if u.Space.Degree == 1 && p.PiecewiseConstant() && !r.plainJumps {
+	pc := p.PiecewiseConstant() && !r.plainJumps
+	switch {
+	case pc && u.Space.Degree == 1:
 		err = residualP1(dst, u, p)
-	} else {
+	case pc && u.Space.Degree == 2:
+		err = residualP2(dst, u, p)
+	default:
 		err = r.general(dst, u, p)
 	}
 	if err != nil {
@@ -76,12 +92,13 @@ func (r Residual) Estimate(dst *Indicators, u *fem.Function, p *fem.Problem) (*I
 	return dst, nil
 }
 
-// general is Estimate for every case, after prepare: the path of P2 and of
-// AFunc, against which the P1 fast path is tested.
+// general is Estimate for every input, after prepare: the path of AFunc,
+// and the reference against which the fast paths are tested. The edge
+// terms are integrated by the Gauss–Legendre rule of degree 2p + 2, which
+// is exact for piecewise-constant a.
 func (r Residual) general(dst *Indicators, u *fem.Function, p *fem.Problem) error {
-	s := u.Space
-	m := s.Mesh
-	deg := s.Degree
+	m := u.Space.Mesh
+	deg := u.Space.Degree
 	rule, err := quadrature.ForTriangle(2*deg + 2)
 	if err != nil {
 		return err
@@ -90,23 +107,42 @@ func (r Residual) general(dst *Indicators, u *fem.Function, p *fem.Problem) erro
 	if err != nil {
 		return err
 	}
-	// With piecewise-constant a the element pass also stores the flux
-	// a∇u_h at the vertices of each triangle and the weight a_T, so that
-	// the edge pass needs no evaluation.
-	fast := p.PiecewiseConstant()
-	var flux, wt []float64
-	if fast {
-		flux = make([]float64, 6*m.NumTriangles())
-		wt = make([]float64, m.NumTriangles())
+	if err := elementPass(dst, u, p, rule, nil); err != nil {
+		return err
 	}
-	// Element residuals into Eta2, oscillation into Osc2.
-	zero := deg == 1 && p.F == nil && p.C == 0 // the element residual and the oscillation vanish
-	err = parallel.For(m.NumTriangles(), 512, func(lo, hi int) error {
+	jump := make([]float64, m.NumEdges())
+	err = parallel.For(m.NumEdges(), 512, func(lo, hi int) error {
+		e1, e2 := fem.NewEvaluator(u), fem.NewEvaluator(u)
+		for e := lo; e < hi; e++ {
+			v, err := edgeTerm(e1, e2, m, p, line, e, r.plainJumps)
+			if err != nil {
+				return err
+			}
+			jump[e] = v
+		}
+		return nil
+	})
+	if err != nil {
+		return err
+	}
+	addEdges(dst, m, jump)
+	return nil
+}
+
+// elementPass writes the element residual of each triangle into Eta2 and
+// its oscillation into Osc2, integrated by rule. each, if not nil, is called
+// first with the loaded triangle.
+func elementPass(dst *Indicators, u *fem.Function, p *fem.Problem, rule *quadrature.Triangle, each func(ev *fem.Evaluator, k int)) error {
+	m := u.Space.Mesh
+	// For P1 with piecewise-constant a and no f and c, the element residual
+	// and the oscillation vanish.
+	zero := u.Space.Degree == 1 && p.F == nil && p.C == 0 && p.PiecewiseConstant()
+	return parallel.For(m.NumTriangles(), 512, func(lo, hi int) error {
 		ev := fem.NewEvaluator(u)
 		for k := lo; k < hi; k++ {
 			ev.Load(k)
-			if fast {
-				r.vertexFlux(ev, p, flux[6*k:6*k+6], &wt[k])
+			if each != nil {
+				each(ev, k)
 			}
 			if zero {
 				dst.Eta2[k], dst.Osc2[k] = 0, 0
@@ -120,29 +156,12 @@ func (r Residual) general(dst *Indicators, u *fem.Function, p *fem.Problem) erro
 		}
 		return nil
 	})
-	if err != nil {
-		return err
-	}
-	// Edge terms: h_E ‖J‖²_E per edge.
-	jump := make([]float64, m.NumEdges())
-	err = parallel.For(m.NumEdges(), 512, func(lo, hi int) error {
-		e1, e2 := fem.NewEvaluator(u), fem.NewEvaluator(u)
-		for e := lo; e < hi; e++ {
-			if fast && (!m.IsBoundary(e) || p.Neumann[m.EdgeTag[e]] == nil) {
-				jump[e] = fastEdge(m, p, deg, flux, wt, e)
-				continue
-			}
-			v, err := r.edgeTerm(e1, e2, m, p, line, e)
-			if err != nil {
-				return err
-			}
-			jump[e] = v
-		}
-		return nil
-	})
-	if err != nil {
-		return err
-	}
+}
+
+// addEdges adds to Eta2 the terms jump of the edges of each triangle, in
+// local edge order: the whole term of a boundary edge, half of that of an
+// interior edge.
+func addEdges(dst *Indicators, m *mesh.Mesh, jump []float64) {
 	_ = parallel.For(m.NumTriangles(), 4096, func(lo, hi int) error {
 		for k := lo; k < hi; k++ {
 			for _, e := range m.TriEdge[3*k : 3*k+3] {
@@ -155,7 +174,6 @@ func (r Residual) general(dst *Indicators, u *fem.Function, p *fem.Problem) erro
 		}
 		return nil
 	})
-	return nil
 }
 
 // elementResidual returns h_T² ‖f + ∇·(a∇u_h) − c u_h‖²_T and
@@ -201,15 +219,7 @@ func elementResidual(ev *fem.Evaluator, p *fem.Problem, rule *quadrature.Triangl
 func oscillation(ev *fem.Evaluator, rule *quadrature.Triangle, f []float64) float64 {
 	area := ev.Area()
 	if ev.Degree() == 1 {
-		mean := 0.0
-		for q, v := range f {
-			mean += rule.W[q] * v
-		}
-		o := 0.0
-		for q, v := range f {
-			o += rule.W[q] * (v - mean) * (v - mean)
-		}
-		return o * area
+		return oscP0(rule, f) * area
 	}
 	// Projection onto linears: with b_i = ∫ f λ_i / |T|, the mass matrix
 	// (1 + δ_ij)/12 has inverse 3(4δ_ij − 1), so c_i = 3(4 b_i − Σ b).
@@ -249,8 +259,9 @@ func divAFunc(p *fem.Problem, x, y float64, region int32, h, gx, gy float64, hes
 
 // edgeTerm returns h_E ‖[[a∇u_h·n]]‖²_E for an interior edge,
 // h_E ‖g_N − a∇u_h·n‖²_E for a Neumann or untagged boundary edge, and 0 for
-// a Dirichlet edge.
-func (r Residual) edgeTerm(e1, e2 *fem.Evaluator, m *mesh.Mesh, p *fem.Problem, line *quadrature.Line, e int) (float64, error) {
+// a Dirichlet edge, by the Gauss–Legendre rule line. With plain (the test
+// hook of Residual) the flux is ∇u_h·n and the weight 1.
+func edgeTerm(e1, e2 *fem.Evaluator, m *mesh.Mesh, p *fem.Problem, line *quadrature.Line, e int, plain bool) (float64, error) {
 	tag := m.EdgeTag[e]
 	boundary := m.IsBoundary(e)
 	if boundary {
@@ -283,7 +294,7 @@ func (r Residual) edgeTerm(e1, e2 *fem.Evaluator, m *mesh.Mesh, p *fem.Problem, 
 			var l [3]float64
 			l[la], l[lb] = 1-t, t
 			_, gx, gy := ev.Eval(l)
-			if r.plainJumps {
+			if plain {
 				return gx*nx + gy*ny
 			}
 			fx, fy := p.Diffusion(x, y, ev.Region()).Apply(gx, gy)
@@ -306,20 +317,8 @@ func (r Residual) edgeTerm(e1, e2 *fem.Evaluator, m *mesh.Mesh, p *fem.Problem, 
 	if !boundary {
 		w = max(w, weight(e2, p))
 	}
-	if r.plainJumps {
+	if plain {
 		w = 1
-	}
-	if p.PiecewiseConstant() && (!boundary || p.Neumann[tag] == nil) {
-		// The flux is a polynomial of degree p − 1 along the edge: exact.
-		j0, err := flux(0)
-		if err != nil {
-			return 0, err
-		}
-		if e1.Degree() == 1 {
-			return hE * hE * j0 * j0 / w, nil
-		}
-		j1, _ := flux(1)
-		return hE * hE * (j0*j0 + j0*j1 + j1*j1) / 3 / w, nil
 	}
 	sum := 0.0
 	for q, t := range line.X {
@@ -343,85 +342,4 @@ func weight(ev *fem.Evaluator, p *fem.Problem) float64 {
 func minEig(t fem.Tensor) float64 {
 	h := 0.5 * (t.XX - t.YY)
 	return 0.5*(t.XX+t.YY) - math.Sqrt(h*h+t.XY*t.XY)
-}
-
-// localEdge returns i such that edge e is edge i (opposite vertex i) of
-// triangle k.
-func localEdge(m *mesh.Mesh, k, e int) int {
-	for i := range 3 {
-		if int(m.TriEdge[3*k+i]) == e {
-			return i
-		}
-	}
-	panic("estimate: edge not in its triangle") // broken topology invariant
-}
-
-// localVertex returns the local index of vertex v in triangle k.
-func localVertex(m *mesh.Mesh, k int, v int32) int {
-	for i := range 3 {
-		if m.Tri[3*k+i] == v {
-			return i
-		}
-	}
-	panic("estimate: vertex not in its triangle") // broken topology invariant
-}
-
-// vertexFlux stores the flux a∇u_h (∇u_h for the plainJumps test hook) at
-// the three vertices of the loaded triangle, and its weight a_T (1 for the
-// hook).
-func (r Residual) vertexFlux(ev *fem.Evaluator, p *fem.Problem, flux []float64, wt *float64) {
-	x, y := ev.Point([3]float64{1. / 3, 1. / 3, 1. / 3})
-	t := p.Diffusion(x, y, ev.Region())
-	*wt = weight(ev, p)
-	if r.plainJumps {
-		t, *wt = fem.Scalar(1), 1
-	}
-	for i := range 3 {
-		if i > 0 && ev.Degree() == 1 {
-			flux[2*i], flux[2*i+1] = flux[0], flux[1]
-			continue
-		}
-		var l [3]float64
-		l[i] = 1
-		_, gx, gy := ev.Eval(l)
-		flux[2*i], flux[2*i+1] = t.Apply(gx, gy)
-	}
-}
-
-// fastEdge returns the edge term of edge e from the stored vertex fluxes:
-// h_E ‖[[a∇u_h·n]]‖²_E / a_E for an interior edge, h_E ‖a∇u_h·n‖²_E / a_T
-// for a natural or homogeneous Neumann boundary edge, 0 for a Dirichlet
-// edge. The flux is a polynomial of degree p − 1 along the edge, integrated
-// exactly.
-func fastEdge(m *mesh.Mesh, p *fem.Problem, deg int, flux, wt []float64, e int) float64 {
-	boundary := m.IsBoundary(e)
-	if boundary {
-		if _, ok := p.Dirichlet[m.EdgeTag[e]]; ok {
-			return 0
-		}
-	}
-	va, vb := m.Edge[2*e], m.Edge[2*e+1]
-	ax, ay := m.Vertex(int(va))
-	bx, by := m.Vertex(int(vb))
-	hE := math.Hypot(bx-ax, by-ay)
-	nx, ny := (by-ay)/hE, (ax-bx)/hE
-	k1 := int(m.EdgeTri[2*e])
-	la1, lb1 := localVertex(m, k1, va), localVertex(m, k1, vb)
-	cx, cy := m.Vertex(int(m.Tri[3*k1+3-la1-lb1]))
-	if (cx-ax)*nx+(cy-ay)*ny > 0 { // make n point out of T1
-		nx, ny = -nx, -ny
-	}
-	f := func(k, l int) float64 { return flux[6*k+2*l]*nx + flux[6*k+2*l+1]*ny }
-	j0, j1 := f(k1, la1), f(k1, lb1)
-	w := wt[k1]
-	if !boundary {
-		k2 := int(m.EdgeTri[2*e+1])
-		j0 -= f(k2, localVertex(m, k2, va))
-		j1 -= f(k2, localVertex(m, k2, vb))
-		w = max(w, wt[k2])
-	}
-	if deg == 1 {
-		return hE * hE * j0 * j0 / w
-	}
-	return hE * hE * (j0*j0 + j0*j1 + j1*j1) / 3 / w
 }

@@ -1,0 +1,192 @@
+package estimate
+
+import (
+	"math"
+
+	"github.com/posteriori-fem/posteriori/fem"
+	"github.com/posteriori-fem/posteriori/internal/quadrature"
+	"github.com/posteriori-fem/posteriori/mesh"
+)
+
+// Helpers shared by the P1 fast paths for piecewise-constant diffusion
+// (residualP1 in residual_p1.go, averagingP1 in averaging.go), and the
+// lookups of local vertices and edges used by every path.
+//
+// The fast paths work straight on the flat arrays of the mesh and on the
+// nodal values: the gradient of u_h is constant on each triangle and is
+// computed in closed form,
+//
+//	∇u_h = J⁻ᵀ (u_1 − u_0, u_2 − u_0),  J = [x_1 − x_0, x_2 − x_0],
+//
+// the diffusion of each region is resolved once, and every integral whose
+// integrand is a polynomial is taken in closed form. Only f and g_N are
+// integrated by quadrature, with the rules of the general path. The results
+// agree with the general path to rounding (its gradient Σ u_i ∇λ_i loses
+// more to cancellation than the differences above).
+
+// maxRegionSpan bounds the range of region tags for which the diffusion is
+// kept in a table indexed by region; wider ranges look the map up.
+const maxRegionSpan = 4096
+
+// coeffs holds the diffusion a of each region of a problem with
+// piecewise-constant diffusion and its smallest eigenvalue a_T.
+type coeffs struct {
+	uniform bool  // one tensor for all regions (p.A nil)
+	lo      int64 // region of t[0]
+	t       []fem.Tensor
+	w       []float64
+	p       *fem.Problem
+}
+
+func newCoeffs(p *fem.Problem) *coeffs {
+	c := &coeffs{p: p}
+	if p.A == nil {
+		t := p.Diffusion(0, 0, 0)
+		c.uniform, c.t, c.w = true, []fem.Tensor{t}, []float64{minEig(t)}
+		return c
+	}
+	lo, hi, first := int64(0), int64(0), true
+	for r := range p.A {
+		if first || int64(r) < lo {
+			lo = int64(r)
+		}
+		if first || int64(r) > hi {
+			hi = int64(r)
+		}
+		first = false
+	}
+	if first || hi-lo >= maxRegionSpan {
+		return c // no table: at looks the map up
+	}
+	c.lo = lo
+	c.t = make([]fem.Tensor, hi-lo+1)
+	c.w = make([]float64, hi-lo+1)
+	for r, t := range p.A {
+		c.t[int64(r)-lo], c.w[int64(r)-lo] = t, minEig(t)
+	}
+	return c
+}
+
+// at returns the diffusion of region r and its smallest eigenvalue.
+func (c *coeffs) at(r int32) (fem.Tensor, float64) {
+	if c.uniform {
+		return c.t[0], c.w[0]
+	}
+	if i := int64(r) - c.lo; uint64(i) < uint64(len(c.t)) {
+		return c.t[i], c.w[i]
+	}
+	t := c.p.Diffusion(0, 0, r)
+	return t, minEig(t)
+}
+
+// Kinds of boundary edge, by tag.
+const (
+	edgeNatural   uint8 = iota // no Dirichlet tag and no Neumann data: a∇u·n = 0
+	edgeDirichlet              // Dirichlet: no contribution
+	edgeNeumann                // Neumann data g_N, integrated by quadrature
+)
+
+// tagKinds classifies boundary tags, from a table for the small tags.
+type tagKinds struct {
+	small [64]uint8
+	p     *fem.Problem
+}
+
+func newTagKinds(p *fem.Problem) *tagKinds {
+	b := &tagKinds{p: p}
+	for tag := range b.small {
+		b.small[tag] = edgeKind(p, int32(tag))
+	}
+	return b
+}
+
+func (b *tagKinds) kind(tag int32) uint8 {
+	if uint32(tag) < uint32(len(b.small)) {
+		return b.small[tag]
+	}
+	return edgeKind(b.p, tag)
+}
+
+func edgeKind(p *fem.Problem, tag int32) uint8 {
+	if _, ok := p.Dirichlet[tag]; ok {
+		return edgeDirichlet
+	}
+	if p.Neumann[tag] != nil {
+		return edgeNeumann
+	}
+	return edgeNatural
+}
+
+// zero sets s[k] to +0, reading first: where s[k] is +0 already (the
+// oscillation of an earlier estimate without f, or fresh memory) the cache
+// line is then not written back.
+func zero(s []float64, k int) {
+	if math.Float64bits(s[k]) != 0 {
+		s[k] = 0
+	}
+}
+
+// p1Grad returns twice the area of the triangle with vertices a, b, c
+// (counter-clockwise) and the gradient of the P1 function with nodal
+// values u on it.
+func p1Grad(x, u []float64, a, b, c int32) (d, gx, gy float64) {
+	x0, y0 := x[2*a], x[2*a+1]
+	ax, ay := x[2*b]-x0, x[2*b+1]-y0
+	bx, by := x[2*c]-x0, x[2*c+1]-y0
+	d = ax*by - ay*bx
+	u0 := u[a]
+	du1, du2 := u[b]-u0, u[c]-u0
+	return d, (by*du1 - ay*du2) / d, (ax*du2 - bx*du1) / d
+}
+
+// corners returns the coordinates of the vertices of triangle t.
+func corners(x []float64, t []int32) (xs, ys [3]float64) {
+	for i, v := range t[:3] {
+		xs[i], ys[i] = x[2*v], x[2*v+1]
+	}
+	return xs, ys
+}
+
+// diameter returns the longest edge of the triangle with vertices xs, ys,
+// as mesh.Diameter does.
+func diameter(xs, ys *[3]float64) float64 {
+	d2 := func(i, j int) float64 {
+		dx, dy := xs[j]-xs[i], ys[j]-ys[i]
+		return dx*dx + dy*dy
+	}
+	return math.Sqrt(max(d2(0, 1), d2(1, 2), d2(2, 0)))
+}
+
+// oscP0 returns ‖f − Π_0 f‖²_T / |T| from f at the points of rule.
+func oscP0(rule *quadrature.Triangle, f []float64) float64 {
+	mean := 0.0
+	for q, v := range f {
+		mean += rule.W[q] * v
+	}
+	o := 0.0
+	for q, v := range f {
+		o += rule.W[q] * (v - mean) * (v - mean)
+	}
+	return o
+}
+
+// localEdge returns i such that edge e is edge i (opposite vertex i) of
+// triangle k.
+func localEdge(m *mesh.Mesh, k, e int) int {
+	for i := range 3 {
+		if int(m.TriEdge[3*k+i]) == e {
+			return i
+		}
+	}
+	panic("estimate: edge not in its triangle") // broken topology invariant
+}
+
+// localVertex returns the local index of vertex v in triangle k.
+func localVertex(m *mesh.Mesh, k int, v int32) int {
+	for i := range 3 {
+		if m.Tri[3*k+i] == v {
+			return i
+		}
+	}
+	panic("estimate: vertex not in its triangle") // broken topology invariant
+}
