@@ -204,3 +204,27 @@ func TestAFuncNilSource(t *testing.T) {
 		}
 	}
 }
+
+// A diffusion given by AFunc that is NaN on part of the domain is an error
+// wrapping ErrNotFinite, with no indicators, from every estimator that
+// takes AFunc.
+func TestAFuncNotFinite(t *testing.T) {
+	t.Parallel()
+	m, _ := mesh.Rectangle(0, 0, 1, 1, 4, 4)
+	_, p := sine()
+	p.AFunc = func(x, y float64, _ int32) fem.Tensor {
+		if x > 0.6 {
+			return fem.Tensor{XX: 1, XY: math.NaN(), YY: 1}
+		}
+		return fem.Scalar(1)
+	}
+	for _, deg := range []int{1, 2} {
+		u := noisy(t, m, deg, rand.New(rand.NewPCG(3, 1)))
+		for _, tc := range estimators {
+			in, err := tc.est.Estimate(nil, u, p)
+			if !errors.Is(err, ErrNotFinite) || in != nil {
+				t.Errorf("P%d %s: got %v, %v; want nil, ErrNotFinite", deg, tc.name, in, err)
+			}
+		}
+	}
+}

@@ -218,7 +218,11 @@ func (r Recovery) general(dst *Indicators, u *fem.Function, p *fem.Problem) erro
 			if deg == 1 && p.PiecewiseConstant() {
 				dst.Eta2[k] = recoveryNormP1(ev, p, &g)
 			} else {
-				dst.Eta2[k] = recoveryNorm(ev, p, rule, &g)
+				eta2, err := recoveryNorm(ev, p, rule, &g)
+				if err != nil {
+					return fmt.Errorf("estimate: triangle %d: %w", k, err)
+				}
+				dst.Eta2[k] = eta2
 			}
 			if p.F == nil {
 				dst.Osc2[k] = 0
@@ -328,8 +332,9 @@ func recoveryNormP1(ev *fem.Evaluator, p *fem.Problem, g *[6][2]float64) float64
 }
 
 // recoveryNorm returns ‖a^½ (G − ∇u_h)‖²_T on the loaded triangle, with G
-// given by its nodal values g.
-func recoveryNorm(ev *fem.Evaluator, p *fem.Problem, rule *quadrature.Triangle, g *[6][2]float64) float64 {
+// given by its nodal values g. A diffusion given by AFunc that is not finite
+// at a point of rule is an error wrapping ErrNotFinite.
+func recoveryNorm(ev *fem.Evaluator, p *fem.Problem, rule *quadrature.Triangle, g *[6][2]float64) (float64, error) {
 	deg := ev.Degree()
 	ld := 3 * deg
 	var phi [6]float64
@@ -351,9 +356,15 @@ func recoveryNorm(ev *fem.Evaluator, p *fem.Problem, rule *quadrature.Triangle, 
 		if !p.PiecewiseConstant() {
 			x, y := ev.Point(l)
 			t = p.Diffusion(x, y, ev.Region())
+			if !finite(t.XX) || !finite(t.XY) || !finite(t.YY) {
+				return 0, fmt.Errorf("diffusion at (%g, %g) is not finite: %w", x, y, ErrNotFinite)
+			}
 		}
 		ax, ay := t.Apply(dx, dy)
 		sum += rule.W[q] * (dx*ax + dy*ay)
 	}
-	return sum * ev.Area()
+	return sum * ev.Area(), nil
 }
+
+// finite reports whether v is neither NaN nor infinite.
+func finite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
