@@ -57,24 +57,6 @@ func refinedAtRandom(t *testing.T, m *mesh.Mesh, steps int, r *rand.Rand) *mesh.
 	return m
 }
 
-// smoothNoisy interpolates a smooth function and adds noise of relative
-// size 1e-2, so that no patch is linear and no term vanishes.
-func smoothNoisy(t *testing.T, m *mesh.Mesh, r *rand.Rand) *fem.Function {
-	t.Helper()
-	s, err := fem.NewSpace(m, 1)
-	if err != nil {
-		t.Fatal(err)
-	}
-	u, err := fem.Interpolate(s, func(x, y float64) float64 { return math.Sin(2*x+0.5) * math.Cos(3*y-0.2) })
-	if err != nil {
-		t.Fatal(err)
-	}
-	for i := range u.U {
-		u.U[i] += 1e-2 * (2*r.Float64() - 1)
-	}
-	return u
-}
-
 // fastCases returns the test cases of the fast paths: uniform, adaptively
 // numbered, jiggled and permuted meshes; the Kellogg regions (contrast
 // 161) and anisotropic tensors with contrast; Dirichlet, Neumann (with data
@@ -115,26 +97,26 @@ func fastCases(t *testing.T) []fastCase {
 	}
 	wide := split(jig)
 	return []fastCase{
-		{"square, f, Dirichlet", smoothNoisy(t, sq, r), &fem.Problem{F: f, Dirichlet: map[int32]fem.Func{
+		{"square, f, Dirichlet", noisy(t, sq, 1, r), &fem.Problem{F: f, Dirichlet: map[int32]fem.Func{
 			mesh.SideBottom: nil, mesh.SideRight: nil, mesh.SideTop: nil, mesh.SideLeft: nil}}},
-		{"jiggled, c > 0, f, Neumann", smoothNoisy(t, jig, r), &fem.Problem{C: 2.5, F: f,
+		{"jiggled, c > 0, f, Neumann", noisy(t, jig, 1, r), &fem.Problem{C: 2.5, F: f,
 			Dirichlet: map[int32]fem.Func{mesh.SideLeft: nil},
 			Neumann:   map[int32]fem.Func{mesh.SideBottom: g, mesh.SideTop: nil}}},
-		{"jiggled, c > 0, no f, Neumann", smoothNoisy(t, jig, r), &fem.Problem{C: 0.7,
+		{"jiggled, c > 0, no f, Neumann", noisy(t, jig, 1, r), &fem.Problem{C: 0.7,
 			A:       map[int32]fem.Tensor{0: {XX: 2, XY: 0.5, YY: 1}},
 			Neumann: map[int32]fem.Func{mesh.SideRight: g}}},
-		{"adaptive L-shape", smoothNoisy(t, adaptive, r), lp},
-		{"adaptive L-shape, f", smoothNoisy(t, adaptive, r), &fem.Problem{F: f, Dirichlet: lp.Dirichlet}},
-		{"Kellogg", smoothNoisy(t, kquads, r), kellogg},
-		{"Kellogg permuted, f, Neumann", smoothNoisy(t, perm, r), &fem.Problem{A: kellogg.A, F: f,
+		{"adaptive L-shape", noisy(t, adaptive, 1, r), lp},
+		{"adaptive L-shape, f", noisy(t, adaptive, 1, r), &fem.Problem{F: f, Dirichlet: lp.Dirichlet}},
+		{"Kellogg", noisy(t, kquads, 1, r), kellogg},
+		{"Kellogg permuted, f, Neumann", noisy(t, perm, 1, r), &fem.Problem{A: kellogg.A, F: f,
 			Dirichlet: map[int32]fem.Func{mesh.SideLeft: nil, mesh.SideTop: nil},
 			Neumann:   map[int32]fem.Func{mesh.SideBottom: g}}},
-		{"anisotropic contrast, c > 0", smoothNoisy(t, kquads, r), &fem.Problem{A: aniso, C: 1,
+		{"anisotropic contrast, c > 0", noisy(t, kquads, 1, r), &fem.Problem{A: aniso, C: 1,
 			Neumann: map[int32]fem.Func{mesh.SideRight: g, mesh.SideTop: g}}},
-		{"two tags, one a, wide range", smoothNoisy(t, wide, r), &fem.Problem{
+		{"two tags, one a, wide range", noisy(t, wide, 1, r), &fem.Problem{
 			A:         map[int32]fem.Tensor{0: fem.Scalar(1), 5000: fem.Scalar(1)},
 			Dirichlet: map[int32]fem.Func{mesh.SideBottom: nil}, Neumann: map[int32]fem.Func{mesh.SideTop: g}}},
-		{"two tags, contrast, wide range, f", smoothNoisy(t, wide, r), &fem.Problem{F: f,
+		{"two tags, contrast, wide range, f", noisy(t, wide, 1, r), &fem.Problem{F: f,
 			A:         map[int32]fem.Tensor{0: fem.Scalar(1), 5000: {XX: 30, XY: 3, YY: 10}},
 			Dirichlet: map[int32]fem.Func{mesh.SideBottom: nil, mesh.SideRight: nil}}},
 	}
@@ -224,9 +206,9 @@ func TestFastPathsGOMAXPROCS(t *testing.T) {
 	f := func(x, y float64) float64 { return math.Exp(x - y) }
 	psq, _, _ := permuted(t, sq, r)
 	cases := []fastCase{
-		{"square", smoothNoisy(t, sq, r), &fem.Problem{F: f, C: 1, Neumann: map[int32]fem.Func{mesh.SideTop: f}}},
-		{"permuted square", smoothNoisy(t, psq, r), &fem.Problem{Dirichlet: map[int32]fem.Func{mesh.SideTop: f}}},
-		{"Kellogg", smoothNoisy(t, kq, r), kellogg},
+		{"square", noisy(t, sq, 1, r), &fem.Problem{F: f, C: 1, Neumann: map[int32]fem.Func{mesh.SideTop: f}}},
+		{"permuted square", noisy(t, psq, 1, r), &fem.Problem{Dirichlet: map[int32]fem.Func{mesh.SideTop: f}}},
+		{"Kellogg", noisy(t, kq, 1, r), kellogg},
 	}
 	for _, c := range cases {
 		if nv := c.u.Space.Mesh.NumVertices(); nv < 5*4096 {

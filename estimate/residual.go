@@ -110,18 +110,7 @@ func (r Residual) general(dst *Indicators, u *fem.Function, p *fem.Problem) erro
 	if err := elementPass(dst, u, p, rule, nil); err != nil {
 		return err
 	}
-	jump := make([]float64, m.NumEdges())
-	err = parallel.For(m.NumEdges(), 512, func(lo, hi int) error {
-		e1, e2 := fem.NewEvaluator(u), fem.NewEvaluator(u)
-		for e := lo; e < hi; e++ {
-			v, err := edgeTerm(e1, e2, m, p, line, e, r.plainJumps)
-			if err != nil {
-				return err
-			}
-			jump[e] = v
-		}
-		return nil
-	})
+	jump, err := edgePass(u, p, line, r.plainJumps, nil)
 	if err != nil {
 		return err
 	}
@@ -156,6 +145,31 @@ func elementPass(dst *Indicators, u *fem.Function, p *fem.Problem, rule *quadrat
 		}
 		return nil
 	})
+}
+
+// edgePass returns the term of each edge: closed(e) where that reports
+// true, else edgeTerm with the rule line. closed may be nil.
+func edgePass(u *fem.Function, p *fem.Problem, line *quadrature.Line, plain bool, closed func(e int) (float64, bool)) ([]float64, error) {
+	m := u.Space.Mesh
+	jump := make([]float64, m.NumEdges())
+	err := parallel.For(m.NumEdges(), 512, func(lo, hi int) error {
+		e1, e2 := fem.NewEvaluator(u), fem.NewEvaluator(u)
+		for e := lo; e < hi; e++ {
+			if closed != nil {
+				if v, ok := closed(e); ok {
+					jump[e] = v
+					continue
+				}
+			}
+			v, err := edgeTerm(e1, e2, m, p, line, e, plain)
+			if err != nil {
+				return err
+			}
+			jump[e] = v
+		}
+		return nil
+	})
+	return jump, err
 }
 
 // addEdges adds to Eta2 the terms jump of the edges of each triangle, in

@@ -4,7 +4,6 @@ import (
 	"math"
 
 	"github.com/posteriori-fem/posteriori/fem"
-	"github.com/posteriori-fem/posteriori/internal/parallel"
 	"github.com/posteriori-fem/posteriori/internal/quadrature"
 	"github.com/posteriori-fem/posteriori/mesh"
 )
@@ -37,21 +36,12 @@ func residualP2(dst *Indicators, u *fem.Function, p *fem.Problem) error {
 	if err != nil {
 		return err
 	}
-	jump := make([]float64, m.NumEdges())
-	err = parallel.For(m.NumEdges(), 512, func(lo, hi int) error {
-		e1, e2 := fem.NewEvaluator(u), fem.NewEvaluator(u)
-		for e := lo; e < hi; e++ {
-			if !m.IsBoundary(e) || p.Neumann[m.EdgeTag[e]] == nil {
-				jump[e] = fluxEdge(m, p, flux, wt, e)
-				continue
-			}
-			v, err := edgeTerm(e1, e2, m, p, line, e, false)
-			if err != nil {
-				return err
-			}
-			jump[e] = v
+	// Closed form except on boundary edges with Neumann data.
+	jump, err := edgePass(u, p, line, false, func(e int) (float64, bool) {
+		if m.IsBoundary(e) && p.Neumann[m.EdgeTag[e]] != nil {
+			return 0, false
 		}
-		return nil
+		return fluxEdge(m, p, flux, wt, e), true
 	})
 	if err != nil {
 		return err
