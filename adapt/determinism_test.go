@@ -8,7 +8,7 @@ import (
 
 	"github.com/posteriori-fem/posteriori/estimate"
 	"github.com/posteriori-fem/posteriori/fem"
-	"github.com/posteriori-fem/posteriori/internal/problems"
+	"github.com/posteriori-fem/posteriori/fem/known"
 	"github.com/posteriori-fem/posteriori/mesh"
 )
 
@@ -17,8 +17,8 @@ import (
 // loop writes per index and sums in index order.
 func TestLoopDeterminism(t *testing.T) {
 	defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(0))
-	lex, lp := problems.LShape()
-	kex, kp := problems.Kellogg()
+	lex, lp := known.LShape()
+	kex, kp := known.Kellogg()
 	cases := []struct {
 		name string
 		mesh func() (*mesh.Mesh, error)

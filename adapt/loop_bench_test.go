@@ -7,7 +7,7 @@ import (
 	"time"
 
 	"github.com/posteriori-fem/posteriori/fem"
-	"github.com/posteriori-fem/posteriori/internal/problems"
+	"github.com/posteriori-fem/posteriori/fem/known"
 	"github.com/posteriori-fem/posteriori/mesh"
 )
 
@@ -24,7 +24,7 @@ func BenchmarkLoop(b *testing.B) {
 			if err != nil {
 				b.Fatal(err)
 			}
-			_, p := problems.LShape()
+			_, p := known.LShape()
 			var res *Result
 			for b.Loop() {
 				res, err = Run(context.Background(), Problem{Mesh: m0, Degree: 1, Data: p}, Settings{MaxDOFs: n, AlgebraicFraction: 0.1}, Method{})
@@ -71,7 +71,7 @@ func BenchmarkLoopTrueError(b *testing.B) {
 			if err != nil {
 				b.Fatal(err)
 			}
-			ex, p := problems.LShape()
+			ex, p := known.LShape()
 			var errTime, loopTime time.Duration
 			tris := 0
 			for b.Loop() {

@@ -9,7 +9,7 @@ import (
 
 	"github.com/posteriori-fem/posteriori/estimate"
 	"github.com/posteriori-fem/posteriori/fem"
-	"github.com/posteriori-fem/posteriori/internal/problems"
+	"github.com/posteriori-fem/posteriori/fem/known"
 	"github.com/posteriori-fem/posteriori/mesh"
 )
 
@@ -77,8 +77,8 @@ func TestAdaptiveRates(t *testing.T) {
 	case os.Getenv(soakEnv) == "1":
 		maxDOFs = 100000
 	}
-	lex, lp := problems.LShape()
-	kex, kp := problems.Kellogg()
+	lex, lp := known.LShape()
+	kex, kp := known.Kellogg()
 	lshape := func() *mesh.Mesh { m, _ := mesh.LShape(2); return m }
 	quads := func() *mesh.Mesh { m, _ := mesh.Quadrants(2); return m }
 	tests := []struct {
@@ -138,7 +138,7 @@ func TestAdaptiveRates(t *testing.T) {
 
 func TestCancel(t *testing.T) {
 	t.Parallel()
-	ex, p := problems.LShape()
+	ex, p := known.LShape()
 	m, _ := mesh.LShape(2)
 	ctx, cancel := context.WithCancel(context.Background())
 	defer cancel()
@@ -163,7 +163,7 @@ func TestCancel(t *testing.T) {
 
 func TestRunSettingsErrors(t *testing.T) {
 	t.Parallel()
-	_, p := problems.LShape()
+	_, p := known.LShape()
 	m, _ := mesh.LShape(2)
 	for _, tc := range []struct {
 		name string
@@ -194,7 +194,7 @@ func nan() float64 { var z float64; return z / z }
 // to within 0.1%.
 func TestNestedIteration(t *testing.T) {
 	t.Parallel()
-	ex, p := problems.LShape()
+	ex, p := known.LShape()
 	var runs [2]*Result
 	for i, fr := range []float64{-1, 0} {
 		m, _ := mesh.LShape(2)

@@ -10,7 +10,7 @@ import (
 
 	"github.com/posteriori-fem/posteriori/estimate"
 	"github.com/posteriori-fem/posteriori/fem"
-	"github.com/posteriori-fem/posteriori/internal/problems"
+	"github.com/posteriori-fem/posteriori/fem/known"
 	"github.com/posteriori-fem/posteriori/mesh"
 )
 
@@ -73,7 +73,7 @@ func (f solverFunc) Solve(s *fem.Space, p *fem.Problem, guess []float64) ([]floa
 // guess; a solver error stops the loop with the step and stage.
 func TestSolverHook(t *testing.T) {
 	t.Parallel()
-	ex, p := problems.LShape()
+	ex, p := known.LShape()
 	m, _ := mesh.LShape(2)
 	calls := 0
 	solver := solverFunc(func(s *fem.Space, p *fem.Problem, guess []float64) ([]float64, int, error) {
@@ -111,7 +111,7 @@ func (f estimatorFunc) Estimate(dst *estimate.Indicators, u *fem.Function, p *fe
 // available.
 func TestLoopStageErrors(t *testing.T) {
 	t.Parallel()
-	_, p := problems.LShape()
+	_, p := known.LShape()
 	m, _ := mesh.LShape(2)
 	calls := 0
 	failing := estimatorFunc(func(dst *estimate.Indicators, u *fem.Function, p *fem.Problem) (*estimate.Indicators, error) {

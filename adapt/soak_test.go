@@ -7,7 +7,7 @@ import (
 	"testing"
 
 	"github.com/posteriori-fem/posteriori/fem"
-	"github.com/posteriori-fem/posteriori/internal/problems"
+	"github.com/posteriori-fem/posteriori/fem/known"
 	"github.com/posteriori-fem/posteriori/mesh"
 )
 
@@ -54,7 +54,7 @@ func TestSoak(t *testing.T) {
 	if testing.Short() || os.Getenv(soakEnv) != "1" {
 		t.Skip("soak test: set " + soakEnv + "=1 to run it (see DEVELOPERS.md)")
 	}
-	_, p := problems.LShape()
+	_, p := known.LShape()
 	m, _ := mesh.LShape(2)
 	var cur *mesh.Mesh
 	worst := 0.0

@@ -7,7 +7,7 @@ import (
 	"testing"
 
 	"github.com/posteriori-fem/posteriori/fem"
-	"github.com/posteriori-fem/posteriori/internal/problems"
+	"github.com/posteriori-fem/posteriori/fem/known"
 	"github.com/posteriori-fem/posteriori/mesh"
 )
 
@@ -67,7 +67,7 @@ func TestAFuncConstantMatchesMap(t *testing.T) {
 	jig := jiggled(t, sq, 1.0/7, r)
 	quads, _ := mesh.Quadrants(3)
 	kquads := refinedAtRandom(t, quads, 2, r)
-	_, kellogg := problems.Kellogg()
+	_, kellogg := known.Kellogg()
 	f := func(x, y float64) float64 { return math.Exp(x-y) + 3*x*y }
 	g := func(x, y float64) float64 { return math.Cos(4*x) - y }
 	aniso := map[int32]fem.Tensor{

@@ -7,7 +7,7 @@ import (
 	"testing"
 
 	"github.com/posteriori-fem/posteriori/fem"
-	"github.com/posteriori-fem/posteriori/internal/problems"
+	"github.com/posteriori-fem/posteriori/fem/known"
 	"github.com/posteriori-fem/posteriori/mesh"
 )
 
@@ -47,7 +47,7 @@ func BenchmarkEstimate(b *testing.B) {
 // in memory), of at least 1e4, 1e5 and 1e6 triangles, for the L-shape
 // problem (a = 1, f = 0, Dirichlet boundary): the case of the adaptive loop.
 func BenchmarkEstimateAdaptive(b *testing.B) {
-	ex, p := problems.LShape()
+	ex, p := known.LShape()
 	r := rand.New(rand.NewPCG(1, 1))
 	m, err := mesh.LShape(2)
 	if err != nil {

@@ -9,7 +9,7 @@ import (
 	"testing"
 
 	"github.com/posteriori-fem/posteriori/fem"
-	"github.com/posteriori-fem/posteriori/internal/problems"
+	"github.com/posteriori-fem/posteriori/fem/known"
 	"github.com/posteriori-fem/posteriori/mesh"
 )
 
@@ -106,11 +106,11 @@ type boundCase struct {
 }
 
 var boundCases = []boundCase{
-	{"sine", func() (*mesh.Mesh, error) { return mesh.Rectangle(0, 0, 1, 1, 4, 4) }, problems.Sine},
-	{"lshape", func() (*mesh.Mesh, error) { return mesh.LShape(2) }, problems.LShape},
-	{"kellogg", func() (*mesh.Mesh, error) { return mesh.Quadrants(2) }, problems.Kellogg},
-	{"peak", func() (*mesh.Mesh, error) { return mesh.Rectangle(0, 0, 1, 1, 4, 4) }, problems.Peak},
-	{"layer", func() (*mesh.Mesh, error) { return mesh.Rectangle(0, 0, 1, 1, 4, 4) }, problems.Layer},
+	{"sine", func() (*mesh.Mesh, error) { return mesh.Rectangle(0, 0, 1, 1, 4, 4) }, known.Sine},
+	{"lshape", func() (*mesh.Mesh, error) { return mesh.LShape(2) }, known.LShape},
+	{"kellogg", func() (*mesh.Mesh, error) { return mesh.Quadrants(2) }, known.Kellogg},
+	{"peak", func() (*mesh.Mesh, error) { return mesh.Rectangle(0, 0, 1, 1, 4, 4) }, known.Peak},
+	{"layer", func() (*mesh.Mesh, error) { return mesh.Rectangle(0, 0, 1, 1, 4, 4) }, known.Layer},
 }
 
 // dorflerMarks marks the smallest set of triangles that holds θ of Σ η_T².
@@ -320,7 +320,7 @@ func TestEquilibratedReactionNeumann(t *testing.T) {
 
 // Results do not depend on GOMAXPROCS: every sum has a fixed order.
 func TestEquilibratedDeterministic(t *testing.T) {
-	ex, p := problems.Kellogg()
+	ex, p := known.Kellogg()
 	m, _ := mesh.Quadrants(16)
 	u, _, _ := run(t, m, 1, ex, p)
 	var got [2][]float64

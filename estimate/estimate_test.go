@@ -5,7 +5,7 @@ import (
 	"testing"
 
 	"github.com/posteriori-fem/posteriori/fem"
-	"github.com/posteriori-fem/posteriori/internal/problems"
+	"github.com/posteriori-fem/posteriori/fem/known"
 	"github.com/posteriori-fem/posteriori/mesh"
 )
 
@@ -123,7 +123,7 @@ func TestResidualEffectivity(t *testing.T) {
 // estimator follows it.
 func TestLShapeUniformRates(t *testing.T) {
 	t.Parallel()
-	ex, p := problems.LShape()
+	ex, p := known.LShape()
 	for _, deg := range []int{1, 2} {
 		m, _ := mesh.LShape(2)
 		var dofs, errs []float64

@@ -8,7 +8,7 @@ import (
 	"testing"
 
 	"github.com/posteriori-fem/posteriori/fem"
-	"github.com/posteriori-fem/posteriori/internal/problems"
+	"github.com/posteriori-fem/posteriori/fem/known"
 	"github.com/posteriori-fem/posteriori/mesh"
 )
 
@@ -72,8 +72,8 @@ func fastCases(t *testing.T) []fastCase {
 	kquads := refinedAtRandom(t, quads, 3, r)
 	jig := jiggled(t, sq, 1.0/9, r)
 	perm, _, _ := permuted(t, kquads, r)
-	_, kellogg := problems.Kellogg()
-	_, lp := problems.LShape()
+	_, kellogg := known.Kellogg()
+	_, lp := known.LShape()
 	f := func(x, y float64) float64 { return math.Exp(x-y) + 3*x*y }
 	g := func(x, y float64) float64 { return math.Cos(4*x) - y }
 	aniso := map[int32]fem.Tensor{
@@ -202,7 +202,7 @@ func TestFastPathsGOMAXPROCS(t *testing.T) {
 	sq, _ := mesh.Rectangle(0, 0, 1, 1, 150, 150)
 	quads, _ := mesh.Quadrants(40)
 	kq := refinedAtRandom(t, quads, 3, r)
-	_, kellogg := problems.Kellogg()
+	_, kellogg := known.Kellogg()
 	f := func(x, y float64) float64 { return math.Exp(x - y) }
 	psq, _, _ := permuted(t, sq, r)
 	cases := []fastCase{

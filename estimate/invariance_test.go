@@ -7,7 +7,7 @@ import (
 	"testing"
 
 	"github.com/posteriori-fem/posteriori/fem"
-	"github.com/posteriori-fem/posteriori/internal/problems"
+	"github.com/posteriori-fem/posteriori/fem/known"
 	"github.com/posteriori-fem/posteriori/mesh"
 )
 
@@ -75,7 +75,7 @@ func transfer(u *fem.Function, ps *fem.Space, perm []int32) *fem.Function {
 func TestPermutationInvariance(t *testing.T) {
 	t.Parallel()
 	r := rand.New(rand.NewPCG(1, 1))
-	ex, p := problems.Kellogg()
+	ex, p := known.Kellogg()
 	m, _ := mesh.Quadrants(3)
 	pm, perm, order := permuted(t, m, r)
 	for _, deg := range []int{1, 2} {

@@ -5,7 +5,7 @@ import (
 	"testing"
 
 	"github.com/posteriori-fem/posteriori/fem"
-	"github.com/posteriori-fem/posteriori/internal/problems"
+	"github.com/posteriori-fem/posteriori/fem/known"
 	"github.com/posteriori-fem/posteriori/mesh"
 )
 
@@ -24,7 +24,7 @@ func touchesOrigin(m *mesh.Mesh, k int) bool {
 // largest indicators sit on the triangles that touch it.
 func TestKelloggLargestAtOrigin(t *testing.T) {
 	t.Parallel()
-	ex, p := problems.Kellogg()
+	ex, p := known.Kellogg()
 	m, _ := mesh.Quadrants(8)
 	for _, deg := range []int{1, 2} {
 		u, _, _ := run(t, m, deg, ex, p)
@@ -52,7 +52,7 @@ func TestKelloggLargestAtOrigin(t *testing.T) {
 // leaves a out sees the jump 1 − 1/R on every interface edge.
 func TestCoefficientInJump(t *testing.T) {
 	t.Parallel()
-	const r = problems.KelloggR
+	const r = known.KelloggR
 	u := func(x, y float64) float64 {
 		if x > 0 {
 			return x / r
@@ -95,7 +95,7 @@ func TestCoefficientInJump(t *testing.T) {
 // stays in its band.
 func TestKelloggCoefficientInJump(t *testing.T) {
 	t.Parallel()
-	ex, p := problems.Kellogg()
+	ex, p := known.Kellogg()
 	m, _ := mesh.Quadrants(16)
 	u, e2, e := run(t, m, 1, ex, p)
 	in := estimateTotal(t, Residual{}, u, p)

@@ -54,7 +54,7 @@ import (
 	"github.com/posteriori-fem/posteriori/estimate"
 	"github.com/posteriori-fem/posteriori/fem"
 	"github.com/posteriori-fem/posteriori/internal/atomicfile"
-	"github.com/posteriori-fem/posteriori/internal/problems"
+	"github.com/posteriori-fem/posteriori/fem/known"
 	"github.com/posteriori-fem/posteriori/mesh"
 )
 
@@ -198,7 +198,7 @@ func runLoop(n, degree int, mem bool) (*adapt.Result, float64, float64, error) {
 	if err != nil {
 		return nil, 0, 0, err
 	}
-	_, p := problems.LShape()
+	_, p := known.LShape()
 	var peak float64
 	done := make(chan struct{})
 	stopped := make(chan struct{})
@@ -265,7 +265,7 @@ func measure(n, reps int) ([]Row, error) {
 		return nil, err
 	}
 	rss := peakRSS()
-	_, p := problems.LShape()
+	_, p := known.LShape()
 	m := res.Mesh
 	s1, _ := fem.NewSpace(m, 1)
 	s2, _ := fem.NewSpace(m, 2)

@@ -95,6 +95,9 @@ import (
 	"time"
 
 	"github.com/posteriori-fem/posteriori/internal/atomicfile"
+
+	"github.com/posteriori-fem/posteriori/adapt/study"
+	"github.com/posteriori-fem/posteriori/fem/known"
 )
 
 // defaultMaxDOFs is the default DOF budget of each run, chosen so that the
@@ -118,14 +121,14 @@ func run(stdout, stderr io.Writer, args []string) int {
 		return 2
 	}
 	start := time.Now()
-	sums, err := study(context.Background(), c)
+	sums, err := study.Run(context.Background(), c)
 	if err != nil {
 		fmt.Fprintln(stderr, "compare:", err)
 		return 1
 	}
 	elapsed := time.Since(start)
 	fmt.Fprintf(stdout, "effectivity study: Dörfler θ = %g, at most %d DOFs per run, %d runs in %.1f s\n\n",
-		c.theta, c.maxDOFs, len(sums), elapsed.Seconds())
+		c.Theta, c.MaxDOFs, len(sums), elapsed.Seconds())
 	writeTable(stdout, sums)
 	if err := writeOutputs(out, plotWhich, sums); err != nil {
 		fmt.Fprintln(stderr, "compare:", err)
@@ -139,25 +142,25 @@ func run(stdout, stderr io.Writer, args []string) int {
 // parseArgs parses and checks the arguments. For -h it prints the usage
 // on stderr and returns flag.ErrHelp; other errors are for the caller to
 // print.
-func parseArgs(stderr io.Writer, args []string) (c config, out, plotWhich string, err error) {
+func parseArgs(stderr io.Writer, args []string) (c study.Config, out, plotWhich string, err error) {
 	fs := flag.NewFlagSet("compare", flag.ContinueOnError)
 	fs.SetOutput(io.Discard) // a parse error is returned and printed as one line
 	theta := fs.Float64("theta", 0.5, "Dörfler marking parameter θ in (0, 1]")
 	maxDOFs := fs.Int("max-dofs", defaultMaxDOFs, "DOF budget of each run, at least 100")
-	probs := fs.String("problems", names(suite, func(p problem) string { return p.name }), "problems to run, comma-separated")
-	ests := fs.String("estimators", names(estimators, func(e estimator) string { return e.name }), "estimators to run, comma-separated")
+	probs := fs.String("problems", names(known.Suite(), func(p known.Case) string { return p.Name }), "problems to run, comma-separated")
+	ests := fs.String("estimators", names(study.Estimators(), func(e study.Estimator) string { return e.Name }), "estimators to run, comma-separated")
 	ps := fs.String("p", "1,2", "polynomial degrees to run, comma-separated, 1 or 2")
 	fs.StringVar(&plotWhich, "plot", "all", `problem drawn in effectivity.svg, or "all" for one panel per problem`)
 	fs.StringVar(&out, "out", filepath.Join("out", "compare"), "output folder")
 	fs.Usage = func() {
 		fmt.Fprintln(fs.Output(), "usage: compare [flags]\n\nThe effectivity study of the error estimators on model problems with known solutions.")
 		fmt.Fprintln(fs.Output(), "\nproblems:")
-		for _, p := range suite {
-			fmt.Fprintf(fs.Output(), "  %-8s %s\n", p.name, p.about)
+		for _, p := range known.Suite() {
+			fmt.Fprintf(fs.Output(), "  %-8s %s\n", p.Name, p.About)
 		}
 		fmt.Fprintln(fs.Output(), "estimators:")
-		for _, e := range estimators {
-			fmt.Fprintf(fs.Output(), "  %-9s %s\n", e.name, e.about)
+		for _, e := range study.Estimators() {
+			fmt.Fprintf(fs.Output(), "  %-9s %s\n", e.Name, e.About)
 		}
 		fmt.Fprintln(fs.Output(), "\nflags:")
 		fs.PrintDefaults()
@@ -175,25 +178,25 @@ func parseArgs(stderr io.Writer, args []string) (c config, out, plotWhich string
 	if fs.NArg() > 0 {
 		return c, "", "", fmt.Errorf("unexpected argument %q", fs.Arg(0))
 	}
-	c.theta, c.maxDOFs = *theta, *maxDOFs
-	if !(c.theta > 0 && c.theta <= 1) {
-		return c, "", "", fmt.Errorf("-theta %g: want 0 < θ ≤ 1", c.theta)
+	c.Theta, c.MaxDOFs = *theta, *maxDOFs
+	if !(c.Theta > 0 && c.Theta <= 1) {
+		return c, "", "", fmt.Errorf("-theta %g: want 0 < θ ≤ 1", c.Theta)
 	}
-	if c.maxDOFs < 100 {
-		return c, "", "", fmt.Errorf("-max-dofs %d: want at least 100", c.maxDOFs)
+	if c.MaxDOFs < 100 {
+		return c, "", "", fmt.Errorf("-max-dofs %d: want at least 100", c.MaxDOFs)
 	}
-	if c.problems, err = pick("-problems", *probs, suite, func(p problem) string { return p.name }); err != nil {
+	if c.Cases, err = pick("-problems", *probs, known.Suite(), func(p known.Case) string { return p.Name }); err != nil {
 		return c, "", "", err
 	}
-	if c.estimators, err = pick("-estimators", *ests, estimators, func(e estimator) string { return e.name }); err != nil {
+	if c.Estimators, err = pick("-estimators", *ests, study.Estimators(), func(e study.Estimator) string { return e.Name }); err != nil {
 		return c, "", "", err
 	}
-	if c.degrees, err = pick("-p", *ps, degrees, strconv.Itoa); err != nil {
+	if c.Degrees, err = pick("-p", *ps, []int{1, 2}, strconv.Itoa); err != nil {
 		return c, "", "", err
 	}
 	if plotWhich != "all" {
-		if !slices.ContainsFunc(c.problems, func(p problem) bool { return p.name == plotWhich }) {
-			return c, "", "", fmt.Errorf("-plot %q: want \"all\" or one of the problems run (%s)", plotWhich, names(c.problems, func(p problem) string { return p.name }))
+		if !slices.ContainsFunc(c.Cases, func(p known.Case) bool { return p.Name == plotWhich }) {
+			return c, "", "", fmt.Errorf("-plot %q: want \"all\" or one of the problems run (%s)", plotWhich, names(c.Cases, func(p known.Case) string { return p.Name }))
 		}
 	}
 	if out == "" {
@@ -250,13 +253,13 @@ var (
 
 // writeTable prints the summaries as a table with aligned columns: names
 // left-aligned, numbers right-aligned.
-func writeTable(w io.Writer, sums []summary) {
+func writeTable(w io.Writer, sums []study.Summary) {
 	rows := [][]string{resultsHeader}
 	for _, s := range sums {
 		f := func(v float64) string { return fmt.Sprintf("%.3f", v) }
 		rows = append(rows, []string{
-			s.prob.name, s.est.name, strconv.Itoa(s.p), strconv.Itoa(len(s.steps)), strconv.Itoa(s.dofs()),
-			f(s.effectivity), f(s.effMin), f(s.effMax), f(s.errorRate), f(s.estimateRate),
+			s.Case.Name, s.Estimator.Name, strconv.Itoa(s.Degree), strconv.Itoa(len(s.Steps)), strconv.Itoa(s.DOFs()),
+			f(s.Effectivity), f(s.EffMin), f(s.EffMax), f(s.ErrorRate), f(s.EstimateRate),
 		})
 	}
 	width := make([]int, len(resultsHeader))
@@ -284,7 +287,7 @@ func writeTable(w io.Writer, sums []summary) {
 
 // writeOutputs creates the folder out and writes results.csv, steps.csv
 // and effectivity.svg into it, each atomically.
-func writeOutputs(out, plotWhich string, sums []summary) error {
+func writeOutputs(out, plotWhich string, sums []study.Summary) error {
 	if err := os.MkdirAll(out, 0o755); err != nil {
 		return err
 	}
@@ -301,13 +304,13 @@ func writeOutputs(out, plotWhich string, sums []summary) error {
 func num(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }
 
 // writeResults writes results.csv: one row per run.
-func writeResults(w io.Writer, sums []summary) error {
+func writeResults(w io.Writer, sums []study.Summary) error {
 	cw := csv.NewWriter(w)
 	cw.Write(resultsHeader)
 	for _, s := range sums {
 		cw.Write([]string{
-			s.prob.name, s.est.name, strconv.Itoa(s.p), strconv.Itoa(len(s.steps)), strconv.Itoa(s.dofs()),
-			num(s.effectivity), num(s.effMin), num(s.effMax), num(s.errorRate), num(s.estimateRate),
+			s.Case.Name, s.Estimator.Name, strconv.Itoa(s.Degree), strconv.Itoa(len(s.Steps)), strconv.Itoa(s.DOFs()),
+			num(s.Effectivity), num(s.EffMin), num(s.EffMax), num(s.ErrorRate), num(s.EstimateRate),
 		})
 	}
 	cw.Flush()
@@ -315,13 +318,13 @@ func writeResults(w io.Writer, sums []summary) error {
 }
 
 // writeSteps writes steps.csv: one row per step of every run.
-func writeSteps(w io.Writer, sums []summary) error {
+func writeSteps(w io.Writer, sums []study.Summary) error {
 	cw := csv.NewWriter(w)
 	cw.Write(stepsHeader)
 	for _, s := range sums {
-		for _, st := range s.steps {
+		for _, st := range s.Steps {
 			cw.Write([]string{
-				s.prob.name, s.est.name, strconv.Itoa(s.p), strconv.Itoa(st.Step), strconv.Itoa(st.DOFs),
+				s.Case.Name, s.Estimator.Name, strconv.Itoa(s.Degree), strconv.Itoa(st.Step), strconv.Itoa(st.DOFs),
 				num(st.Estimate), num(st.Error), num(st.Effectivity),
 			})
 		}

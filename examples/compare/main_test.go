@@ -16,6 +16,9 @@ import (
 	"testing"
 	"time"
 	"unicode/utf8"
+
+	"github.com/posteriori-fem/posteriori/adapt/study"
+	"github.com/posteriori-fem/posteriori/fem/known"
 )
 
 // readCSV reads a whole CSV file.
@@ -240,26 +243,28 @@ func TestHelp(t *testing.T) {
 // second, so it also runs under -short.
 func TestLShapeRate(t *testing.T) {
 	start := time.Now()
-	var lshape problem
-	for _, p := range suite {
-		if p.name == "lshape" {
+	var lshape known.Case
+	for _, p := range known.Suite() {
+		if p.Name == "lshape" {
 			lshape = p
 		}
 	}
-	s, err := runOne(context.Background(), runSpec{lshape, estimators[0], 1}, 0.5, 5000)
+	sums, err := study.Run(context.Background(), study.Config{Cases: []known.Case{lshape},
+		Estimators: study.Estimators()[:1], Degrees: []int{1}, Theta: 0.5, MaxDOFs: 5000})
 	if err != nil {
 		t.Fatal(err)
 	}
+	s := sums[0]
 	t.Logf("%d steps to %d DOFs in %v: error rate %.3f, estimate rate %.3f, effectivity %.3f",
-		len(s.steps), s.dofs(), time.Since(start).Round(time.Millisecond), s.errorRate, s.estimateRate, s.effectivity)
-	if s.est.name != "residual" {
-		t.Fatalf("estimator %s, want residual", s.est.name)
+		len(s.Steps), s.DOFs(), time.Since(start).Round(time.Millisecond), s.ErrorRate, s.EstimateRate, s.Effectivity)
+	if s.Estimator.Name != "residual" {
+		t.Fatalf("estimator %s, want residual", s.Estimator.Name)
 	}
-	if !(s.errorRate > 0.4) {
-		t.Errorf("error rate %.3f, want above 0.4", s.errorRate)
+	if !(s.ErrorRate > 0.4) {
+		t.Errorf("error rate %.3f, want above 0.4", s.ErrorRate)
 	}
-	if s.dofs() > 5000 || s.dofs() < 2500 {
-		t.Errorf("%d DOFs at the end, want the budget 5000 nearly reached", s.dofs())
+	if s.DOFs() > 5000 || s.DOFs() < 2500 {
+		t.Errorf("%d DOFs at the end, want the budget 5000 nearly reached", s.DOFs())
 	}
 }
 
@@ -269,10 +274,10 @@ func TestStudyDeterministic(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	var got [2][]summary
+	var got [2][]study.Summary
 	for k, procs := range []int{1, 3} {
 		old := runtime.GOMAXPROCS(procs)
-		got[k], err = study(context.Background(), c)
+		got[k], err = study.Run(context.Background(), c)
 		runtime.GOMAXPROCS(old)
 		if err != nil {
 			t.Fatal(err)
@@ -280,16 +285,16 @@ func TestStudyDeterministic(t *testing.T) {
 	}
 	for i := range got[0] {
 		a, b := got[0][i], got[1][i]
-		if a.prob.name != b.prob.name || a.est.name != b.est.name || a.p != b.p {
-			t.Fatalf("run %d: %s %s P%d and %s %s P%d", i, a.prob.name, a.est.name, a.p, b.prob.name, b.est.name, b.p)
+		if a.Case.Name != b.Case.Name || a.Estimator.Name != b.Estimator.Name || a.Degree != b.Degree {
+			t.Fatalf("run %d: %s %s P%d and %s %s P%d", i, a.Case.Name, a.Estimator.Name, a.Degree, b.Case.Name, b.Estimator.Name, b.Degree)
 		}
-		if len(a.steps) != len(b.steps) {
-			t.Fatalf("%s %s P%d: %d and %d steps", a.prob.name, a.est.name, a.p, len(a.steps), len(b.steps))
+		if len(a.Steps) != len(b.Steps) {
+			t.Fatalf("%s %s P%d: %d and %d steps", a.Case.Name, a.Estimator.Name, a.Degree, len(a.Steps), len(b.Steps))
 		}
-		for j := range a.steps {
-			sa, sb := a.steps[j], b.steps[j]
+		for j := range a.Steps {
+			sa, sb := a.Steps[j], b.Steps[j]
 			if sa.DOFs != sb.DOFs || sa.Estimate != sb.Estimate || sa.Error != sb.Error {
-				t.Errorf("%s %s P%d step %d: (%d, %g, %g) and (%d, %g, %g)", a.prob.name, a.est.name, a.p, j,
+				t.Errorf("%s %s P%d step %d: (%d, %g, %g) and (%d, %g, %g)", a.Case.Name, a.Estimator.Name, a.Degree, j,
 					sa.DOFs, sa.Estimate, sa.Error, sb.DOFs, sb.Estimate, sb.Error)
 			}
 		}

@@ -11,6 +11,8 @@ import (
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
 	"gonum.org/v1/plot/vg/vgsvg"
+
+	"github.com/posteriori-fem/posteriori/adapt/study"
 )
 
 // Sizes of the figure: each panel, and the legend column at its right.
@@ -36,17 +38,17 @@ var degreeDashes = map[int][]vg.Length{1: nil, 2: {vg.Points(5), vg.Points(3)}}
 // writePlot draws effectivity.svg: effectivity against DOFs, one line per
 // (estimator, degree), in one panel per problem of sums, or only for the
 // problem named which (unless which is "all").
-func writePlot(w io.Writer, sums []summary, which string) error {
+func writePlot(w io.Writer, sums []study.Summary, which string) error {
 	var order []string // problems in table order
-	byProblem := map[string][]summary{}
+	byProblem := map[string][]study.Summary{}
 	for _, s := range sums {
-		if which != "all" && s.prob.name != which {
+		if which != "all" && s.Case.Name != which {
 			continue
 		}
-		if _, ok := byProblem[s.prob.name]; !ok {
-			order = append(order, s.prob.name)
+		if _, ok := byProblem[s.Case.Name]; !ok {
+			order = append(order, s.Case.Name)
 		}
-		byProblem[s.prob.name] = append(byProblem[s.prob.name], s)
+		byProblem[s.Case.Name] = append(byProblem[s.Case.Name], s)
 	}
 	if len(order) == 0 {
 		return fmt.Errorf("plot: no runs of problem %q", which)
@@ -79,8 +81,8 @@ func writePlot(w io.Writer, sums []summary, which string) error {
 		p.Add(plotter.NewGrid())
 		lo, hi := math.Inf(1), math.Inf(-1) // DOF range of the panel
 		for _, s := range byProblem[name] {
-			xy := make(plotter.XYs, 0, len(s.steps))
-			for _, st := range s.steps {
+			xy := make(plotter.XYs, 0, len(s.Steps))
+			for _, st := range s.Steps {
 				if st.Effectivity > 0 && st.DOFs > 0 {
 					xy = append(xy, plotter.XY{X: float64(st.DOFs), Y: st.Effectivity})
 					lo, hi = min(lo, float64(st.DOFs)), max(hi, float64(st.DOFs))
@@ -93,11 +95,11 @@ func writePlot(w io.Writer, sums []summary, which string) error {
 			if err != nil {
 				return fmt.Errorf("plot: %s: %w", name, err)
 			}
-			l.Color = estimatorColor[s.est.name]
-			l.Dashes = degreeDashes[s.p]
+			l.Color = estimatorColor[s.Estimator.Name]
+			l.Dashes = degreeDashes[s.Degree]
 			l.Width = vg.Points(1.2)
 			p.Add(l)
-			label := fmt.Sprintf("%s P%d", s.est.name, s.p)
+			label := fmt.Sprintf("%s P%d", s.Estimator.Name, s.Degree)
 			if !entered[label] {
 				entered[label] = true
 				legend.Add(label, l)

@@ -44,7 +44,7 @@ import (
 	"github.com/posteriori-fem/posteriori/adapt"
 	"github.com/posteriori-fem/posteriori/estimate"
 	"github.com/posteriori-fem/posteriori/fem"
-	"github.com/posteriori-fem/posteriori/internal/problems"
+	"github.com/posteriori-fem/posteriori/fem/known"
 	"github.com/posteriori-fem/posteriori/mesh"
 )
 
@@ -91,7 +91,7 @@ func run(stdout, stderr io.Writer, args []string) int {
 // seepage runs the adaptive loop with the in-house solver, then one step
 // by hand.
 func seepage(w io.Writer, maxDOFs int, theta float64) error {
-	exact, data := problems.LShape() // h = r^{2/3} sin(2θ/3); zero head on the wall's faces (tags 2, 3)
+	exact, data := known.LShape() // h = r^{2/3} sin(2θ/3); zero head on the wall's faces (tags 2, 3)
 	m0, err := mesh.LShape(2)
 	if err != nil {
 		return err

@@ -8,7 +8,7 @@ import (
 	"testing"
 
 	"github.com/posteriori-fem/posteriori/fem"
-	"github.com/posteriori-fem/posteriori/internal/problems"
+	"github.com/posteriori-fem/posteriori/fem/known"
 	"github.com/posteriori-fem/posteriori/mesh"
 )
 
@@ -98,7 +98,7 @@ func TestAgainstLibrary(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	_, lshape := problems.LShape()
+	_, lshape := known.LShape()
 	// A variant with a source and a diffusion ≠ 1, to test the load and the
 	// coefficient too (values made up for the test).
 	source := *lshape
@@ -160,7 +160,7 @@ func TestDegree2Rejected(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	_, p := problems.LShape()
+	_, p := known.LShape()
 	if u, _, err := (inHouse{}).Solve(s, p, nil); err == nil {
 		t.Errorf("degree 2: no error, %d values", len(u))
 	}

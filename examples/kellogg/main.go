@@ -22,7 +22,7 @@ import (
 	"io"
 	"os"
 
-	"github.com/posteriori-fem/posteriori/internal/problems"
+	"github.com/posteriori-fem/posteriori/fem/known"
 	"github.com/posteriori-fem/posteriori/internal/scenario"
 	"github.com/posteriori-fem/posteriori/mesh"
 )
@@ -30,7 +30,7 @@ import (
 func main() { os.Exit(run(os.Args[1:], os.Stdout, os.Stderr)) }
 
 func run(args []string, stdout, stderr io.Writer) int {
-	ex, p := problems.Kellogg()
+	ex, p := known.Kellogg()
 	sc := &scenario.Scenario{
 		Name:       "kellogg",
 		Title:      "Composite plate, checkerboard of conductivities 161.4 and 1, exact solution of Kellogg (γ = 0.1)",

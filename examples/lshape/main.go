@@ -30,7 +30,7 @@ import (
 	"io"
 	"os"
 
-	"github.com/posteriori-fem/posteriori/internal/problems"
+	"github.com/posteriori-fem/posteriori/fem/known"
 	"github.com/posteriori-fem/posteriori/internal/scenario"
 	"github.com/posteriori-fem/posteriori/mesh"
 )
@@ -38,7 +38,7 @@ import (
 func main() { os.Exit(run(os.Args[1:], os.Stdout, os.Stderr)) }
 
 func run(args []string, stdout, stderr io.Writer) int {
-	ex, p := problems.LShape()
+	ex, p := known.LShape()
 	sc := &scenario.Scenario{
 		Name:       "lshape",
 		Title:      "L-shaped bracket, steady heat conduction, temperature u = r^(2/3) sin(2θ/3)",

@@ -9,7 +9,7 @@ import (
 	"github.com/posteriori-fem/posteriori/adapt"
 	"github.com/posteriori-fem/posteriori/fem"
 	"github.com/posteriori-fem/posteriori/internal/amg"
-	"github.com/posteriori-fem/posteriori/internal/problems"
+	"github.com/posteriori-fem/posteriori/fem/known"
 	"github.com/posteriori-fem/posteriori/internal/sparse"
 	"github.com/posteriori-fem/posteriori/mesh"
 )
@@ -119,7 +119,7 @@ func BenchmarkSolveAdaptive(b *testing.B) {
 			if err != nil {
 				b.Fatal(err)
 			}
-			_, p := problems.LShape()
+			_, p := known.LShape()
 			res, err := adapt.Run(context.Background(), adapt.Problem{Mesh: m0, Degree: 1, Data: p},
 				adapt.Settings{MaxDOFs: c.maxDOFs}, adapt.Method{})
 			if err != nil {

@@ -6,7 +6,7 @@ import (
 
 	"github.com/posteriori-fem/posteriori/fem"
 	"github.com/posteriori-fem/posteriori/internal/amg"
-	"github.com/posteriori-fem/posteriori/internal/problems"
+	"github.com/posteriori-fem/posteriori/fem/known"
 	"github.com/posteriori-fem/posteriori/internal/sparse"
 	"github.com/posteriori-fem/posteriori/mesh"
 )
@@ -19,8 +19,8 @@ import (
 type domain int
 
 const (
-	lshape  domain = iota // Laplace on the L-shape (problems.LShape)
-	kellogg               // Kellogg's checkerboard, contrast 161.45 (problems.Kellogg)
+	lshape  domain = iota // Laplace on the L-shape (known.LShape)
+	kellogg               // Kellogg's checkerboard, contrast 161.45 (known.Kellogg)
 	square                // Laplace on the unit square, u = 0 on the boundary, f = 1
 )
 
@@ -85,10 +85,10 @@ func gradedMesh(tb testing.TB, m *mesh.Mesh, h0, gamma, rmin float64) *mesh.Mesh
 func problem(d domain) *fem.Problem {
 	switch d {
 	case lshape:
-		_, p := problems.LShape()
+		_, p := known.LShape()
 		return p
 	case kellogg:
-		_, p := problems.Kellogg()
+		_, p := known.Kellogg()
 		return p
 	}
 	return &fem.Problem{

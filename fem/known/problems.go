@@ -1,6 +1,14 @@
-// Package problems holds model problems with known exact solutions, shared
-// by the examples and the tests.
-package problems
+// Package known holds model problems with known exact solutions: for each,
+// the data (a fem.Problem), the exact solution with its gradient and
+// singular points (a fem.Exact), and a suggested initial mesh. They are
+// what error estimators are judged on (the effectivity study of package
+// adapt/study runs them), and what the examples and the tests solve.
+//
+// The problems: LShape (r^{2/3} at a re-entrant corner), Slit (r^{1/2} at a
+// crack tip), Kellogg (the checkerboard of two conductivities, r^{0.1}),
+// Sine (smooth), Peak (a sharp Gaussian), Layer (a boundary layer); Corner
+// gives the singular functions r^α sin(αθ) themselves.
+package known
 
 import (
 	"math"
