@@ -53,8 +53,8 @@ import (
 	"github.com/posteriori-fem/posteriori/adapt"
 	"github.com/posteriori-fem/posteriori/estimate"
 	"github.com/posteriori-fem/posteriori/fem"
-	"github.com/posteriori-fem/posteriori/internal/atomicfile"
 	"github.com/posteriori-fem/posteriori/fem/known"
+	"github.com/posteriori-fem/posteriori/internal/atomicfile"
 	"github.com/posteriori-fem/posteriori/mesh"
 )
 

@@ -8,8 +8,8 @@ import (
 
 	"github.com/posteriori-fem/posteriori/adapt"
 	"github.com/posteriori-fem/posteriori/fem"
-	"github.com/posteriori-fem/posteriori/internal/amg"
 	"github.com/posteriori-fem/posteriori/fem/known"
+	"github.com/posteriori-fem/posteriori/internal/amg"
 	"github.com/posteriori-fem/posteriori/internal/sparse"
 	"github.com/posteriori-fem/posteriori/mesh"
 )
