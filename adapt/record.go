@@ -9,7 +9,7 @@ import (
 	"strconv"
 	"time"
 
-	"github.com/posteriori-fem/posteriori/internal/atomicfile"
+	"github.com/posteriori-fem/posteriori/mesh"
 )
 
 // Step is the record of one step of the loop.
@@ -157,5 +157,5 @@ func ReadCSV(r io.Reader) ([]Step, error) {
 // SaveCSV writes the records to the file at path as WriteCSV does, through
 // a temporary file in the same folder renamed over path only when complete.
 func SaveCSV(path string, steps []Step) error {
-	return atomicfile.Write(path, func(w io.Writer) error { return WriteCSV(w, steps) })
+	return mesh.WriteFile(path, func(w io.Writer) error { return WriteCSV(w, steps) })
 }

@@ -2,8 +2,6 @@ package mesh
 
 import (
 	"io"
-
-	"github.com/posteriori-fem/posteriori/internal/atomicfile"
 )
 
 // SaveJSON writes m and d (which may be nil) to the file at path in the
@@ -11,17 +9,17 @@ import (
 // folder, renamed over path only when complete, so that a failure never
 // leaves a partial file where a good one was.
 func SaveJSON(path string, m *Mesh, d *Data) error {
-	return atomicfile.Write(path, func(w io.Writer) error { return WriteJSON(w, m, d) })
+	return WriteFile(path, func(w io.Writer) error { return WriteJSON(w, m, d) })
 }
 
 // SaveVTU writes m and d to the file at path as WriteVTU does, atomically
 // as SaveJSON.
 func SaveVTU(path string, m *Mesh, d *Data) error {
-	return atomicfile.Write(path, func(w io.Writer) error { return WriteVTU(w, m, d) })
+	return WriteFile(path, func(w io.Writer) error { return WriteVTU(w, m, d) })
 }
 
 // SaveSVG writes a picture of m to the file at path as WriteSVG does,
 // atomically as SaveJSON.
 func SaveSVG(path string, m *Mesh, opt *SVGOptions) error {
-	return atomicfile.Write(path, func(w io.Writer) error { return WriteSVG(w, m, opt) })
+	return WriteFile(path, func(w io.Writer) error { return WriteSVG(w, m, opt) })
 }

@@ -54,7 +54,6 @@ import (
 	"github.com/posteriori-fem/posteriori/estimate"
 	"github.com/posteriori-fem/posteriori/fem"
 	"github.com/posteriori-fem/posteriori/fem/known"
-	"github.com/posteriori-fem/posteriori/internal/atomicfile"
 	"github.com/posteriori-fem/posteriori/mesh"
 )
 
@@ -114,7 +113,7 @@ func run(args []string, stdout, stderr io.Writer) int {
 		rows = append(rows, rs...)
 	}
 	if *csvPath != "" {
-		err := atomicfile.Write(*csvPath, func(w io.Writer) error {
+		err := mesh.WriteFile(*csvPath, func(w io.Writer) error {
 			fmt.Fprintln(w, "stage,size,elements,per,seconds,ns_per_element,spmv_ratio,bytes,bytes_per_element")
 			for _, r := range rows {
 				if r.Bytes > 0 {

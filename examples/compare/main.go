@@ -94,10 +94,10 @@ import (
 	"strings"
 	"time"
 
-	"github.com/posteriori-fem/posteriori/internal/atomicfile"
-
 	"github.com/posteriori-fem/posteriori/adapt/study"
 	"github.com/posteriori-fem/posteriori/fem/known"
+
+	"github.com/posteriori-fem/posteriori/mesh"
 )
 
 // defaultMaxDOFs is the default DOF budget of each run, chosen so that the
@@ -291,13 +291,13 @@ func writeOutputs(out, plotWhich string, sums []study.Summary) error {
 	if err := os.MkdirAll(out, 0o755); err != nil {
 		return err
 	}
-	if err := atomicfile.Write(filepath.Join(out, "results.csv"), func(w io.Writer) error { return writeResults(w, sums) }); err != nil {
+	if err := mesh.WriteFile(filepath.Join(out, "results.csv"), func(w io.Writer) error { return writeResults(w, sums) }); err != nil {
 		return err
 	}
-	if err := atomicfile.Write(filepath.Join(out, "steps.csv"), func(w io.Writer) error { return writeSteps(w, sums) }); err != nil {
+	if err := mesh.WriteFile(filepath.Join(out, "steps.csv"), func(w io.Writer) error { return writeSteps(w, sums) }); err != nil {
 		return err
 	}
-	return atomicfile.Write(filepath.Join(out, "effectivity.svg"), func(w io.Writer) error { return writePlot(w, sums, plotWhich) })
+	return mesh.WriteFile(filepath.Join(out, "effectivity.svg"), func(w io.Writer) error { return writePlot(w, sums, plotWhich) })
 }
 
 // num formats v in the shortest form that reads back exactly.

@@ -31,7 +31,7 @@ import (
 	"os"
 
 	"github.com/posteriori-fem/posteriori/fem/known"
-	"github.com/posteriori-fem/posteriori/internal/scenario"
+	"github.com/posteriori-fem/posteriori/examples/internal/scenario"
 	"github.com/posteriori-fem/posteriori/mesh"
 )
 

@@ -3,7 +3,7 @@ package main
 import (
 	"testing"
 
-	"github.com/posteriori-fem/posteriori/internal/scenario"
+	"github.com/posteriori-fem/posteriori/examples/internal/scenario"
 )
 
 // Small runs write what Verify accepts; bad flags exit 2 and write nothing.

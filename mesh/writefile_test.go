@@ -1,4 +1,4 @@
-package atomicfile
+package mesh
 
 import (
 	"errors"
@@ -8,16 +8,16 @@ import (
 	"testing"
 )
 
-func TestWrite(t *testing.T) {
+func TestWriteFileFile(t *testing.T) {
 	dir := t.TempDir()
 	path := filepath.Join(dir, "a.txt")
-	if err := Write(path, func(w io.Writer) error { _, err := io.WriteString(w, "good"); return err }); err != nil {
+	if err := WriteFile(path, func(w io.Writer) error { _, err := io.WriteString(w, "good"); return err }); err != nil {
 		t.Fatal(err)
 	}
 	// A writer that fails midway leaves the good file as it was and no
 	// temporary file behind.
 	boom := errors.New("disk on fire")
-	err := Write(path, func(w io.Writer) error {
+	err := WriteFile(path, func(w io.Writer) error {
 		io.WriteString(w, "half of a new")
 		return boom
 	})
@@ -32,7 +32,7 @@ func TestWrite(t *testing.T) {
 	if len(entries) != 1 {
 		t.Fatalf("%d entries in the folder, want 1", len(entries))
 	}
-	if err := Write(filepath.Join(dir, "missing", "b.txt"), func(w io.Writer) error { return nil }); err == nil {
+	if err := WriteFile(filepath.Join(dir, "missing", "b.txt"), func(w io.Writer) error { return nil }); err == nil {
 		t.Fatal("writing into a missing folder succeeded")
 	}
 }

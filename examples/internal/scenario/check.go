@@ -7,8 +7,15 @@ import (
 	"path/filepath"
 	"strconv"
 	"strings"
-	"testing"
 )
+
+// TB is the part of *testing.T that CheckCommand uses.
+type TB interface {
+	Helper()
+	TempDir() string
+	Errorf(format string, args ...any)
+	Fatalf(format string, args ...any)
+}
 
 // Command is the signature of an example's run function.
 type Command func(args []string, stdout, stderr io.Writer) int
@@ -17,7 +24,10 @@ type Command func(args []string, stdout, stderr io.Writer) int
 // runs write files that Verify accepts, with one printed row per recorded
 // step, and bad flags exit with status 2, one line on stderr and nothing
 // written.
-func CheckCommand(t *testing.T, run Command) {
+//
+// t is a *testing.T; the interface keeps package testing out of the
+// examples' binaries.
+func CheckCommand(t TB, run Command) {
 	t.Helper()
 	for _, args := range [][]string{
 		{"-max-dofs", "400"},

@@ -17,7 +17,6 @@ import (
 	"gonum.org/v1/plot/vg/draw"
 
 	"github.com/posteriori-fem/posteriori/adapt"
-	"github.com/posteriori-fem/posteriori/internal/atomicfile"
 	"github.com/posteriori-fem/posteriori/mesh"
 )
 
@@ -66,7 +65,7 @@ func (sc *Scenario) write(o Options, r run, adaptive, uniform []adapt.Step) erro
 	if err := mesh.SaveSVG(path(MeshSVGFile), m, opt); err != nil {
 		return err
 	}
-	return atomicfile.Write(path(ConvergenceFile), func(w io.Writer) error {
+	return mesh.WriteFile(path(ConvergenceFile), func(w io.Writer) error {
 		return sc.convergence(w, o, adaptive, uniform)
 	})
 }

@@ -1,4 +1,4 @@
-package atomicfile_test
+package mesh_test
 
 import (
 	"fmt"
@@ -6,14 +6,14 @@ import (
 	"os"
 	"path/filepath"
 
-	"github.com/posteriori-fem/posteriori/internal/atomicfile"
+	"github.com/posteriori-fem/posteriori/mesh"
 )
 
-func ExampleWrite() {
+func ExampleWriteFile() {
 	dir, _ := os.MkdirTemp("", "example")
 	defer os.RemoveAll(dir)
 	path := filepath.Join(dir, "steps.csv")
-	err := atomicfile.Write(path, func(w io.Writer) error {
+	err := mesh.WriteFile(path, func(w io.Writer) error {
 		_, err := io.WriteString(w, "step,dofs\n0,21\n")
 		return err
 	})
