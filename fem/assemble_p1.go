@@ -4,7 +4,6 @@ import (
 	"fmt"
 	"math"
 	"runtime"
-	"sync"
 
 	"github.com/posteriori-fem/posteriori/internal/parallel"
 	"github.com/posteriori-fem/posteriori/mesh"
@@ -30,10 +29,11 @@ import (
 func patternP1(m *mesh.Mesh) (*Matrix, []int32) {
 	n, ne := m.NumVertices(), m.NumEdges()
 	nw := max(1, min(runtime.GOMAXPROCS(0), n/(1<<15)))
-	bounds := func(w int) (int32, int32) { return int32(n * w / nw), int32(n * (w + 1) / nw) }
+	b := parallel.Even(nil, nw, n)
+	bounds := func(w int) (int32, int32) { return int32(b[w]), int32(b[w+1]) }
 	// Each goroutine w owns the vertices [lo, hi) and scans all edges.
 	rowPtr := make([]int32, n+1)
-	owners(nw, func(w int) {
+	parallel.Run(nw, func(w int) {
 		lo, hi := bounds(w)
 		for _, v := range m.Edge {
 			if v >= lo && v < hi {
@@ -48,7 +48,7 @@ func patternP1(m *mesh.Mesh) (*Matrix, []int32) {
 	col := make([]int32, nnz)
 	slot := make([]int32, nnz)
 	fill := make([]int32, n)
-	owners(nw, func(w int) {
+	parallel.Run(nw, func(w int) {
 		lo, hi := bounds(w)
 		for v := lo; v < hi; v++ {
 			q := rowPtr[v]
@@ -79,20 +79,6 @@ func patternP1(m *mesh.Mesh) (*Matrix, []int32) {
 		}
 	})
 	return &Matrix{Rows: n, Cols: n, RowPtr: rowPtr, Col: col, Val: make([]float64, nnz)}, slot
-}
-
-// owners runs f(0), …, f(nw−1) on nw goroutines (on the calling one if
-// nw is 1) and waits.
-func owners(nw int, f func(w int)) {
-	if nw == 1 {
-		f(0)
-		return
-	}
-	var wg sync.WaitGroup
-	for w := range nw {
-		wg.Go(func() { f(w) })
-	}
-	wg.Wait()
 }
 
 // regionTable holds the constant diffusion of each region for
