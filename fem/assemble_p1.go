@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"runtime"
+	"slices"
 
 	"github.com/posteriori-fem/posteriori/internal/parallel"
 	"github.com/posteriori-fem/posteriori/mesh"
@@ -25,7 +26,7 @@ import (
 // entry q its slot: −1 for the diagonal, 2e + d for edge e, where the
 // row's vertex is Edge[2e+d]. The rows are filled in edge order (each
 // goroutine scans all edges and fills the rows of the vertices it owns)
-// and sorted by insertion (short rows).
+// and sorted.
 func patternP1(m *mesh.Mesh) (*Matrix, []int32) {
 	n, ne := m.NumVertices(), m.NumEdges()
 	nw := max(1, min(runtime.GOMAXPROCS(0), n/(1<<15)))
@@ -66,15 +67,18 @@ func patternP1(m *mesh.Mesh) (*Matrix, []int32) {
 				fill[v] = q + 1
 			}
 		}
+		// Each row sorted by column, its slots alike: (column, slot)
+		// packed into one key (columns within a row are distinct).
+		var key []int64
 		for v := lo; v < hi; v++ {
 			c, s := col[rowPtr[v]:rowPtr[v+1]], slot[rowPtr[v]:rowPtr[v+1]]
-			for j := 1; j < len(c); j++ {
-				cj, sj := c[j], s[j]
-				i := j
-				for ; i > 0 && c[i-1] > cj; i-- {
-					c[i], s[i] = c[i-1], s[i-1]
-				}
-				c[i], s[i] = cj, sj
+			key = key[:0]
+			for j, cj := range c {
+				key = append(key, int64(cj)<<32|int64(uint32(s[j])))
+			}
+			slices.Sort(key)
+			for j, k := range key {
+				c[j], s[j] = int32(k>>32), int32(uint32(k))
 			}
 		}
 	})

@@ -133,7 +133,7 @@ func mul(a, b *sparse.CSR) (*sparse.CSR, error) {
 					}
 				}
 			}
-			sortShort(row)
+			slices.Sort(row)
 			vals := m.Val[m.RowPtr[i]:m.RowPtr[i+1]]
 			for t, j := range row {
 				vals[t] = acc[j]
@@ -141,23 +141,6 @@ func mul(a, b *sparse.CSR) (*sparse.CSR, error) {
 		}
 	}
 	return fill(a.Rows, b.Cols, a.RowPtr, count, put)
-}
-
-// sortShort sorts a short slice in place: insertion sort for the typical
-// row of a few dozen entries, the standard library's sort beyond.
-func sortShort(s []int32) {
-	if len(s) > 48 {
-		slices.Sort(s)
-		return
-	}
-	for j := 1; j < len(s); j++ {
-		v := s[j]
-		l := j
-		for ; l > 0 && s[l-1] > v; l-- {
-			s[l] = s[l-1]
-		}
-		s[l] = v
-	}
 }
 
 // maxTransposeChunks bounds the number of row ranges of transpose, each of
