@@ -84,7 +84,7 @@ func TestBadInput(t *testing.T) {
 		{"zero diffusion", assemble(&fem.Problem{A: map[int32]fem.Tensor{0: fem.Scalar(0)}, Dirichlet: dir}), fem.ErrDiffusion},
 		{"NaN diffusion", assemble(&fem.Problem{A: map[int32]fem.Tensor{0: fem.Scalar(nan)}, Dirichlet: dir}), fem.ErrDiffusion},
 		{"NaN source met in assembly", assemble(&fem.Problem{F: func(x, y float64) float64 { return math.Log(x - 0.5) }, Dirichlet: dir}), fem.ErrNotFinite},
-		{"Dirichlet tag on no edge", assemble(&fem.Problem{Dirichlet: map[int32]fem.Func{42: nil}}), fem.ErrTag},
+		{"Dirichlet tag on no edge", assemble(&fem.Problem{Dirichlet: map[int32]fem.Func{42: nil}}), fem.ErrBoundaryCondition},
 		{"no Dirichlet part, no reaction", assemble(&fem.Problem{F: one}), fem.ErrIllPosed},
 		{"negative reaction", assemble(&fem.Problem{C: -2, Dirichlet: dir}), fem.ErrReaction},
 		{"degree 3", func() error { _, err := fem.NewSpace(good, 3); return err }, fem.ErrDegree},
@@ -92,16 +92,18 @@ func TestBadInput(t *testing.T) {
 			sys, _ := fem.Assemble(s1, &fem.Problem{F: one, Dirichlet: dir})
 			_, _, err := sys.Solve(fem.SolveSettings{MaxIter: 1, Preconditioner: fem.Diagonal})
 			return err
-		}, fem.ErrNotConverge},
-		{"Dirichlet and Neumann on one tag", assemble(&fem.Problem{Dirichlet: dir, Neumann: map[int32]fem.Func{mesh.SideLeft: nil}}), fem.ErrTag},
+		}, fem.ErrNotConverged},
+		{"Dirichlet and Neumann on one tag", assemble(&fem.Problem{Dirichlet: dir, Neumann: map[int32]fem.Func{mesh.SideLeft: nil}}), fem.ErrBoundaryCondition},
 		{"recovery method 7", func() error {
 			_, err := estimate.Recovery{Method: 7}.Estimate(nil, u, &fem.Problem{F: one, Dirichlet: dir})
 			return err
 		}, estimate.ErrArgument},
+		// The same value as for the NaN source met in assembly above:
+		// one sentinel per meaning, whichever stage met it.
 		{"estimate with NaN source", func() error {
 			_, err := estimate.Residual{}.Estimate(nil, u, &fem.Problem{F: func(x, y float64) float64 { return nan }, Dirichlet: dir})
 			return err
-		}, estimate.ErrNotFinite},
+		}, fem.ErrNotFinite},
 		// Marking and refinement.
 		{"Dörfler θ = 0", mark(adapt.Dorfler{Theta: 0}, eta2), adapt.ErrTheta},
 		{"Dörfler θ > 1", mark(adapt.Dorfler{Theta: 1.5}, eta2), adapt.ErrTheta},

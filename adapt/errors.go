@@ -4,6 +4,8 @@ import (
 	"errors"
 	"fmt"
 	"math"
+
+	"github.com/posteriori-fem/posteriori/mesh"
 )
 
 // Reasons a marker rejects its input, for errors.Is. On any error Mark
@@ -36,7 +38,8 @@ var (
 
 	// ErrArgument: an argument of Run that is not part of the settings is
 	// unusable, such as a nil context.
-	ErrArgument = errors.New("invalid argument")
+	// It is the value of mesh.ErrArgument, shared across the library.
+	ErrArgument = mesh.ErrArgument
 
 	// ErrMethod: a caller's Solver, Estimator or Marker returned a result
 	// that does not fit the step: a solution with the wrong number of

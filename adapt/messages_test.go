@@ -142,10 +142,10 @@ func TestSentinelsHaveNoPrefix(t *testing.T) {
 	prefix := regexp.MustCompile(`^[a-z]+: `)
 	for _, err := range []error{
 		mesh.ErrLength, mesh.ErrEmpty, mesh.ErrIndex, mesh.ErrRepeatedVertex, mesh.ErrNotFinite, mesh.ErrZeroArea,
-		mesh.ErrNonManifold, mesh.ErrOverlap, mesh.ErrNotAnEdge, mesh.ErrNotBoundary, mesh.ErrDuplicateEdge, mesh.ErrTag,
+		mesh.ErrNonManifold, mesh.ErrOverlap, mesh.ErrNotAnEdge, mesh.ErrNotBoundary, mesh.ErrDuplicateEdge, mesh.ErrNegativeTag,
 		mesh.ErrUnusedVertex, mesh.ErrCoincident, mesh.ErrArgument, mesh.ErrFormat, mesh.ErrTooLarge,
-		fem.ErrArgument, fem.ErrDegree, fem.ErrDiffusion, fem.ErrReaction, fem.ErrNotFinite, fem.ErrIllPosed, fem.ErrTag,
-		fem.ErrRegion, fem.ErrNotConverge, fem.ErrOutside,
+		fem.ErrArgument, fem.ErrDegree, fem.ErrDiffusion, fem.ErrReaction, fem.ErrNotFinite, fem.ErrIllPosed, fem.ErrBoundaryCondition,
+		fem.ErrRegion, fem.ErrNotConverged, fem.ErrOutside,
 		estimate.ErrArgument, estimate.ErrNotFinite, estimate.ErrLength, estimate.ErrTooFew,
 		adapt.ErrTheta, adapt.ErrIndicator, adapt.ErrTooMany, adapt.ErrSettings, adapt.ErrArgument, adapt.ErrMethod, adapt.ErrCSV,
 		sparse.ErrDims, sparse.ErrIndex, sparse.ErrNotFinite, sparse.ErrNotPositive, sparse.ErrStructure, sparse.ErrSettings,
@@ -154,5 +154,31 @@ func TestSentinelsHaveNoPrefix(t *testing.T) {
 		if prefix.MatchString(err.Error()) {
 			t.Errorf("sentinel %q carries a prefix", err)
 		}
+	}
+}
+
+// One sentinel per meaning (DEVELOPERS.md, "Rules of the house"): the
+// values that several packages export are one value, as os.ErrNotExist is
+// fs.ErrNotExist, and the two boundary-tag reasons of mesh and fem, which
+// mean different things, are two.
+func TestSharedSentinels(t *testing.T) {
+	t.Parallel()
+	for _, tc := range []struct {
+		name string
+		errs []error
+	}{
+		{"not finite", []error{mesh.ErrNotFinite, fem.ErrNotFinite, estimate.ErrNotFinite, sparse.ErrNotFinite}},
+		{"argument", []error{mesh.ErrArgument, fem.ErrArgument, estimate.ErrArgument, adapt.ErrArgument}},
+		{"length", []error{mesh.ErrLength, estimate.ErrLength}},
+		{"not converged", []error{fem.ErrNotConverged, sparse.ErrNotConverged}},
+	} {
+		for i, err := range tc.errs[1:] {
+			if err != tc.errs[0] {
+				t.Errorf("%s: value %d (%q) is not value 0 (%q)", tc.name, i+1, err, tc.errs[0])
+			}
+		}
+	}
+	if errors.Is(mesh.ErrNegativeTag, fem.ErrBoundaryCondition) || errors.Is(fem.ErrBoundaryCondition, mesh.ErrNegativeTag) {
+		t.Error("mesh.ErrNegativeTag and fem.ErrBoundaryCondition match each other")
 	}
 }

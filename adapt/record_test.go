@@ -133,8 +133,8 @@ func TestLoopStageErrors(t *testing.T) {
 	// with interior unknowns.
 	res, err = Run(context.Background(), Problem{Mesh: m, Degree: 1, Data: p}, Settings{MaxSteps: 10},
 		Method{Solver: FEMSolver{Settings: fem.SolveSettings{MaxIter: 2, Preconditioner: fem.Diagonal}}})
-	if !errors.As(err, &se) || se.Stage != StageSolve || !errors.Is(err, fem.ErrNotConverge) {
-		t.Fatalf("error %v, want a solve-stage ErrNotConverge", err)
+	if !errors.As(err, &se) || se.Stage != StageSolve || !errors.Is(err, fem.ErrNotConverged) {
+		t.Fatalf("error %v, want a solve-stage ErrNotConverged", err)
 	}
 	if len(res.Steps) != se.Step {
 		t.Fatalf("%d steps kept, failure at step %d", len(res.Steps), se.Step)

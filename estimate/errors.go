@@ -1,13 +1,20 @@
 package estimate
 
-import "errors"
+import (
+	"errors"
+
+	"github.com/posteriori-fem/posteriori/mesh"
+)
 
 // Reasons package estimate rejects its input, for errors.Is. Errors from
 // package fem (bad problem data) are wrapped and match fem's values.
+// ErrArgument, ErrNotFinite and ErrLength are the values of package mesh
+// (and fem), shared across the library: errors.Is(err, fem.ErrNotFinite)
+// holds for a NaN met in estimation as for one met in assembly.
 var (
-	ErrArgument  = errors.New("invalid argument")
-	ErrNotFinite = errors.New("value is NaN or infinite")
-	ErrLength    = errors.New("lengths do not match")
+	ErrArgument  = mesh.ErrArgument
+	ErrNotFinite = mesh.ErrNotFinite
+	ErrLength    = mesh.ErrLength
 	ErrTooFew    = errors.New("too few points to fit a rate")
 )
 

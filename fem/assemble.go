@@ -106,7 +106,7 @@ func Assemble(s *Space, p *Problem) (*System, error) {
 // share a triangle) and zero values. The DOFs of the triangles around each
 // DOF (those of a vertex by the vertex-to-triangle lists, those of an edge
 // by its one or two triangles) are gathered and deduplicated with a stamp
-// per DOF and sorted by insertion, in parallel chunks of rows: linear for
+// per DOF and sorted, in parallel chunks of rows: linear for
 // meshes of bounded vertex degree.
 func pattern(s *Space) *Matrix {
 	m := s.Mesh
@@ -164,15 +164,7 @@ func pattern(s *Space) *Matrix {
 				buf = slices.Grow(buf, bound)[:at+bound]
 				k := int(fill(stamp, int32(d), buf[at:]))
 				buf = buf[:at+k]
-				r := buf[at:]
-				for j := 1; j < len(r); j++ {
-					cj := r[j]
-					i := j
-					for ; i > 0 && r[i-1] > cj; i-- {
-						r[i] = r[i-1]
-					}
-					r[i] = cj
-				}
+				slices.Sort(buf[at:])
 				rowPtr[d+1] = int32(k)
 			}
 			bufs[c] = buf

@@ -4,7 +4,7 @@ import (
 	"fmt"
 	"math"
 	"runtime"
-	"sync"
+	"slices"
 
 	"github.com/posteriori-fem/posteriori/internal/parallel"
 	"github.com/posteriori-fem/posteriori/mesh"
@@ -26,14 +26,15 @@ import (
 // entry q its slot: −1 for the diagonal, 2e + d for edge e, where the
 // row's vertex is Edge[2e+d]. The rows are filled in edge order (each
 // goroutine scans all edges and fills the rows of the vertices it owns)
-// and sorted by insertion (short rows).
+// and sorted.
 func patternP1(m *mesh.Mesh) (*Matrix, []int32) {
 	n, ne := m.NumVertices(), m.NumEdges()
 	nw := max(1, min(runtime.GOMAXPROCS(0), n/(1<<15)))
-	bounds := func(w int) (int32, int32) { return int32(n * w / nw), int32(n * (w + 1) / nw) }
+	b := parallel.Even(nil, nw, n)
+	bounds := func(w int) (int32, int32) { return int32(b[w]), int32(b[w+1]) }
 	// Each goroutine w owns the vertices [lo, hi) and scans all edges.
 	rowPtr := make([]int32, n+1)
-	owners(nw, func(w int) {
+	parallel.Run(nw, func(w int) {
 		lo, hi := bounds(w)
 		for _, v := range m.Edge {
 			if v >= lo && v < hi {
@@ -48,7 +49,7 @@ func patternP1(m *mesh.Mesh) (*Matrix, []int32) {
 	col := make([]int32, nnz)
 	slot := make([]int32, nnz)
 	fill := make([]int32, n)
-	owners(nw, func(w int) {
+	parallel.Run(nw, func(w int) {
 		lo, hi := bounds(w)
 		for v := lo; v < hi; v++ {
 			q := rowPtr[v]
@@ -66,33 +67,22 @@ func patternP1(m *mesh.Mesh) (*Matrix, []int32) {
 				fill[v] = q + 1
 			}
 		}
+		// Each row sorted by column, its slots alike: (column, slot)
+		// packed into one key (columns within a row are distinct).
+		var key []int64
 		for v := lo; v < hi; v++ {
 			c, s := col[rowPtr[v]:rowPtr[v+1]], slot[rowPtr[v]:rowPtr[v+1]]
-			for j := 1; j < len(c); j++ {
-				cj, sj := c[j], s[j]
-				i := j
-				for ; i > 0 && c[i-1] > cj; i-- {
-					c[i], s[i] = c[i-1], s[i-1]
-				}
-				c[i], s[i] = cj, sj
+			key = key[:0]
+			for j, cj := range c {
+				key = append(key, int64(cj)<<32|int64(uint32(s[j])))
+			}
+			slices.Sort(key)
+			for j, k := range key {
+				c[j], s[j] = int32(k>>32), int32(uint32(k))
 			}
 		}
 	})
 	return &Matrix{Rows: n, Cols: n, RowPtr: rowPtr, Col: col, Val: make([]float64, nnz)}, slot
-}
-
-// owners runs f(0), …, f(nw−1) on nw goroutines (on the calling one if
-// nw is 1) and waits.
-func owners(nw int, f func(w int)) {
-	if nw == 1 {
-		f(0)
-		return
-	}
-	var wg sync.WaitGroup
-	for w := range nw {
-		wg.Go(func() { f(w) })
-	}
-	wg.Wait()
 }
 
 // regionTable holds the constant diffusion of each region for

@@ -57,7 +57,7 @@
 // the mesh size; Multigrid keeps 9 to 23 iterations to 1e-8 from 1e4 to 1e6
 // unknowns on uniform and graded meshes, P1 and P2, with the Kellogg
 // contrast of 161 (internal/amg's tests). A solve that does not reach its
-// tolerance returns ErrNotConverge rather than an inaccurate solution.
+// tolerance returns ErrNotConverged rather than an inaccurate solution.
 //
 // Assembly and error integration split their passes over GOMAXPROCS
 // goroutines and sum every value in a fixed order, so results do not

@@ -3,22 +3,37 @@ package fem
 import (
 	"errors"
 	"fmt"
+
+	"github.com/posteriori-fem/posteriori/internal/sentinel"
+	"github.com/posteriori-fem/posteriori/mesh"
 )
 
-// Reasons package fem rejects its input, for errors.Is. ErrTag covers a
-// Dirichlet or Neumann tag that no boundary edge carries and a tag given
-// as both; the error that wraps it names the tag and says which.
+// Reasons package fem rejects its input, for errors.Is.
+// ErrBoundaryCondition covers a Dirichlet or Neumann tag that no boundary
+// edge carries and a tag given as both; the error that wraps it names the
+// tag and says which.
 var (
-	ErrArgument    = errors.New("invalid argument")
-	ErrDegree      = errors.New("degree must be 1 or 2")
-	ErrDiffusion   = errors.New("diffusion is not symmetric positive definite and finite")
-	ErrReaction    = errors.New("reaction coefficient is negative or not finite")
-	ErrNotFinite   = errors.New("value is NaN or infinite")
-	ErrIllPosed    = errors.New("problem has no Dirichlet part and no reaction, so its solution is not unique")
-	ErrTag         = errors.New("unusable boundary condition")
-	ErrRegion      = errors.New("region has no diffusion coefficient")
-	ErrNotConverge = errors.New("linear solver did not converge")
-	ErrOutside     = errors.New("point outside the mesh")
+	ErrDegree            = errors.New("degree must be 1 or 2")
+	ErrDiffusion         = errors.New("diffusion is not symmetric positive definite and finite")
+	ErrReaction          = errors.New("reaction coefficient is negative or not finite")
+	ErrIllPosed          = errors.New("problem has no Dirichlet part and no reaction, so its solution is not unique")
+	ErrBoundaryCondition = errors.New("unusable boundary condition")
+	ErrRegion            = errors.New("region has no diffusion coefficient")
+	ErrOutside           = errors.New("point outside the mesh")
+)
+
+// Reasons shared with the other packages of the library, one value each:
+// ErrNotFinite is mesh.ErrNotFinite and estimate.ErrNotFinite, so that
+// errors.Is(err, fem.ErrNotFinite) holds whichever stage met a NaN, and
+// ErrArgument is mesh.ErrArgument, estimate.ErrArgument and
+// adapt.ErrArgument.
+var (
+	ErrArgument  = mesh.ErrArgument
+	ErrNotFinite = mesh.ErrNotFinite
+
+	// ErrNotConverged: the linear solver reached its iteration limit, or
+	// stagnated, before meeting its tolerance.
+	ErrNotConverged = sentinel.NotConverged
 )
 
 // DataError reports bad problem data found where it was evaluated: at a

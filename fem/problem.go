@@ -107,15 +107,15 @@ func (p *Problem) Check(m *mesh.Mesh) error {
 	tags := boundaryTags(m)
 	for _, tag := range p.DirichletTags() {
 		if !tags[tag] {
-			return atTag(tag, fmt.Errorf("%w: a Dirichlet tag that no boundary edge carries", ErrTag))
+			return atTag(tag, fmt.Errorf("%w: a Dirichlet tag that no boundary edge carries", ErrBoundaryCondition))
 		}
 		if _, ok := p.Neumann[tag]; ok {
-			return atTag(tag, fmt.Errorf("%w: given both as Dirichlet and as Neumann", ErrTag))
+			return atTag(tag, fmt.Errorf("%w: given both as Dirichlet and as Neumann", ErrBoundaryCondition))
 		}
 	}
 	for tag := range p.Neumann {
 		if !tags[tag] {
-			return atTag(tag, fmt.Errorf("%w: a Neumann tag that no boundary edge carries", ErrTag))
+			return atTag(tag, fmt.Errorf("%w: a Neumann tag that no boundary edge carries", ErrBoundaryCondition))
 		}
 	}
 	if len(p.Dirichlet) == 0 && p.C == 0 && !p.PureNeumann {

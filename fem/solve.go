@@ -1,7 +1,6 @@
 package fem
 
 import (
-	"errors"
 	"fmt"
 
 	"github.com/posteriori-fem/posteriori/internal/amg"
@@ -48,11 +47,11 @@ type SolveSettings struct {
 	// solve from zero stagnates at 1.37e-10. A residual that stagnates
 	// within the floor ends the solve with SolveStats.AtFloor set and no
 	// error; one that stagnates above it is an error wrapping
-	// ErrNotConverge.
+	// ErrNotConverged.
 	Tol float64
 	// MaxIter limits the iterations; zero means 10·n + 100 for n DOFs, a
 	// guard that the default multigrid preconditioner does not reach on a
-	// well-posed problem. Reaching it is an error wrapping ErrNotConverge.
+	// well-posed problem. Reaching it is an error wrapping ErrNotConverged.
 	MaxIter int
 	// X0 is the initial guess (length NumDOF); nil means zero, with the
 	// Dirichlet values in place.
@@ -79,7 +78,7 @@ type SolveStats struct {
 // Neumann problem the solution is shifted to zero mean value. It stops at
 // Tol, at EnergyTol, or at the rounding floor (SolveStats.AtFloor; see
 // SolveSettings.Tol), and fails only for genuine non-convergence: it
-// returns an error wrapping ErrNotConverge, with the stats of the last
+// returns an error wrapping ErrNotConverged, with the stats of the last
 // iterate, when MaxIter iterations pass or the residual stagnates above the
 // rounding floor, and an error naming the breakdown when the matrix or the
 // preconditioner proves not positive definite.
@@ -119,9 +118,6 @@ func (sys *System) Solve(s SolveSettings) (*Function, SolveStats, error) {
 	res, err := sparse.CG(sys.A, sys.B, x, pre, sparse.CGSettings{Tol: s.Tol, MaxIter: s.MaxIter, EnergyTol: s.EnergyTol})
 	stats := SolveStats{Iterations: res.Iterations, Residual: res.Residual, EnergyError: res.EnergyError, AtFloor: res.AtFloor, Floor: res.Floor}
 	if err != nil {
-		if errors.Is(err, sparse.ErrNotConverged) {
-			return nil, stats, fmt.Errorf("fem: Solve: %w after %d iterations (relative residual %.3g): %w", ErrNotConverge, res.Iterations, res.Residual, err)
-		}
 		return nil, stats, fmt.Errorf("fem: Solve: %w", err)
 	}
 	u := &Function{Space: sys.Space, U: x}

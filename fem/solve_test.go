@@ -120,9 +120,9 @@ func TestProblemErrors(t *testing.T) {
 		{"negative reaction", &Problem{C: -1, Dirichlet: dir}, ErrReaction},
 		{"NaN reaction", &Problem{C: math.NaN(), Dirichlet: dir}, ErrReaction},
 		{"ill-posed", &Problem{F: one}, ErrIllPosed},
-		{"Dirichlet tag not on boundary", &Problem{Dirichlet: map[int32]Func{9: nil}}, ErrTag},
-		{"Neumann tag not on boundary", &Problem{Dirichlet: dir, Neumann: map[int32]Func{9: nil}}, ErrTag},
-		{"tag both", &Problem{Dirichlet: dir, Neumann: map[int32]Func{mesh.SideLeft: nil}}, ErrTag},
+		{"Dirichlet tag not on boundary", &Problem{Dirichlet: map[int32]Func{9: nil}}, ErrBoundaryCondition},
+		{"Neumann tag not on boundary", &Problem{Dirichlet: dir, Neumann: map[int32]Func{9: nil}}, ErrBoundaryCondition},
+		{"tag both", &Problem{Dirichlet: dir, Neumann: map[int32]Func{mesh.SideLeft: nil}}, ErrBoundaryCondition},
 		{"NaN source", &Problem{Dirichlet: dir, F: func(x, y float64) float64 { return math.Log(x) }}, ErrNotFinite},
 		{"NaN Dirichlet data", &Problem{Dirichlet: map[int32]Func{mesh.SideLeft: func(x, y float64) float64 { return math.Sqrt(y) }}}, ErrNotFinite},
 		{"Inf Neumann data", &Problem{Dirichlet: dir, Neumann: map[int32]Func{mesh.SideTop: func(x, y float64) float64 { return 1 / (x - x) }}}, ErrNotFinite},
@@ -210,7 +210,7 @@ func TestSolveNotConverged(t *testing.T) {
 		t.Fatal(err)
 	}
 	_, stats, err := sys.Solve(SolveSettings{MaxIter: 3, Preconditioner: Diagonal})
-	if !errors.Is(err, ErrNotConverge) || stats.Iterations != 3 {
+	if !errors.Is(err, ErrNotConverged) || stats.Iterations != 3 {
 		t.Fatalf("got %v after %d iterations", err, stats.Iterations)
 	}
 	if _, _, err := sys.Solve(SolveSettings{X0: []float64{1}}); !errors.Is(err, ErrArgument) {

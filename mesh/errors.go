@@ -4,26 +4,31 @@ import (
 	"errors"
 	"fmt"
 	"strings"
+
+	"github.com/posteriori-fem/posteriori/internal/sentinel"
 )
 
 // Reasons a mesh is rejected. They are wrapped in a *ValidationError that
-// says where the problem is; match them with errors.Is.
+// says where the problem is; match them with errors.Is. ErrLength,
+// ErrNotFinite and ErrArgument are shared with the other packages of the
+// library (fem.ErrNotFinite is mesh.ErrNotFinite, for example), so one
+// errors.Is test serves whichever package met the problem.
 var (
-	ErrLength         = errors.New("array lengths do not match")
+	ErrLength         = sentinel.Length
 	ErrEmpty          = errors.New("no triangles")
 	ErrIndex          = errors.New("vertex index out of range")
 	ErrRepeatedVertex = errors.New("triangle repeats a vertex")
-	ErrNotFinite      = errors.New("coordinate or area is NaN or infinite")
+	ErrNotFinite      = sentinel.NotFinite
 	ErrZeroArea       = errors.New("zero area")
 	ErrNonManifold    = errors.New("edge shared by more than two triangles")
 	ErrOverlap        = errors.New("two triangles lie on the same side of a shared edge (duplicated or folded)")
 	ErrNotAnEdge      = errors.New("boundary edge is not an edge of any triangle")
 	ErrNotBoundary    = errors.New("tagged edge is not on the boundary")
 	ErrDuplicateEdge  = errors.New("boundary edge listed twice")
-	ErrTag            = errors.New("boundary tag is negative")
+	ErrNegativeTag    = errors.New("boundary tag is negative")
 	ErrUnusedVertex   = errors.New("vertex belongs to no triangle")
 	ErrCoincident     = errors.New("vertices share their coordinates")
-	ErrArgument       = errors.New("invalid argument")
+	ErrArgument       = sentinel.Argument
 )
 
 // ValidationError reports why and where a mesh was rejected. Fields that do

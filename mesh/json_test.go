@@ -171,7 +171,7 @@ func TestReadJSONRejects(t *testing.T) {
 		{"regions length", `{` + okV + `, ` + okT + `, "regions": [1, 2]}`, ErrFormat, "regions"},
 		{"boundary pair", `{` + okV + `, ` + okT + `, "boundary": [[0, 1]]}`, ErrFormat, "boundary[0]"},
 		{"boundary index", `{` + okV + `, ` + okT + `, "boundary": [[0, 1, 1], [-2, 1, 1]]}`, ErrFormat, "boundary[1][0]"},
-		{"boundary negative tag", `{` + okV + `, ` + okT + `, "boundary": [[0, 1, -1]]}`, ErrTag, "-"},
+		{"boundary negative tag", `{` + okV + `, ` + okT + `, "boundary": [[0, 1, -1]]}`, ErrNegativeTag, "-"},
 		{"boundary not an edge", `{"vertices": [[0,0],[1,0],[0,1],[1,1]], "triangles": [[0,1,2],[1,3,2]], "boundary": [[0, 3, 1]]}`, ErrNotAnEdge, "-"},
 		{"unknown key", `{` + okV + `, ` + okT + `, "vertexes": []}`, ErrFormat, "vertexes"},
 		{"duplicate key", `{` + okV + `, ` + okV + `, ` + okT + `}`, ErrFormat, "vertices"},

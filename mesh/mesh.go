@@ -157,7 +157,7 @@ func New(a Arrays) (m *Mesh, reoriented []int32, err error) {
 	}
 	for i, v := range a.X {
 		if math.IsNaN(v) || math.IsInf(v, 0) {
-			return nil, nil, vertErr(i/2, ErrNotFinite)
+			return nil, nil, vertErr(i/2, fmt.Errorf("%w: coordinate %v", ErrNotFinite, v))
 		}
 	}
 	m = &Mesh{
@@ -180,7 +180,7 @@ func New(a Arrays) (m *Mesh, reoriented []int32, err error) {
 		}
 		d := cross(m.X, t[0], t[1], t[2])
 		if math.IsNaN(d) || math.IsInf(d, 0) {
-			return nil, nil, triErr(k, ErrNotFinite)
+			return nil, nil, triErr(k, fmt.Errorf("%w: area", ErrNotFinite))
 		}
 		h2 := max(dist2(m.X, t[0], t[1]), dist2(m.X, t[1], t[2]), dist2(m.X, t[2], t[0]))
 		if math.Abs(d) <= degenerateTol*h2 {
@@ -384,7 +384,7 @@ func (m *Mesh) tagBoundary(bnd, tag []int32) error {
 			return edgeErr(b, ErrIndex)
 		}
 		if tag[b] < 0 {
-			return edgeErr(b, ErrTag)
+			return edgeErr(b, ErrNegativeTag)
 		}
 		e := m.findEdge(a, c)
 		switch {

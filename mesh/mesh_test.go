@@ -47,7 +47,7 @@ func TestNewRejects(t *testing.T) {
 		{"boundary edge not an edge", Arrays{X: square().X, Tri: square().Tri, Bnd: []int32{1, 3}, BndTag: []int32{1}}, ErrNotAnEdge, -1, -1, 0},
 		{"tagged interior edge", Arrays{X: square().X, Tri: square().Tri, Bnd: []int32{0, 1, 0, 2}, BndTag: []int32{1, 2}}, ErrNotBoundary, -1, -1, 1},
 		{"boundary edge twice", Arrays{X: square().X, Tri: square().Tri, Bnd: []int32{0, 1, 1, 0}, BndTag: []int32{1, 2}}, ErrDuplicateEdge, -1, -1, 1},
-		{"negative tag", Arrays{X: square().X, Tri: square().Tri, Bnd: []int32{0, 1}, BndTag: []int32{-3}}, ErrTag, -1, -1, 0},
+		{"negative tag", Arrays{X: square().X, Tri: square().Tri, Bnd: []int32{0, 1}, BndTag: []int32{-3}}, ErrNegativeTag, -1, -1, 0},
 		{"boundary index out of range", Arrays{X: square().X, Tri: square().Tri, Bnd: []int32{0, 9}, BndTag: []int32{1}}, ErrIndex, -1, -1, 0},
 	}
 	for _, tc := range tests {

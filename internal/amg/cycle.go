@@ -4,6 +4,8 @@ import (
 	"fmt"
 	"runtime"
 	"sync"
+
+	"github.com/posteriori-fem/posteriori/internal/parallel"
 )
 
 // parallelRows is the row count above which a step of the V-cycle is split
@@ -44,35 +46,17 @@ func (t *team) run(k kernel, n int, rowPtr []int32) {
 	if len(t.fns) < nw {
 		t.grow(nw) // only when GOMAXPROCS grows beyond any earlier value
 	}
-	b := t.bounds[:nw+1]
-	b[0], b[nw] = 0, n
 	if rowPtr == nil {
-		for w := 1; w < nw; w++ {
-			b[w] = n * w / nw
-		}
+		parallel.Even(t.bounds, nw, n)
 	} else {
-		base := int64(rowPtr[0])
-		total := int64(rowPtr[n]) - base
-		for w := 1; w < nw; w++ {
-			target := base + total*int64(w)/int64(nw)
-			lo, hi := b[w-1], n // first i ≥ lo with rowPtr[i] ≥ target
-			for lo < hi {
-				m := int(uint(lo+hi) >> 1)
-				if int64(rowPtr[m]) < target {
-					lo = m + 1
-				} else {
-					hi = m
-				}
-			}
-			b[w] = lo
-		}
+		parallel.ByWeight(t.bounds, nw, rowPtr[:n+1])
 	}
 	t.k = k
 	t.wg.Add(nw - 1)
 	for w := 1; w < nw; w++ {
 		go t.fns[w]()
 	}
-	k.rows(b[0], b[1])
+	k.rows(0, t.bounds[1])
 	t.wg.Wait()
 	t.k = nil
 }

@@ -4,6 +4,7 @@ import (
 	"math"
 	"runtime"
 
+	"github.com/posteriori-fem/posteriori/internal/parallel"
 	"github.com/posteriori-fem/posteriori/internal/sparse"
 )
 
@@ -51,7 +52,7 @@ func powerRho(a *sparse.CSR, val, diag, invDiag []float64, iters int) float64 {
 	for blk := range nb + 1 {
 		blockPtr[blk] = a.RowPtr[min(n, blk*powerBlock)]
 	}
-	bounds := splitRows(nb, nw, blockPtr)
+	bounds := parallel.ByWeight(nil, nw, blockPtr)
 	vdv := 0.0 // (v, D v), sequential (once)
 	for i, d := range diag {
 		vdv += v[i] * d * v[i]
@@ -62,7 +63,7 @@ func powerRho(a *sparse.CSR, val, diag, invDiag []float64, iters int) float64 {
 		// which is (v, D v) of the next step. The Rayleigh quotient does
 		// not depend on the scale of v, so v is only rescaled to keep it
 		// far from overflow.
-		parallel(nw, func(c int) {
+		parallel.Run(nw, func(c int) {
 			for blk := bounds[c]; blk < bounds[c+1]; blk++ {
 				lo, hi := blk*powerBlock, min(n, (blk+1)*powerBlock)
 				sums[blk] = powerStep(a.RowPtr[lo:hi+1], a.Col, val, invDiag[lo:hi], v, w[lo:hi], v[lo:hi])

@@ -5,8 +5,8 @@ import (
 	"math"
 	"runtime"
 	"slices"
-	"sync"
 
+	"github.com/posteriori-fem/posteriori/internal/parallel"
 	"github.com/posteriori-fem/posteriori/internal/sparse"
 )
 
@@ -29,40 +29,17 @@ func chunks(n int, rowPtr []int32, fn func(c, lo, hi int)) int {
 		return 1
 	}
 	bounds := splitRows(n, nw, rowPtr)
-	var wg sync.WaitGroup
-	for c := range nw {
-		lo, hi := bounds[c], bounds[c+1]
-		wg.Go(func() { fn(c, lo, hi) })
-	}
-	wg.Wait()
+	parallel.Run(nw, func(c int) { fn(c, bounds[c], bounds[c+1]) })
 	return nw
 }
 
-// splitRows returns the bounds b[0] = 0 ≤ b[1] ≤ … ≤ b[nw] = n of nw
-// consecutive ranges of [0, n) with about equal numbers of entries
-// according to the row offsets rowPtr[0..n] (of indices if rowPtr is nil).
+// splitRows returns the bounds of nw consecutive ranges of [0, n)
+// balanced by the row offsets rowPtr[0..n], or by rows if rowPtr is nil.
 func splitRows(n, nw int, rowPtr []int32) []int {
-	b := make([]int, nw+1)
-	b[nw] = n
-	for c := 1; c < nw; c++ {
-		if rowPtr == nil {
-			b[c] = n * c / nw
-			continue
-		}
-		base := int64(rowPtr[0])
-		target := base + (int64(rowPtr[n])-base)*int64(c)/int64(nw)
-		lo, hi := b[c-1], n // the first i ≥ b[c-1] with rowPtr[i] ≥ target
-		for lo < hi {
-			m := int(uint(lo+hi) >> 1)
-			if int64(rowPtr[m]) < target {
-				lo = m + 1
-			} else {
-				hi = m
-			}
-		}
-		b[c] = lo
+	if rowPtr == nil {
+		return parallel.Even(nil, nw, n)
 	}
-	return b
+	return parallel.ByWeight(nil, nw, rowPtr[:n+1])
 }
 
 // fill builds a rows × cols CSR whose row lengths are known: count(lo, hi,
@@ -156,7 +133,7 @@ func mul(a, b *sparse.CSR) (*sparse.CSR, error) {
 					}
 				}
 			}
-			sortShort(row)
+			slices.Sort(row)
 			vals := m.Val[m.RowPtr[i]:m.RowPtr[i+1]]
 			for t, j := range row {
 				vals[t] = acc[j]
@@ -164,23 +141,6 @@ func mul(a, b *sparse.CSR) (*sparse.CSR, error) {
 		}
 	}
 	return fill(a.Rows, b.Cols, a.RowPtr, count, put)
-}
-
-// sortShort sorts a short slice in place: insertion sort for the typical
-// row of a few dozen entries, the standard library's sort beyond.
-func sortShort(s []int32) {
-	if len(s) > 48 {
-		slices.Sort(s)
-		return
-	}
-	for j := 1; j < len(s); j++ {
-		v := s[j]
-		l := j
-		for ; l > 0 && s[l-1] > v; l-- {
-			s[l] = s[l-1]
-		}
-		s[l] = v
-	}
 }
 
 // maxTransposeChunks bounds the number of row ranges of transpose, each of
@@ -199,7 +159,7 @@ func transpose(a *sparse.CSR) *sparse.CSR {
 	nw := max(1, min(runtime.GOMAXPROCS(0), maxTransposeChunks, a.Rows/setupGrain))
 	bounds := splitRows(a.Rows, nw, a.RowPtr)
 	next := make([][]int32, nw) // per range: its count, then its next position, per column
-	parallel(nw, func(c int) {
+	parallel.Run(nw, func(c int) {
 		cnt := make([]int32, a.Cols)
 		for _, j := range a.Col[a.RowPtr[bounds[c]]:a.RowPtr[bounds[c+1]]] {
 			cnt[j]++
@@ -216,7 +176,7 @@ func transpose(a *sparse.CSR) *sparse.CSR {
 		}
 	}
 	t.RowPtr[a.Cols] = pos
-	parallel(nw, func(c int) {
+	parallel.Run(nw, func(c int) {
 		nx := next[c]
 		for i := bounds[c]; i < bounds[c+1]; i++ {
 			for k := a.RowPtr[i]; k < a.RowPtr[i+1]; k++ {
@@ -229,17 +189,6 @@ func transpose(a *sparse.CSR) *sparse.CSR {
 		}
 	})
 	return t
-}
-
-// parallel calls fn(0), …, fn(n-1), each on its own goroutine (fn(0) on
-// the calling one), and waits.
-func parallel(n int, fn func(c int)) {
-	var wg sync.WaitGroup
-	for c := 1; c < n; c++ {
-		wg.Go(func() { fn(c) })
-	}
-	fn(0)
-	wg.Wait()
 }
 
 // symmetrize returns (a + aᵀ)/2 for a square a whose asymmetry is only

@@ -5,6 +5,8 @@ import (
 	"math"
 	"runtime"
 	"sync"
+
+	"github.com/posteriori-fem/posteriori/internal/parallel"
 )
 
 // Operator is a square linear operator y = A x, as CG needs it. *CSR
@@ -492,23 +494,15 @@ func newVecOps(a Operator, n int) *vecOps {
 	v := &vecOps{n: n, sums: make([]float64, nb)}
 	v.m, _ = a.(*CSR)
 	v.nw = max(1, min(runtime.GOMAXPROCS(0), n/(vecParallel/2), nb))
-	v.even, v.byNNZ = make([]int, v.nw+1), make([]int, v.nw+1)
-	for w := range v.nw + 1 {
-		v.even[w] = nb * w / v.nw
-	}
-	copy(v.byNNZ, v.even)
+	v.even = parallel.Even(nil, v.nw, nb)
+	v.byNNZ = v.even
 	if v.m != nil {
-		// The first block b ≥ byNNZ[w-1] at whose first row the entries
-		// reach the share of workers 0..w-1.
-		total := int64(v.m.RowPtr[n])
-		for w := 1; w < v.nw; w++ {
-			target := total * int64(w) / int64(v.nw)
-			b := v.byNNZ[w-1]
-			for b < nb && int64(v.m.RowPtr[b*vecBlock]) < target {
-				b++
-			}
-			v.byNNZ[w] = b
+		// Balanced by the entries of m at the first row of each block.
+		blockPtr := make([]int32, nb+1)
+		for b := range blockPtr {
+			blockPtr[b] = v.m.RowPtr[min(n, b*vecBlock)]
 		}
+		v.byNNZ = parallel.ByWeight(nil, v.nw, blockPtr)
 	}
 	for w := 1; w < v.nw; w++ {
 		v.fns = append(v.fns, func() {

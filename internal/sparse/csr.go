@@ -5,8 +5,8 @@ import (
 	"math"
 	"runtime"
 	"slices"
-	"sort"
-	"sync"
+
+	"github.com/posteriori-fem/posteriori/internal/parallel"
 
 	"gonum.org/v1/gonum/mat"
 )
@@ -116,19 +116,8 @@ func (m *CSR) MulVec(dst, x []float64) {
 		m.mulRows(dst, x, 0, m.Rows)
 		return
 	}
-	total := int64(m.RowPtr[m.Rows])
-	var wg sync.WaitGroup
-	lo := 0
-	for k := 1; k < nw; k++ {
-		target := total * int64(k) / int64(nw)
-		hi := sort.Search(m.Rows, func(i int) bool { return int64(m.RowPtr[i]) >= target })
-		hi = max(hi, lo)
-		l := lo
-		wg.Go(func() { m.mulRows(dst, x, l, hi) })
-		lo = hi
-	}
-	m.mulRows(dst, x, lo, m.Rows)
-	wg.Wait()
+	b := parallel.ByWeight(nil, nw, m.RowPtr[:m.Rows+1])
+	parallel.Run(nw, func(w int) { m.mulRows(dst, x, b[w], b[w+1]) })
 }
 
 // mulRows computes rows lo..hi-1 of dst = m x.

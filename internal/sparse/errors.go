@@ -4,6 +4,8 @@ import (
 	"errors"
 	"fmt"
 	"strings"
+
+	"github.com/posteriori-fem/posteriori/internal/sentinel"
 )
 
 // Sentinel errors. Every error returned by this package wraps one of these,
@@ -19,7 +21,9 @@ var (
 
 	// ErrNotFinite reports a NaN or infinite value where a finite one is
 	// required.
-	ErrNotFinite = errors.New("value not finite")
+	// It is the library's shared value (sentinel.NotFinite), so that
+	// errors.Is(err, fem.ErrNotFinite) holds for a NaN the solver meets.
+	ErrNotFinite = sentinel.NotFinite
 
 	// ErrNotPositive reports a diagonal entry that is zero or negative where
 	// a positive one is required (for example by NewJacobi).
@@ -36,7 +40,8 @@ var (
 	// ErrNotConverged reports that CG reached its iteration limit, or
 	// stagnated, before meeting the tolerance. The CGResult returned with it
 	// describes the last iterate, which is left in x.
-	ErrNotConverged = errors.New("not converged")
+	// It is the library's shared value, fem.ErrNotConverged.
+	ErrNotConverged = sentinel.NotConverged
 
 	// ErrBreakdown reports that CG could not continue: a curvature p·Ap or
 	// a preconditioned inner product r·M⁻¹r was not positive, or a NaN or
