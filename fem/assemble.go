@@ -7,13 +7,7 @@ import (
 
 	"github.com/posteriori-fem/posteriori/internal/parallel"
 	"github.com/posteriori-fem/posteriori/internal/quadrature"
-	"github.com/posteriori-fem/posteriori/internal/sparse"
 )
-
-// Matrix is the sparse matrix of an assembled system: compressed sparse
-// rows with int32 indices (row i holds Col[RowPtr[i]:RowPtr[i+1]], ascending,
-// and Val likewise). It implements gonum's mat.Matrix for interoperation.
-type Matrix = sparse.CSR
 
 // System is an assembled linear system A u = B of a Problem on a Space.
 //

@@ -106,16 +106,16 @@ func (sys *System) Solve(s SolveSettings) (*Function, SolveStats, error) {
 			// (internal/amg's tests: 17→13, 19→16, 19→15, 23→19).
 			st.Theta = 0.1
 		}
-		pre, err = amg.New(sys.A, st)
+		pre, err = amg.New(sys.A.csr(), st)
 	case Diagonal:
-		pre, err = sparse.NewJacobi(sys.A)
+		pre, err = sparse.NewJacobi(sys.A.csr())
 	default:
 		err = fmt.Errorf("preconditioner %d: %w", s.Preconditioner, ErrArgument)
 	}
 	if err != nil {
 		return nil, SolveStats{}, fmt.Errorf("fem: Solve: %w", err)
 	}
-	res, err := sparse.CG(sys.A, sys.B, x, pre, sparse.CGSettings{Tol: s.Tol, MaxIter: s.MaxIter, EnergyTol: s.EnergyTol})
+	res, err := sparse.CG(sys.A.csr(), sys.B, x, pre, sparse.CGSettings{Tol: s.Tol, MaxIter: s.MaxIter, EnergyTol: s.EnergyTol})
 	stats := SolveStats{Iterations: res.Iterations, Residual: res.Residual, EnergyError: res.EnergyError, AtFloor: res.AtFloor, Floor: res.Floor}
 	if err != nil {
 		return nil, stats, fmt.Errorf("fem: Solve: %w", err)

@@ -43,11 +43,11 @@ func TestIterationsBounded(t *testing.T) {
 				fmt.Fprintf(&table, "\n%-22s", f)
 				for _, r := range refinements {
 					sys := assemble(t, d, familyMesh(t, f, r), deg)
-					h, err := amg.New(sys.A, amg.Settings{})
+					h, err := amg.New(csr(sys.A), amg.Settings{})
 					if err != nil {
 						t.Fatal(err)
 					}
-					_, res := solve(t, sys.A, sys.B, h, 1e-8)
+					_, res := solve(t, csr(sys.A), sys.B, h, 1e-8)
 					grid, op := h.Complexity()
 					fmt.Fprintf(&table, "  n=%-8d it=%-3d (levels %d, complexity %.2f/%.2f)", sys.A.Rows, res.Iterations, h.Levels(), grid, op)
 					if res.Iterations > limit {
@@ -90,7 +90,7 @@ func TestSymmetric(t *testing.T) {
 		if c.r > 0 && sys.A.Rows <= amg.ColourRows {
 			t.Fatalf("%v r = %d: only %d rows", c.f, c.r, sys.A.Rows)
 		}
-		h, err := amg.New(sys.A, c.s)
+		h, err := amg.New(csr(sys.A), c.s)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -127,20 +127,20 @@ func TestAgainstGonum(t *testing.T) {
 			t.Fatal(err)
 		}
 		for _, s := range []amg.Settings{{CoarseSize: 40}, {CoarseSize: 40, Smoother: amg.Chebyshev, Smoothing: 2}} {
-			h, err := amg.New(sys.A, s)
+			h, err := amg.New(csr(sys.A), s)
 			if err != nil {
 				t.Fatal(err)
 			}
 			if h.Levels() < 3 {
 				t.Fatalf("P%d: %d levels, want ≥ 3", deg, h.Levels())
 			}
-			x, _ := solve(t, sys.A, sys.B, h, 1e-14)
+			x, _ := solve(t, csr(sys.A), sys.B, h, 1e-14)
 			if e := maxRelDiff(x, want.RawVector().Data); e > 1e-10 {
 				t.Errorf("P%d %+v: CG with AMG differs from gonum by %.3g (max norm, relative), want ≤ 1e-10", deg, s, e)
 			}
 		}
 		// A single level: Apply is the dense Cholesky solve.
-		h, err := amg.New(sys.A, amg.Settings{CoarseSize: sys.A.Rows})
+		h, err := amg.New(csr(sys.A), amg.Settings{CoarseSize: sys.A.Rows})
 		if err != nil {
 			t.Fatal(err)
 		}

@@ -184,3 +184,7 @@ func familyMesh(tb testing.TB, f family, r int) *mesh.Mesh {
 	}
 	return m
 }
+
+// csr returns fem's assembled matrix as the sparse package's matrix: the
+// two types have the same fields.
+func csr(m *fem.Matrix) *sparse.CSR { return (*sparse.CSR)(m) }

@@ -20,7 +20,7 @@ import (
 func TestAggregateFEM(t *testing.T) {
 	for _, deg := range []int{1, 2} {
 		sys := assemble(t, lshape, familyMesh(t, family{lshape, true, deg}, 0), deg)
-		a := sys.A
+		a := csr(sys.A)
 		agg, nagg := amg.Aggregates(a, amg.DefaultTheta)
 		dir := map[int32]bool{}
 		for _, d := range sys.Dirichlet {
@@ -77,7 +77,7 @@ func TestProlongatorConstants(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	a := sys.A
+	a := csr(sys.A)
 	pr, err := amg.SmoothedProlongator(a, amg.DefaultTheta)
 	if err != nil {
 		t.Fatal(err)
@@ -94,7 +94,7 @@ func TestProlongatorConstants(t *testing.T) {
 	}
 	// Dirichlet problem: empty rows at the Dirichlet nodes.
 	dsys := assemble(t, kellogg, baseMesh(t, kellogg, 20), 2)
-	h, err := amg.New(dsys.A, amg.Settings{})
+	h, err := amg.New(csr(dsys.A), amg.Settings{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -111,16 +111,16 @@ func TestProlongatorConstants(t *testing.T) {
 // converges.
 func TestMaxLevels(t *testing.T) {
 	sys := assemble(t, lshape, familyMesh(t, family{lshape, false, 1}, 0), 1)
-	h, err := amg.New(sys.A, amg.Settings{MaxLevels: 1})
+	h, err := amg.New(csr(sys.A), amg.Settings{MaxLevels: 1})
 	if err != nil {
 		t.Fatal(err)
 	}
 	if h.Levels() != 1 || amg.LevelSolved(h, 0) {
 		t.Fatalf("levels = %d, solved = %v", h.Levels(), amg.LevelSolved(h, 0))
 	}
-	_, res := solve(t, sys.A, sys.B, h, 1e-8)
-	full, _ := amg.New(sys.A, amg.Settings{})
-	_, resFull := solve(t, sys.A, sys.B, full, 1e-8)
+	_, res := solve(t, csr(sys.A), sys.B, h, 1e-8)
+	full, _ := amg.New(csr(sys.A), amg.Settings{})
+	_, resFull := solve(t, csr(sys.A), sys.B, full, 1e-8)
 	t.Logf("symmetric Gauss–Seidel alone: %d iterations, V-cycle: %d", res.Iterations, resFull.Iterations)
 	if res.Iterations <= resFull.Iterations {
 		t.Errorf("one level converges as fast as %d levels", full.Levels())
@@ -147,13 +147,13 @@ func TestDeterministic(t *testing.T) {
 		var refLevels []*sparse.CSR
 		for _, procs := range []int{1, 2, 3} {
 			runtime.GOMAXPROCS(procs)
-			h, err := amg.New(sys.A, s)
+			h, err := amg.New(csr(sys.A), s)
 			if err != nil {
 				t.Fatal(err)
 			}
 			x := make([]float64, sys.A.Rows)
 			h.Apply(x, r0)
-			y, _ := solve(t, sys.A, sys.B, h, 1e-8)
+			y, _ := solve(t, csr(sys.A), sys.B, h, 1e-8)
 			x = append(x, y...)
 			if ref == nil {
 				ref = x
@@ -198,7 +198,7 @@ func TestNoAllocs(t *testing.T) {
 			t.Fatalf("%d rows, want > %d", sys.A.Rows, amg.ColourRows)
 		}
 		for _, s := range []amg.Settings{{}, {Smoother: amg.Chebyshev, Smoothing: 3}} {
-			h, err := amg.New(sys.A, s)
+			h, err := amg.New(csr(sys.A), s)
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -222,14 +222,14 @@ func TestPureNeumann(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	h, err := amg.New(sys.A, amg.Settings{})
+	h, err := amg.New(csr(sys.A), amg.Settings{})
 	if err != nil {
 		t.Fatal(err)
 	}
 	if !amg.LevelSolved(h, h.Levels()-1) || amg.DroppedPivots(h) != 1 {
 		t.Errorf("coarsest level: solved %v, %d dropped pivots, want 1", amg.LevelSolved(h, h.Levels()-1), amg.DroppedPivots(h))
 	}
-	_, res := solve(t, sys.A, sys.B, h, 1e-8)
+	_, res := solve(t, csr(sys.A), sys.B, h, 1e-8)
 	t.Logf("pure Neumann, n = %d: %d iterations", sys.A.Rows, res.Iterations)
 	if res.Iterations > 25 {
 		t.Errorf("%d iterations, want ≤ 25", res.Iterations)
@@ -253,7 +253,7 @@ func maxRelDiff(x, y []float64) float64 {
 func TestLevelsSymmetric(t *testing.T) {
 	for _, deg := range []int{1, 2} {
 		sys := assemble(t, kellogg, familyMesh(t, family{kellogg, true, deg}, 0), deg)
-		h, err := amg.New(sys.A, amg.Settings{})
+		h, err := amg.New(csr(sys.A), amg.Settings{})
 		if err != nil {
 			t.Fatal(err)
 		}
