@@ -29,6 +29,26 @@ import (
 // cost is that of copying m's arrays and one scan of its edges and
 // triangles, plus time linear in the number of triangles refined: the
 // topology of the untouched part is not rebuilt.
+//
+// Newest-vertex bisection produces only finitely many similarity classes
+// of triangles from each initial one (at most four per triangle), so the
+// smallest angle stays bounded below; and the closure adds at most a
+// constant times the triangles marked over any sequence of refinements,
+// when the initial refinement edges are labelled so that the matching
+// condition of Binev, Dahmen and DeVore holds (Stevenson's completion
+// result). TestRefineSimilarityClasses and TestRefineClosureLocal check
+// both on this implementation.
+//
+// References:
+//   - E. G. Sewell, Automatic generation of triangulations for piecewise
+//     polynomial approximation, PhD thesis, Purdue University, 1972.
+//   - W. F. Mitchell, Adaptive refinement for arbitrary finite-element
+//     spaces with hierarchical bases, J. Comput. Appl. Math. 36 (1991)
+//     65–78.
+//   - P. Binev, W. Dahmen and R. DeVore, Adaptive finite element methods
+//     with convergence rates, Numer. Math. 97 (2004) 219–268.
+//   - R. Stevenson, The completion of locally refined simplicial partitions
+//     created by bisection, Math. Comp. 77 (2008) 227–241.
 func (m *Mesh) Refine(marked []bool) (*Mesh, *Parents, error) {
 	if err := checkShape(m, "Refine"); err != nil {
 		return nil, nil, err

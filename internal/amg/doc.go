@@ -167,14 +167,12 @@
 //
 //	go test -run XXX -bench 'Solve$' -benchtime 3x ./internal/amg
 //
-// (With the sequential Gauss–Seidel of the previous version, measured the
-// same way, the first two rows were 6.8, 16, 144 and 12.4, 13, 191.) New
-// costs 58 products (P1) or 51 (P2) at 10⁶ unknowns there. On the matrices
+// New costs 58 products (P1) or 51 (P2) at 10⁶ unknowns there. On the matrices
 // of the adaptive L-shape loop, whose DOF numbering puts almost all
 // entries far from the diagonal, New plus the solve cost 175 products for
 // P1 with 870860 unknowns (New 60, V-cycle 4.8, 17 iterations) and 159
 // for P2 with 895481 unknowns (θ = 0.1; New 56, V-cycle 4.1, 18
-// iterations), against 218 and 198 with the previous version:
+// iterations):
 //
 //	go test -run XXX -bench SolveAdaptive -benchtime 3x ./internal/amg
 //
