@@ -7,7 +7,6 @@ import (
 
 	"github.com/posteriori-fem/posteriori/internal/amg"
 	"github.com/posteriori-fem/posteriori/internal/sparse"
-	"github.com/posteriori-fem/posteriori/mesh"
 )
 
 // BenchmarkSolve measures, for the P1 and P2 Laplacian on a uniform mesh of
