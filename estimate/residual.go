@@ -349,11 +349,5 @@ func edgeTerm(e1, e2 *fem.Evaluator, m *mesh.Mesh, p *fem.Problem, line *quadrat
 // centroid of the loaded triangle.
 func weight(ev *fem.Evaluator, p *fem.Problem) float64 {
 	x, y := ev.Point([3]float64{1. / 3, 1. / 3, 1. / 3})
-	return minEig(p.Diffusion(x, y, ev.Region()))
-}
-
-// minEig returns the smallest eigenvalue of t.
-func minEig(t fem.Tensor) float64 {
-	h := 0.5 * (t.XX - t.YY)
-	return 0.5*(t.XX+t.YY) - math.Sqrt(h*h+t.XY*t.XY)
+	return p.Diffusion(x, y, ev.Region()).MinEig()
 }
