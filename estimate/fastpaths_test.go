@@ -125,20 +125,22 @@ func fastCases(t *testing.T) []fastCase {
 // general runs the general path of est (the reference for the fast paths).
 func general(t *testing.T, est Estimator, u *fem.Function, p *fem.Problem) *Indicators {
 	t.Helper()
-	dst, err := prepare("test", nil, u, p)
-	if err != nil {
-		t.Fatal(err)
-	}
-	switch e := est.(type) {
-	case Residual:
-		err = e.general(dst, u, p)
-	case Recovery:
-		err = e.general(dst, u, p)
-	}
+	dst, err := estimateBy("test", nil, u, p, generalPath(est))
 	if err != nil {
 		t.Fatal(err)
 	}
 	return dst
+}
+
+// generalPath returns the general path of est.
+func generalPath(est Estimator) path {
+	switch e := est.(type) {
+	case Residual:
+		return e.general
+	case Recovery:
+		return e.general
+	}
+	panic(fmt.Sprintf("no general path for %T", est))
 }
 
 // agree reports the triangle whose indicators differ most, relative, if
@@ -246,19 +248,7 @@ func TestFastPathsErrors(t *testing.T) {
 			{F: bad, Dirichlet: dir},
 			{Neumann: map[int32]fem.Func{mesh.SideBottom: bad}, Dirichlet: dir},
 		} {
-			_, errGeneral := func() (*Indicators, error) {
-				dst, err := prepare("test", nil, u, p)
-				if err != nil {
-					return nil, err
-				}
-				switch e := est.(type) {
-				case Residual:
-					err = e.general(dst, u, p)
-				case Recovery:
-					err = e.general(dst, u, p)
-				}
-				return dst, err
-			}()
+			_, errGeneral := estimateBy("test", nil, u, p, generalPath(est))
 			in, err := est.Estimate(nil, u, p)
 			if (errGeneral == nil) != (err == nil) {
 				t.Fatalf("%T: error %v, general path %v", est, err, errGeneral)

@@ -73,23 +73,19 @@ var _ Estimator = Residual{}
 //   - otherwise, that is for AFunc (general): every term by quadrature, a and
 //     ∇u_h evaluated at each point.
 func (r Residual) Estimate(dst *Indicators, u *fem.Function, p *fem.Problem) (*Indicators, error) {
-	dst, err := prepare("Residual", dst, u, p)
-	if err != nil {
-		return nil, err
-	}
+	return estimateBy("Residual", dst, u, p, r.dispatch)
+}
+
+// dispatch runs the path of Estimate that serves u and p.
+func (r Residual) dispatch(dst *Indicators, u *fem.Function, p *fem.Problem) error {
 	pc := p.PiecewiseConstant() && !r.plainJumps
 	switch {
 	case pc && u.Space.Degree == 1:
-		err = residualP1(dst, u, p)
+		return residualP1(dst, u, p)
 	case pc && u.Space.Degree == 2:
-		err = residualP2(dst, u, p)
-	default:
-		err = r.general(dst, u, p)
+		return residualP2(dst, u, p)
 	}
-	if err != nil {
-		return nil, err
-	}
-	return dst, nil
+	return r.general(dst, u, p)
 }
 
 // general is Estimate for every input, after prepare: the path of AFunc,
