@@ -132,27 +132,23 @@ func sizes(r *rand.Rand) []int {
 
 func TestDorflerReference(t *testing.T) {
 	t.Parallel()
-	for _, d := range dists {
-		t.Run(d.name, func(t *testing.T) {
-			t.Parallel()
-			r := rand.New(rand.NewPCG(1, 1))
-			for _, n := range sizes(r) {
-				eta2 := d.draw(r, n)
-				for _, theta := range thetas {
-					want := refDorfler(eta2, theta)
-					for _, buckets := range []bool{false, true} { // both paths, whatever n
-						got, err := Dorfler{Theta: theta}.mark(nil, eta2, buckets)
-						if err != nil {
-							t.Fatalf("n=%d θ=%g buckets=%v: %v", n, theta, buckets, err)
-						}
-						if !slices.Equal(got, want) {
-							t.Errorf("n=%d θ=%g buckets=%v: marks %d triangles, the reference %d", n, theta, buckets, count(got), count(want))
-						}
+	eachDist(t, func(t *testing.T, d dist, r *rand.Rand) {
+		for _, n := range sizes(r) {
+			eta2 := d.draw(r, n)
+			for _, theta := range thetas {
+				want := refDorfler(eta2, theta)
+				for _, buckets := range []bool{false, true} { // both paths, whatever n
+					got, err := Dorfler{Theta: theta}.mark(nil, eta2, buckets)
+					if err != nil {
+						t.Fatalf("n=%d θ=%g buckets=%v: %v", n, theta, buckets, err)
+					}
+					if !slices.Equal(got, want) {
+						t.Errorf("n=%d θ=%g buckets=%v: marks %d triangles, the reference %d", n, theta, buckets, count(got), count(want))
 					}
 				}
 			}
-		})
-	}
+		}
+	})
 }
 
 // TestDorflerMinimal checks minimal cardinality against all subsets, for
@@ -160,21 +156,17 @@ func TestDorflerReference(t *testing.T) {
 // under a cardinality constraint is common practice; this confirms it.)
 func TestDorflerMinimal(t *testing.T) {
 	t.Parallel()
-	for _, d := range dists {
-		t.Run(d.name, func(t *testing.T) {
-			t.Parallel()
-			r := rand.New(rand.NewPCG(1, 1))
-			for n := 1; n <= 10; n++ {
-				for range 3 {
-					eta2 := d.draw(r, n)
-					sums := subsetSums(eta2)
-					for _, theta := range thetas {
-						checkMinimal(t, eta2, theta, sums)
-					}
+	eachDist(t, func(t *testing.T, d dist, r *rand.Rand) {
+		for n := 1; n <= 10; n++ {
+			for range 3 {
+				eta2 := d.draw(r, n)
+				sums := subsetSums(eta2)
+				for _, theta := range thetas {
+					checkMinimal(t, eta2, theta, sums)
 				}
 			}
-		})
-	}
+		}
+	})
 }
 
 // subsetSums returns the exact sum of eta2 over every subset, by bit mask.
@@ -331,27 +323,23 @@ func TestFraction(t *testing.T) {
 	if got, _ := (Fraction{F: 0.07}).Mark(nil, make([]float64, 100)); count(got) != 7 {
 		t.Errorf("F=0.07 N=100 (product 7.000000000000001) marks %d, want 7", count(got))
 	}
-	for _, d := range dists {
-		t.Run(d.name, func(t *testing.T) {
-			t.Parallel()
-			r := rand.New(rand.NewPCG(1, 1))
-			for _, n := range sizes(r) {
-				eta2 := d.draw(r, n)
-				order := refOrder(eta2)
-				for _, pct := range []int{1, 7, 10, 25, 30, 50, 99, 100} {
-					f := float64(pct) / 100
-					got, err := Fraction{F: f}.Mark(nil, eta2)
-					if err != nil {
-						t.Fatal(err)
-					}
-					k := (pct*n + 99) / 100 // ⌈pct·n/100⌉ in integers
-					if want := maskOf(n, order[:k]); !slices.Equal(got, want) {
-						t.Errorf("n=%d F=%g: marked %d, want the first %d", n, f, count(got), k)
-					}
+	eachDist(t, func(t *testing.T, d dist, r *rand.Rand) {
+		for _, n := range sizes(r) {
+			eta2 := d.draw(r, n)
+			order := refOrder(eta2)
+			for _, pct := range []int{1, 7, 10, 25, 30, 50, 99, 100} {
+				f := float64(pct) / 100
+				got, err := Fraction{F: f}.Mark(nil, eta2)
+				if err != nil {
+					t.Fatal(err)
+				}
+				k := (pct*n + 99) / 100 // ⌈pct·n/100⌉ in integers
+				if want := maskOf(n, order[:k]); !slices.Equal(got, want) {
+					t.Errorf("n=%d F=%g: marked %d, want the first %d", n, f, count(got), k)
 				}
 			}
-		})
-	}
+		}
+	})
 }
 
 // errCase is a marker and input that must fail with want; triangle is
@@ -567,5 +555,17 @@ func TestDorflerLarge(t *testing.T) {
 		if !errors.As(err, &ie) || ie.Triangle != 150000 {
 			t.Errorf("GOMAXPROCS=%d: %v, want ErrIndicator at 150000", procs, err)
 		}
+	}
+}
+
+// eachDist runs f as a parallel subtest for each distribution of dists,
+// with a generator seeded alike for each.
+func eachDist(t *testing.T, f func(t *testing.T, d dist, r *rand.Rand)) {
+	t.Helper()
+	for _, d := range dists {
+		t.Run(d.name, func(t *testing.T) {
+			t.Parallel()
+			f(t, d, rand.New(rand.NewPCG(1, 1)))
+		})
 	}
 }

@@ -78,7 +78,7 @@ func averagingP1(dst *Indicators, u *fem.Function, p *fem.Problem) error {
 			return err
 		}
 	}
-	co := newCoeffs(p)
+	co := fem.NewRegionTable(p)
 	x, tri, uu, region := m.X, m.Tri, u.U, m.Region
 	owners := max(1, min(runtime.GOMAXPROCS(0), 8, nv/4096))
 	// acc: 4 per vertex (Σ|T|, Σ|T|∂x u_h, Σ|T|∂y u_h, and the region of the
@@ -136,11 +136,11 @@ func averagingP1(dst *Indicators, u *fem.Function, p *fem.Problem) error {
 			area, gx, gy := tg[3*k], tg[3*k+1], tg[3*k+2]
 			var t fem.Tensor
 			var r int32
-			if several || !co.uniform {
+			if several || !co.Uniform() {
 				r = region[k]
-				t, _ = co.at(r)
+				t = co.At(r)
 			} else {
-				t = co.t[0]
+				t = co.At(0)
 			}
 			var sx, sy, sum float64
 			for i := range 3 {

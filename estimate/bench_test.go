@@ -25,18 +25,7 @@ func BenchmarkEstimate(b *testing.B) {
 			}
 			s, _ := fem.NewSpace(m, deg)
 			u, _ := fem.Interpolate(s, func(x, y float64) float64 { return math.Sin(3*x) * math.Cos(2*y) })
-			for _, tc := range estimators {
-				b.Run(tc.name+"/P"+strconv.Itoa(deg)+"/n="+strconv.Itoa(n), func(b *testing.B) {
-					var in *Indicators
-					for b.Loop() {
-						var err error
-						if in, err = tc.est.Estimate(in, u, p); err != nil {
-							b.Fatal(err)
-						}
-					}
-					b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/float64(m.NumTriangles()), "ns/triangle")
-				})
-			}
+			benchEstimators(b, estimators, "/P"+strconv.Itoa(deg)+"/n="+strconv.Itoa(n), u, p)
 		}
 	}
 }
@@ -65,17 +54,27 @@ func BenchmarkEstimateAdaptive(b *testing.B) {
 		}
 		s, _ := fem.NewSpace(m, 1)
 		u, _ := fem.Interpolate(s, ex.U)
-		for _, tc := range estimators[:2] {
-			b.Run(tc.name+"/n="+strconv.Itoa(n), func(b *testing.B) {
-				var in *Indicators
-				for b.Loop() {
-					var err error
-					if in, err = tc.est.Estimate(in, u, p); err != nil {
-						b.Fatal(err)
-					}
+		benchEstimators(b, estimators[:2], "/n="+strconv.Itoa(n), u, p)
+	}
+}
+
+// benchEstimators runs one sub-benchmark per estimator of list, named by
+// the estimator's name and suffix, and reports the time per triangle.
+func benchEstimators(b *testing.B, list []struct {
+	name string
+	est  Estimator
+}, suffix string, u *fem.Function, p *fem.Problem) {
+	nt := float64(u.Space.Mesh.NumTriangles())
+	for _, tc := range list {
+		b.Run(tc.name+suffix, func(b *testing.B) {
+			var in *Indicators
+			for b.Loop() {
+				var err error
+				if in, err = tc.est.Estimate(in, u, p); err != nil {
+					b.Fatal(err)
 				}
-				b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/float64(m.NumTriangles()), "ns/triangle")
-			})
-		}
+			}
+			b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/nt, "ns/triangle")
+		})
 	}
 }

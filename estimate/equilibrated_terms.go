@@ -59,7 +59,7 @@ func (eq *equilibration) indicators(dst *Indicators) (EquilibratedParts, error) 
 		parts.Residual += v[3] * v[3]
 		parts.Dirichlet += v[4]
 		rho2 += v[5]
-		amin = min(amin, minEig(eq.diff[t]))
+		amin = min(amin, eq.diff[t].MinEig())
 	}
 	parts.Flux = math.Sqrt(parts.Flux)
 	parts.Oscillation = math.Sqrt(parts.Oscillation)
@@ -167,7 +167,7 @@ func (tw *termWork) triangle(t int, v []float64) error {
 	}
 	f := eq.fq[t*nq : (t+1)*nq]
 	h := m.Diameter(t)
-	at := minEig(d)
+	at := d.MinEig()
 	mt := h / (math.Pi * math.Sqrt(at))
 	if p.C > 0 {
 		mt = min(mt, 1/math.Sqrt(p.C))

@@ -145,14 +145,7 @@ func boundRun(t *testing.T, bc boundCase, deg int, adaptive bool, steps int, tol
 	var eff []float64
 	for step := range steps {
 		u := solveTol(t, m, deg, p, tol)
-		_, e, err := TrueError(nil, u, ex, p)
-		if err != nil {
-			t.Fatal(err)
-		}
-		in, parts, err := Equilibrated{}.EstimateParts(nil, u, p)
-		if err != nil {
-			t.Fatal(err)
-		}
+		e, in, parts := errorAndParts(t, u, ex, p)
 		eta := in.Total()
 		if math.Abs(eta-parts.Total) > 1e-12*eta {
 			t.Errorf("%s P%d step %d: Σ Eta2 gives %g, the parts %g", bc.name, deg, step, eta, parts.Total)
@@ -224,14 +217,7 @@ func TestEquilibratedInexact(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			_, e, err := TrueError(nil, u, ex, p)
-			if err != nil {
-				t.Fatal(err)
-			}
-			in, parts, err := Equilibrated{}.EstimateParts(nil, u, p)
-			if err != nil {
-				t.Fatal(err)
-			}
+			e, in, parts := errorAndParts(t, u, ex, p)
 			if in.Total() < e {
 				t.Errorf("%s P%d: η = %.6g < error %.6g (%+v)", bc.name, deg, in.Total(), e, parts)
 			}
@@ -377,4 +363,19 @@ func TestEquilibratedBadInput(t *testing.T) {
 	if err != nil || !(parts.Algebraic > 0) {
 		t.Errorf("with a Friedrichs constant: %v, %+v", err, parts)
 	}
+}
+
+// errorAndParts returns the true energy error of u and the indicators and
+// parts of the equilibrated estimator.
+func errorAndParts(t *testing.T, u *fem.Function, ex fem.Exact, p *fem.Problem) (float64, *Indicators, EquilibratedParts) {
+	t.Helper()
+	_, e, err := TrueError(nil, u, ex, p)
+	if err != nil {
+		t.Fatal(err)
+	}
+	in, parts, err := Equilibrated{}.EstimateParts(nil, u, p)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return e, in, parts
 }

@@ -79,13 +79,13 @@ func fastCases(t *testing.T) []fastCase {
 	aniso := map[int32]fem.Tensor{
 		1: {XX: 3, XY: 1, YY: 2}, 2: {XX: 1e-2, XY: 0, YY: 1}, 3: {XX: 200, XY: -50, YY: 40}, 4: fem.Scalar(0.5),
 	}
-	// Regions 0 and 5000 with the same a: two sides per interface vertex,
-	// and a region range too wide for the table of coeffs.
+	// Regions 0 and 70000 with the same a: two sides per interface vertex,
+	// and a region range too wide for fem.RegionTable's table (1<<16).
 	split := func(m *mesh.Mesh) *mesh.Mesh {
 		region := make([]int32, m.NumTriangles())
 		for k := range region {
 			if x, _ := m.Vertex(int(m.Tri[3*k])); x > 0.5 {
-				region[k] = 5000
+				region[k] = 70000
 			}
 		}
 		ab, tag := m.BoundaryEdges()
@@ -114,10 +114,10 @@ func fastCases(t *testing.T) []fastCase {
 		{"anisotropic contrast, c > 0", noisy(t, kquads, 1, r), &fem.Problem{A: aniso, C: 1,
 			Neumann: map[int32]fem.Func{mesh.SideRight: g, mesh.SideTop: g}}},
 		{"two tags, one a, wide range", noisy(t, wide, 1, r), &fem.Problem{
-			A:         map[int32]fem.Tensor{0: fem.Scalar(1), 5000: fem.Scalar(1)},
+			A:         map[int32]fem.Tensor{0: fem.Scalar(1), 70000: fem.Scalar(1)},
 			Dirichlet: map[int32]fem.Func{mesh.SideBottom: nil}, Neumann: map[int32]fem.Func{mesh.SideTop: g}}},
 		{"two tags, contrast, wide range, f", noisy(t, wide, 1, r), &fem.Problem{F: f,
-			A:         map[int32]fem.Tensor{0: fem.Scalar(1), 5000: {XX: 30, XY: 3, YY: 10}},
+			A:         map[int32]fem.Tensor{0: fem.Scalar(1), 70000: {XX: 30, XY: 3, YY: 10}},
 			Dirichlet: map[int32]fem.Func{mesh.SideBottom: nil, mesh.SideRight: nil}}},
 	}
 }
@@ -125,20 +125,22 @@ func fastCases(t *testing.T) []fastCase {
 // general runs the general path of est (the reference for the fast paths).
 func general(t *testing.T, est Estimator, u *fem.Function, p *fem.Problem) *Indicators {
 	t.Helper()
-	dst, err := prepare("test", nil, u, p)
-	if err != nil {
-		t.Fatal(err)
-	}
-	switch e := est.(type) {
-	case Residual:
-		err = e.general(dst, u, p)
-	case Recovery:
-		err = e.general(dst, u, p)
-	}
+	dst, err := estimateBy("test", nil, u, p, generalPath(est))
 	if err != nil {
 		t.Fatal(err)
 	}
 	return dst
+}
+
+// generalPath returns the general path of est.
+func generalPath(est Estimator) path {
+	switch e := est.(type) {
+	case Residual:
+		return e.general
+	case Recovery:
+		return e.general
+	}
+	panic(fmt.Sprintf("no general path for %T", est))
 }
 
 // agree reports the triangle whose indicators differ most, relative, if
@@ -246,19 +248,7 @@ func TestFastPathsErrors(t *testing.T) {
 			{F: bad, Dirichlet: dir},
 			{Neumann: map[int32]fem.Func{mesh.SideBottom: bad}, Dirichlet: dir},
 		} {
-			_, errGeneral := func() (*Indicators, error) {
-				dst, err := prepare("test", nil, u, p)
-				if err != nil {
-					return nil, err
-				}
-				switch e := est.(type) {
-				case Residual:
-					err = e.general(dst, u, p)
-				case Recovery:
-					err = e.general(dst, u, p)
-				}
-				return dst, err
-			}()
+			_, errGeneral := estimateBy("test", nil, u, p, generalPath(est))
 			in, err := est.Estimate(nil, u, p)
 			if (errGeneral == nil) != (err == nil) {
 				t.Fatalf("%T: error %v, general path %v", est, err, errGeneral)

@@ -77,6 +77,23 @@ func resize(dst []float64, n int) []float64 {
 	return dst[:n]
 }
 
+// path is one implementation of an estimator, run on arguments that
+// prepare has checked: it fills dst for u and p.
+type path func(dst *Indicators, u *fem.Function, p *fem.Problem) error
+
+// estimateBy is the body of the Estimate methods: prepare under the
+// estimator's name, then run.
+func estimateBy(name string, dst *Indicators, u *fem.Function, p *fem.Problem, run path) (*Indicators, error) {
+	dst, err := prepare(name, dst, u, p)
+	if err != nil {
+		return nil, err
+	}
+	if err := run(dst, u, p); err != nil {
+		return nil, err
+	}
+	return dst, nil
+}
+
 // prepare checks the arguments and sizes dst for u's mesh.
 func prepare(name string, dst *Indicators, u *fem.Function, p *fem.Problem) (*Indicators, error) {
 	if u == nil || u.Space == nil || p == nil {

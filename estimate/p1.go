@@ -18,66 +18,11 @@ import (
 //
 //	∇u_h = J⁻ᵀ (u_1 − u_0, u_2 − u_0),  J = [x_1 − x_0, x_2 − x_0],
 //
-// the diffusion of each region is resolved once, and every integral whose
+// the diffusion of each region is resolved once (fem.RegionTable), and every integral whose
 // integrand is a polynomial is taken in closed form. Only f and g_N are
 // integrated by quadrature, with the rules of the general path. The results
 // agree with the general path to rounding (its gradient Σ u_i ∇λ_i loses
 // more to cancellation than the differences above).
-
-// maxRegionSpan bounds the range of region tags for which the diffusion is
-// kept in a table indexed by region; wider ranges look the map up.
-const maxRegionSpan = 4096
-
-// coeffs holds the diffusion a of each region of a problem with
-// piecewise-constant diffusion and its smallest eigenvalue a_T.
-type coeffs struct {
-	uniform bool  // one tensor for all regions (p.A nil)
-	lo      int64 // region of t[0]
-	t       []fem.Tensor
-	w       []float64
-	p       *fem.Problem
-}
-
-func newCoeffs(p *fem.Problem) *coeffs {
-	c := &coeffs{p: p}
-	if p.A == nil {
-		t := p.Diffusion(0, 0, 0)
-		c.uniform, c.t, c.w = true, []fem.Tensor{t}, []float64{minEig(t)}
-		return c
-	}
-	lo, hi, first := int64(0), int64(0), true
-	for r := range p.A {
-		if first || int64(r) < lo {
-			lo = int64(r)
-		}
-		if first || int64(r) > hi {
-			hi = int64(r)
-		}
-		first = false
-	}
-	if first || hi-lo >= maxRegionSpan {
-		return c // no table: at looks the map up
-	}
-	c.lo = lo
-	c.t = make([]fem.Tensor, hi-lo+1)
-	c.w = make([]float64, hi-lo+1)
-	for r, t := range p.A {
-		c.t[int64(r)-lo], c.w[int64(r)-lo] = t, minEig(t)
-	}
-	return c
-}
-
-// at returns the diffusion of region r and its smallest eigenvalue.
-func (c *coeffs) at(r int32) (fem.Tensor, float64) {
-	if c.uniform {
-		return c.t[0], c.w[0]
-	}
-	if i := int64(r) - c.lo; uint64(i) < uint64(len(c.t)) {
-		return c.t[i], c.w[i]
-	}
-	t := c.p.Diffusion(0, 0, r)
-	return t, minEig(t)
-}
 
 // Kinds of boundary edge, by tag.
 const (

@@ -159,20 +159,15 @@ func (r Recovery) Estimate(dst *Indicators, u *fem.Function, p *fem.Problem) (*I
 	if r.Method != Averaging && r.Method != SPR {
 		return nil, fmt.Errorf("estimate: Recovery: Method %d is none of Averaging (%d) and SPR (%d): %w", int(r.Method), int(Averaging), int(SPR), ErrArgument)
 	}
-	dst, err := prepare("Recovery", dst, u, p)
-	if err != nil {
-		return nil, err
+	return estimateBy("Recovery", dst, u, p, r.dispatch)
+}
+
+// dispatch runs the path of Estimate that serves u and p.
+func (r Recovery) dispatch(dst *Indicators, u *fem.Function, p *fem.Problem) error {
+	if r.Method == Averaging && u.Space.Degree == 1 && p.PiecewiseConstant() {
+		return averagingP1(dst, u, p)
 	}
-	switch {
-	case r.Method == Averaging && u.Space.Degree == 1 && p.PiecewiseConstant():
-		err = averagingP1(dst, u, p)
-	default:
-		err = r.general(dst, u, p)
-	}
-	if err != nil {
-		return nil, err
-	}
-	return dst, nil
+	return r.general(dst, u, p)
 }
 
 // general is Estimate for every input, after prepare: the path of SPR, P2

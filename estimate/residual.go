@@ -73,23 +73,19 @@ var _ Estimator = Residual{}
 //   - otherwise, that is for AFunc (general): every term by quadrature, a and
 //     ∇u_h evaluated at each point.
 func (r Residual) Estimate(dst *Indicators, u *fem.Function, p *fem.Problem) (*Indicators, error) {
-	dst, err := prepare("Residual", dst, u, p)
-	if err != nil {
-		return nil, err
-	}
+	return estimateBy("Residual", dst, u, p, r.dispatch)
+}
+
+// dispatch runs the path of Estimate that serves u and p.
+func (r Residual) dispatch(dst *Indicators, u *fem.Function, p *fem.Problem) error {
 	pc := p.PiecewiseConstant() && !r.plainJumps
 	switch {
 	case pc && u.Space.Degree == 1:
-		err = residualP1(dst, u, p)
+		return residualP1(dst, u, p)
 	case pc && u.Space.Degree == 2:
-		err = residualP2(dst, u, p)
-	default:
-		err = r.general(dst, u, p)
+		return residualP2(dst, u, p)
 	}
-	if err != nil {
-		return nil, err
-	}
-	return dst, nil
+	return r.general(dst, u, p)
 }
 
 // general is Estimate for every input, after prepare: the path of AFunc,
@@ -349,11 +345,5 @@ func edgeTerm(e1, e2 *fem.Evaluator, m *mesh.Mesh, p *fem.Problem, line *quadrat
 // centroid of the loaded triangle.
 func weight(ev *fem.Evaluator, p *fem.Problem) float64 {
 	x, y := ev.Point([3]float64{1. / 3, 1. / 3, 1. / 3})
-	return minEig(p.Diffusion(x, y, ev.Region()))
-}
-
-// minEig returns the smallest eigenvalue of t.
-func minEig(t fem.Tensor) float64 {
-	h := 0.5 * (t.XX - t.YY)
-	return 0.5*(t.XX+t.YY) - math.Sqrt(h*h+t.XY*t.XY)
+	return p.Diffusion(x, y, ev.Region()).MinEig()
 }

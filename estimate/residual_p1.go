@@ -40,12 +40,12 @@ func residualP1(dst *Indicators, u *fem.Function, p *fem.Problem) error {
 	if err != nil {
 		return err
 	}
-	co, bt := newCoeffs(p), newTagKinds(p)
+	co, bt := fem.NewRegionTable(p), newTagKinds(p)
 	x, tri, uu, region := m.X, m.Tri, u.U, m.Region
 	// flux holds (a∂x u_h, a∂y u_h) per triangle, and a_T and a pad when a
 	// differs between regions; jump holds the edge terms.
 	stride := 4
-	if co.uniform {
+	if co.Uniform() {
 		stride = 2
 	}
 	work := dst.scratch(stride*nt + ne)
@@ -55,7 +55,7 @@ func residualP1(dst *Indicators, u *fem.Function, p *fem.Problem) error {
 		for k := lo; k < hi; k++ {
 			t := tri[3*k : 3*k+3 : 3*k+3]
 			d, gx, gy := p1Grad(x, uu, t[0], t[1], t[2])
-			a, w := co.at(region[k])
+			a, w := co.AtMin(region[k])
 			f := flux[stride*k : stride*k+stride : stride*k+stride]
 			f[0], f[1] = a.Apply(gx, gy)
 			if stride == 4 {
@@ -77,9 +77,9 @@ func residualP1(dst *Indicators, u *fem.Function, p *fem.Problem) error {
 		return err
 	}
 	edge, edgeTri, edgeTag := m.Edge, m.EdgeTri, m.EdgeTag
-	var w0 float64 // a_T of every triangle when co.uniform
-	if co.uniform {
-		w0 = co.w[0]
+	var w0 float64 // a_T of every triangle when co.Uniform()
+	if co.Uniform() {
+		_, w0 = co.AtMin(0)
 	}
 	err = parallel.For(ne, 2048, func(lo, hi int) error {
 		for e := lo; e < hi; e++ {

@@ -85,46 +85,6 @@ func patternP1(m *mesh.Mesh) (*Matrix, []int32) {
 	return &Matrix{Rows: n, Cols: n, RowPtr: rowPtr, Col: col, Val: make([]float64, nnz)}, slot
 }
 
-// regionTable holds the constant diffusion of each region for
-// piecewise-constant data: a slice over the span of the region numbers of
-// Problem.A (Check has verified that every region of the mesh is there),
-// or one tensor when A is nil. Spans over 1<<16 fall back to the map.
-type regionTable struct {
-	p    *Problem
-	t    []Tensor
-	base int32
-	one  bool
-}
-
-func newRegionTable(p *Problem) regionTable {
-	if p.A == nil {
-		return regionTable{p: p, t: []Tensor{Scalar(1)}, one: true}
-	}
-	lo, hi := int32(math.MaxInt32), int32(math.MinInt32)
-	for r := range p.A {
-		lo, hi = min(lo, r), max(hi, r)
-	}
-	if int64(hi)-int64(lo) >= 1<<16 {
-		return regionTable{p: p}
-	}
-	t := make([]Tensor, int(hi)-int(lo)+1)
-	for r, v := range p.A {
-		t[r-lo] = v
-	}
-	return regionTable{p: p, t: t, base: lo}
-}
-
-// at returns the diffusion of region r.
-func (rt *regionTable) at(r int32) Tensor {
-	switch {
-	case rt.one:
-		return rt.t[0]
-	case rt.t != nil:
-		return rt.t[r-rt.base]
-	}
-	return rt.p.A[r]
-}
-
 // assembleP1 returns the P1 stiffness matrix (with the reaction term) and
 // the load vector of p, before boundary conditions.
 func assembleP1(s *Space, p *Problem, r rules) (*Matrix, []float64, error) {
@@ -142,7 +102,7 @@ func assembleP1(s *Space, p *Problem, r rules) (*Matrix, []float64, error) {
 	if p.F != nil {
 		eb = make([]float64, 4*ne)
 	}
-	rt := newRegionTable(p)
+	rt := NewRegionTable(p)
 	pc := p.PiecewiseConstant()
 	err := parallel.For(nt, 4096, func(lo, hi int) error {
 		var g geometry
@@ -163,7 +123,7 @@ func assembleP1(s *Space, p *Problem, r rules) (*Matrix, []float64, error) {
 			}
 			var t Tensor
 			if pc {
-				t = rt.at(m.Region[k])
+				t = rt.At(m.Region[k])
 			} else {
 				var err error
 				if t, err = meanTensor(p, r, &g, k); err != nil {

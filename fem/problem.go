@@ -127,25 +127,31 @@ func (p *Problem) Check(m *mesh.Mesh) error {
 	return nil
 }
 
-// checkRegions verifies that every region of m has a valid tensor in A.
-// Regions below 1<<12 are remembered in a table, others in a map.
+// checkRegions verifies that every region of m has a valid tensor in A,
+// each region once, in the order of the triangles. The regions met are
+// remembered by their slot in the RegionTable of p, or in a map where A's
+// span is too wide for a table.
 func (p *Problem) checkRegions(m *mesh.Mesh) error {
-	var small [1 << 12]bool
-	seen := map[int32]bool{}
+	rt := NewRegionTable(p)
+	seen := make([]bool, len(rt.t))
+	var far map[int32]bool
 	for i, r := range m.Region {
 		if i > 0 && r == m.Region[i-1] { // runs of one region are common
 			continue
 		}
-		if uint32(r) < uint32(len(small)) {
-			if small[r] {
+		if j, ok := rt.slot(r); ok {
+			if seen[j] {
 				continue
 			}
-			small[r] = true
-		} else {
-			if seen[r] {
+			seen[j] = true
+		} else if rt.t == nil {
+			if far[r] {
 				continue
 			}
-			seen[r] = true
+			if far == nil {
+				far = map[int32]bool{}
+			}
+			far[r] = true
 		}
 		t, ok := p.A[r]
 		if !ok {

@@ -18,28 +18,14 @@
 // engineering use follows local codes and licensed practice.
 package main
 
-import (
-	"io"
-	"os"
+import "github.com/posteriori-fem/posteriori/examples/internal/scenario"
 
-	"github.com/posteriori-fem/posteriori/examples/internal/scenario"
-	"github.com/posteriori-fem/posteriori/fem/known"
-	"github.com/posteriori-fem/posteriori/mesh"
-)
+func main() { command().Exit() }
 
-func main() { os.Exit(run(os.Args[1:], os.Stdout, os.Stderr)) }
-
-func run(args []string, stdout, stderr io.Writer) int {
-	ex, p := known.Kellogg()
-	sc := &scenario.Scenario{
-		Name:       "kellogg",
-		Title:      "Composite plate, checkerboard of conductivities 161.4 and 1, exact solution of Kellogg (γ = 0.1)",
-		Mesh:       func() (*mesh.Mesh, error) { return mesh.Quadrants(2) },
-		Exact:      ex,
-		Data:       p,
-		DefaultOut: "out/kellogg",
-		MaxDOFs:    20000,
-		Slopes:     []scenario.Slope{{Exponent: -0.5, Label: "N^-1/2"}, {Exponent: -0.05, Label: "N^-0.05"}},
-	}
-	return sc.Main(args, stdout, stderr)
+// command is the scenario of this example (the model problem kellogg of
+// fem/known), new at each call.
+func command() *scenario.Scenario {
+	return scenario.Model("kellogg",
+		"Composite plate, checkerboard of conductivities 161.4 and 1, exact solution of Kellogg (γ = 0.1)",
+		20000, scenario.Slope{Exponent: -0.5, Label: "N^-1/2"}, scenario.Slope{Exponent: -0.05, Label: "N^-0.05"})
 }

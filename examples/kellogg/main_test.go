@@ -7,4 +7,4 @@ import (
 )
 
 // Small runs write what Verify accepts; bad flags exit 2 and write nothing.
-func TestCommand(t *testing.T) { scenario.CheckCommand(t, run) }
+func TestCommand(t *testing.T) { scenario.CheckCommand(t, command().Main) }

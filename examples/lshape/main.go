@@ -26,28 +26,14 @@
 // engineering use follows local codes and licensed practice.
 package main
 
-import (
-	"io"
-	"os"
+import "github.com/posteriori-fem/posteriori/examples/internal/scenario"
 
-	"github.com/posteriori-fem/posteriori/examples/internal/scenario"
-	"github.com/posteriori-fem/posteriori/fem/known"
-	"github.com/posteriori-fem/posteriori/mesh"
-)
+func main() { command().Exit() }
 
-func main() { os.Exit(run(os.Args[1:], os.Stdout, os.Stderr)) }
-
-func run(args []string, stdout, stderr io.Writer) int {
-	ex, p := known.LShape()
-	sc := &scenario.Scenario{
-		Name:       "lshape",
-		Title:      "L-shaped bracket, steady heat conduction, temperature u = r^(2/3) sin(2θ/3)",
-		Mesh:       func() (*mesh.Mesh, error) { return mesh.LShape(2) },
-		Exact:      ex,
-		Data:       p,
-		DefaultOut: "out/lshape",
-		MaxDOFs:    40000,
-		Slopes:     []scenario.Slope{{Exponent: -0.5, Label: "N^-1/2"}, {Exponent: -1.0 / 3, Label: "N^-1/3"}},
-	}
-	return sc.Main(args, stdout, stderr)
+// command is the scenario of this example (the model problem lshape of
+// fem/known), new at each call.
+func command() *scenario.Scenario {
+	return scenario.Model("lshape",
+		"L-shaped bracket, steady heat conduction, temperature u = r^(2/3) sin(2θ/3)",
+		40000, scenario.Slope{Exponent: -0.5, Label: "N^-1/2"}, scenario.Slope{Exponent: -1.0 / 3, Label: "N^-1/3"})
 }
