@@ -327,22 +327,31 @@ func (eq *equilibration) triangleData() error {
 	})
 }
 
+// neumannEdge returns the Neumann data of edge e, its ends A and B and its
+// length, or a nil function if e is not a Neumann edge with data.
+func (eq *equilibration) neumannEdge(e int) (gn fem.Func, ax, ay, bx, by, le float64) {
+	m := eq.m
+	if !m.IsBoundary(e) || eq.dirE[e] {
+		return nil, 0, 0, 0, 0, 0
+	}
+	if gn = eq.p.Neumann[m.EdgeTag[e]]; gn == nil {
+		return nil, 0, 0, 0, 0, 0
+	}
+	ax, ay = m.Vertex(int(m.Edge[2*e]))
+	bx, by = m.Vertex(int(m.Edge[2*e+1]))
+	return gn, ax, ay, bx, by, math.Hypot(bx-ax, by-ay)
+}
+
 // neumannData integrates ∫_E ψ g_N L_j ds for the two end vertices of each
 // Neumann edge.
 func (eq *equilibration) neumannData() error {
-	m, p, k := eq.m, eq.p, eq.k
+	m, k := eq.m, eq.k
 	eq.neu = make([]float64, 2*(k+1)*m.NumEdges())
 	for e := range m.NumEdges() {
-		if !m.IsBoundary(e) || eq.dirE[e] {
-			continue
-		}
-		gn := p.Neumann[m.EdgeTag[e]]
+		gn, ax, ay, bx, by, le := eq.neumannEdge(e)
 		if gn == nil {
 			continue
 		}
-		ax, ay := m.Vertex(int(m.Edge[2*e]))
-		bx, by := m.Vertex(int(m.Edge[2*e+1]))
-		le := math.Hypot(bx-ax, by-ay)
 		for g, t := range eq.line.X {
 			x, y := ax+t*(bx-ax), ay+t*(by-ay)
 			v := gn(x, y)
@@ -351,7 +360,7 @@ func (eq *equilibration) neumannData() error {
 			}
 			w := eq.line.W[g] * le * v
 			for j := range k + 1 {
-				lj := legendre01(j, t)
+				lj := quadrature.Legendre01(j, t)
 				eq.neu[(2*e)*(k+1)+j] += w * (1 - t) * lj
 				eq.neu[(2*e+1)*(k+1)+j] += w * t * lj
 			}
@@ -391,18 +400,6 @@ func (eq *equilibration) vertexResiduals() {
 		}
 		return nil
 	})
-}
-
-// legendre01 returns L_j(t), the Legendre polynomial of degree j ≤ 2 on
-// [0, 1], as in the moments of fem.RTSpace.
-func legendre01(j int, t float64) float64 {
-	switch j {
-	case 0:
-		return 1
-	case 1:
-		return 2*t - 1
-	}
-	return 6*t*t - 6*t + 1
 }
 
 // flux assembles σ_h as a global field: the edge DOFs from the first

@@ -245,20 +245,14 @@ func (tw *termWork) projectionError(f []float64, d int, area float64) float64 {
 // triangle t with data.
 func (tw *termWork) neumann(t int, h, at, area float64) (float64, error) {
 	eq := tw.eq
-	m, p, k, line := eq.m, eq.p, eq.k, eq.line
+	m, k, line := eq.m, eq.k, eq.line
 	sum := 0.0
 	for i := range 3 {
 		e := int(m.TriEdge[3*t+i])
-		if !m.IsBoundary(e) || eq.dirE[e] {
-			continue
-		}
-		gn := p.Neumann[m.EdgeTag[e]]
+		gn, ax, ay, bx, by, le := eq.neumannEdge(e)
 		if gn == nil {
 			continue
 		}
-		ax, ay := m.Vertex(int(m.Edge[2*e]))
-		bx, by := m.Vertex(int(m.Edge[2*e+1]))
-		le := math.Hypot(bx-ax, by-ay)
 		var c [3]float64
 		for j := range k + 1 {
 			c[j] = (eq.neu[(2*e)*(k+1)+j] + eq.neu[(2*e+1)*(k+1)+j]) * float64(2*j+1) / le
@@ -267,7 +261,7 @@ func (tw *termWork) neumann(t int, h, at, area float64) (float64, error) {
 		for g, tt := range line.X {
 			v := gn(ax+tt*(bx-ax), ay+tt*(by-ay))
 			for j := range k + 1 {
-				v -= c[j] * legendre01(j, tt)
+				v -= c[j] * quadrature.Legendre01(j, tt)
 			}
 			s += line.W[g] * le * v * v
 		}

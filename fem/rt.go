@@ -129,17 +129,6 @@ func rtRef(k int) *rtReference {
 	return r.ref
 }
 
-// legendre01 returns L_j(t), the Legendre polynomial of degree j ≤ 2 on [0, 1].
-func legendre01(j int, t float64) float64 {
-	switch j {
-	case 0:
-		return 1
-	case 1:
-		return 2*t - 1
-	}
-	return 6*t*t - 6*t + 1
-}
-
 // refMonoIntegral returns ∫ x̂^a ŷ^b over the reference triangle,
 // a! b! / (a + b + 2)!.
 func refMonoIntegral(a, b int) float64 {
@@ -215,7 +204,7 @@ func buildRTReference(k int) *rtReference {
 				for g, t := range gl.X {
 					x, y := p[0]+t*dx, p[1]+t*dy
 					fx, fy := r.eval(raw, rb, x, y)
-					s += gl.W[g] * (fx*dy - fy*dx) * legendre01(j, t)
+					s += gl.W[g] * (fx*dy - fy*dx) * quadrature.Legendre01(j, t)
 				}
 				v[row*n+rb] = s
 				row++
@@ -481,7 +470,7 @@ func InterpolateRT(s *RTSpace, f func(x, y float64) (float64, float64)) (*RTFunc
 			}
 			fn := gl.W[g] * (fx*dy - fy*dx)
 			for j := range k + 1 {
-				v.U[e*(k+1)+j] += fn * legendre01(j, t)
+				v.U[e*(k+1)+j] += fn * quadrature.Legendre01(j, t)
 			}
 		}
 	}

@@ -113,3 +113,21 @@ func gaussLegendre(n int) *Line {
 	}
 	return r
 }
+
+// Legendre01 returns L_j(t) = P_j(2t − 1), the Legendre polynomial of
+// degree j shifted to [0, 1] (orthogonal there, L_j(1) = 1): the moments
+// of the Raviart–Thomas edge degrees of freedom are taken against them.
+// Degrees up to 2 are evaluated by their expanded forms, higher ones by
+// the three-term recurrence.
+func Legendre01(j int, t float64) float64 {
+	switch j {
+	case 0:
+		return 1
+	case 1:
+		return 2*t - 1
+	case 2:
+		return 6*t*t - 6*t + 1
+	}
+	p, _ := legendre(j, 2*t-1)
+	return p
+}

@@ -193,3 +193,31 @@ func TestForLine(t *testing.T) {
 		})
 	}
 }
+
+// The shifted Legendre polynomials are orthogonal on [0, 1] with
+// ∫ L_i L_j = δ_ij / (2j + 1) and L_j(1) = 1 (classical closed forms),
+// for the expanded degrees 0–2 and the recurrence beyond.
+func TestLegendre01(t *testing.T) {
+	r, err := GaussLegendre(8)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i := range 6 {
+		if v := Legendre01(i, 1); math.Abs(v-1) > 1e-14 {
+			t.Errorf("L_%d(1) = %g", i, v)
+		}
+		for j := range 6 {
+			s := 0.0
+			for q, x := range r.X {
+				s += r.W[q] * Legendre01(i, x) * Legendre01(j, x)
+			}
+			want := 0.0
+			if i == j {
+				want = 1 / float64(2*j+1)
+			}
+			if math.Abs(s-want) > 1e-14 {
+				t.Errorf("∫ L_%d L_%d = %g, want %g", i, j, s, want)
+			}
+		}
+	}
+}
