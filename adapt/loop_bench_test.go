@@ -8,6 +8,8 @@ import (
 
 	"github.com/posteriori-fem/posteriori/fem"
 	"github.com/posteriori-fem/posteriori/fem/known"
+	"github.com/posteriori-fem/posteriori/internal/amg"
+	"github.com/posteriori-fem/posteriori/internal/sparse"
 	"github.com/posteriori-fem/posteriori/mesh"
 )
 
@@ -88,6 +90,92 @@ func BenchmarkLoopTrueError(b *testing.B) {
 			}
 			b.ReportMetric(errTime.Seconds()/loopTime.Seconds(), "error/loop")
 			b.ReportMetric(float64(errTime.Nanoseconds())/float64(tris), "error-ns/triangle")
+		})
+	}
+}
+
+// BenchmarkSolveAdaptive measures, like BenchmarkSolve, New plus the CG
+// solve to relative residual 1e-8 from zero in units of one product with
+// the fine matrix (internal/amg's BenchmarkSolve), on the P1 and P2 stiffness matrices of the mesh that
+// the adaptive loop makes for the L-shape problem (Run with its
+// default method: P1, residual estimator, Dörfler marking with θ = 0.5,
+// and full solves, so that the mesh does not depend on this package) when
+// stopped at 10⁶ P1 unknowns (P1), or at
+// 2.5·10⁵ P1 unknowns, which gives about 10⁶ P2 unknowns (P2, θ = 0.1 as
+// fem.System.Solve uses for P2). The DOF numbering of such meshes, with
+// the vertices of each refinement appended, puts almost all entries far
+// from the diagonal. Building the mesh takes several seconds. Run with
+//
+//	go test -run XXX -bench SolveAdaptive -benchtime 3x ./adapt
+//
+// It lives in package adapt, which builds the mesh, so that the multigrid
+// package's tests do not depend on the loop.
+func BenchmarkSolveAdaptive(b *testing.B) {
+	for _, c := range []struct {
+		deg, maxDOFs int
+		theta        float64
+	}{{1, 1e6, 0}, {2, 25e4, 0.1}} {
+		b.Run(fmt.Sprintf("P%d", c.deg), func(b *testing.B) {
+			m0, err := mesh.LShape(2)
+			if err != nil {
+				b.Fatal(err)
+			}
+			_, p := known.LShape()
+			res, err := Run(context.Background(), Problem{Mesh: m0, Degree: 1, Data: p},
+				Settings{MaxDOFs: c.maxDOFs}, Method{})
+			if err != nil {
+				b.Fatal(err)
+			}
+			sp, err := fem.NewSpace(res.Mesh, c.deg)
+			if err != nil {
+				b.Fatal(err)
+			}
+			sys, err := fem.Assemble(sp, p)
+			if err != nil {
+				b.Fatal(err)
+			}
+			a, rhs := (*sparse.CSR)(sys.A), sys.B
+			y := make([]float64, a.Rows)
+			spmvTime := func() time.Duration {
+				t0 := time.Now()
+				for range 20 {
+					a.MulVec(y, rhs)
+				}
+				return time.Since(t0) / 20
+			}
+			var spmv, setup, vcycle, solveT time.Duration
+			var iters int
+			for b.Loop() {
+				spmv += spmvTime() / 2
+				t0 := time.Now()
+				h, err := amg.New(a, amg.Settings{Theta: c.theta})
+				if err != nil {
+					b.Fatal(err)
+				}
+				setup += time.Since(t0)
+				x := make([]float64, a.Rows)
+				t0 = time.Now()
+				r, err := sparse.CG(a, rhs, x, h, sparse.CGSettings{Tol: 1e-8, MaxIter: 500})
+				if err != nil {
+					b.Fatal(err)
+				}
+				solveT += time.Since(t0)
+				iters = r.Iterations
+				t0 = time.Now()
+				for range 10 {
+					h.Apply(y, rhs)
+				}
+				vcycle += time.Since(t0) / 10
+				spmv += spmvTime() / 2
+			}
+			s := float64(spmv)
+			b.ReportMetric(float64(setup)/s, "setup/SpMV")
+			b.ReportMetric(float64(vcycle)/s, "Vcycle/SpMV")
+			b.ReportMetric(float64(solveT)/s, "solve/SpMV")
+			b.ReportMetric(float64(setup+solveT)/s, "total/SpMV")
+			b.ReportMetric(float64(iters), "iters")
+			b.ReportMetric(float64(spmv.Nanoseconds())/float64(b.N)/1e6, "SpMV-ms")
+			b.ReportMetric(float64(a.Rows), "n")
 		})
 	}
 }

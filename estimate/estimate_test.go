@@ -20,18 +20,8 @@ var estimators = []struct {
 }
 
 // sine is u = sin(πx) sin(πy) on the unit square, u = 0 on the boundary,
-// f = 2π² u (closed form).
-func sine() (fem.Exact, *fem.Problem) {
-	u := func(x, y float64) float64 { return math.Sin(math.Pi*x) * math.Sin(math.Pi*y) }
-	ex := fem.Exact{U: u, Grad: func(x, y float64) (float64, float64) {
-		return math.Pi * math.Cos(math.Pi*x) * math.Sin(math.Pi*y), math.Pi * math.Sin(math.Pi*x) * math.Cos(math.Pi*y)
-	}}
-	p := &fem.Problem{
-		F:         func(x, y float64) float64 { return 2 * math.Pi * math.Pi * u(x, y) },
-		Dirichlet: map[int32]fem.Func{mesh.SideBottom: nil, mesh.SideRight: nil, mesh.SideTop: nil, mesh.SideLeft: nil},
-	}
-	return ex, p
-}
+// f = 2π² u (closed form): the model problem of package fem/known.
+var sine = known.Sine
 
 // run solves p on m with degree deg and returns the solution, the true
 // squared error per triangle and the total energy error.

@@ -3,6 +3,7 @@ package mesh
 import (
 	"bytes"
 	"errors"
+	"io"
 	"math"
 	"slices"
 	"strings"
@@ -260,26 +261,13 @@ func TestWriteJSONBadData(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	for _, c := range []struct {
-		name string
-		d    *Data
-		want error
-	}{
+	checkRejects(t, m, WriteJSON, []badData{
 		{"NaN", &Data{Point: map[string][]float64{"u": {0, 1, math.NaN(), 3}}}, ErrNotFinite},
 		{"Inf", &Data{Cell: map[string][]float64{"eta": {math.Inf(-1), 1}}}, ErrNotFinite},
 		{"length", &Data{Cell: map[string][]float64{"eta": {1, 2, 3}}}, ErrLength},
 		{"name", &Data{Point: map[string][]float64{"a\"b": {0, 1, 2, 3}}}, ErrArgument},
 		{"empty name", &Data{Cell: map[string][]float64{"": {1, 2}}}, ErrArgument},
-	} {
-		var buf bytes.Buffer
-		err := WriteJSON(&buf, m, c.d)
-		if !errors.Is(err, c.want) {
-			t.Errorf("%s: error %v, want %v", c.name, err, c.want)
-		}
-		if buf.Len() != 0 {
-			t.Errorf("%s: %d bytes written before the error", c.name, buf.Len())
-		}
-	}
+	})
 	if err := WriteJSON(new(bytes.Buffer), nil, nil); !errors.Is(err, ErrArgument) {
 		t.Errorf("nil mesh: error %v", err)
 	}
@@ -355,5 +343,27 @@ func TestReadJSONReaderFails(t *testing.T) {
 	var fe *FormatError
 	if !errors.Is(err, errBoom) || errors.As(err, &fe) || !strings.HasPrefix(err.Error(), "mesh: json: read: ") {
 		t.Errorf("error %v, want a read error wrapping %v", err, errBoom)
+	}
+}
+
+// badData is a case of data a writer must reject.
+type badData struct {
+	name string
+	d    *Data
+	want error
+}
+
+// checkRejects checks that write rejects each case with its error, which
+// names the package, and writes nothing before the error.
+func checkRejects(t *testing.T, m *Mesh, write func(io.Writer, *Mesh, *Data) error, cases []badData) {
+	t.Helper()
+	for _, c := range cases {
+		var buf bytes.Buffer
+		if err := write(&buf, m, c.d); !errors.Is(err, c.want) || !strings.HasPrefix(err.Error(), "mesh: ") {
+			t.Errorf("%s: error %v, want %v", c.name, err, c.want)
+		}
+		if buf.Len() != 0 {
+			t.Errorf("%s: %d bytes written before the error", c.name, buf.Len())
+		}
 	}
 }

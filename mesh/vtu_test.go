@@ -126,24 +126,12 @@ func TestWriteVTURejects(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	for _, c := range []struct {
-		name string
-		d    *Data
-		want error
-	}{
+	checkRejects(t, m, WriteVTU, []badData{
 		{"NaN", &Data{Point: map[string][]float64{"u": {0, 1, math.NaN(), 3}}}, ErrNotFinite},
 		{"length", &Data{Point: map[string][]float64{"u": {0, 1}}}, ErrLength},
 		{"name", &Data{Cell: map[string][]float64{"a<b": {1, 2}}}, ErrArgument},
 		{"region", &Data{Cell: map[string][]float64{"region": {1, 2}}}, ErrArgument},
-	} {
-		var buf bytes.Buffer
-		if err := WriteVTU(&buf, m, c.d); !errors.Is(err, c.want) || !strings.HasPrefix(err.Error(), "mesh: ") {
-			t.Errorf("%s: error %v, want %v", c.name, err, c.want)
-		}
-		if buf.Len() != 0 {
-			t.Errorf("%s: %d bytes written before the error", c.name, buf.Len())
-		}
-	}
+	})
 	if err := WriteVTU(&errWriter{100}, m, nil); !errors.Is(err, errBoom) {
 		t.Errorf("failing writer: error %v", err)
 	}

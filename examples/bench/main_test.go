@@ -2,11 +2,11 @@ package main
 
 import (
 	"bytes"
-	"encoding/csv"
-	"os"
 	"path/filepath"
 	"strconv"
 	"testing"
+
+	"github.com/posteriori-fem/posteriori/examples/internal/scenario"
 )
 
 func TestRunSmall(t *testing.T) {
@@ -16,15 +16,7 @@ func TestRunSmall(t *testing.T) {
 	if code := run([]string{"-sizes", "300,1200", "-reps", "1", "-csv", path}, &out, &errs); code != 0 {
 		t.Fatalf("exit %d: %s", code, errs.String())
 	}
-	f, err := os.Open(path)
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer f.Close()
-	rows, err := csv.NewReader(f).ReadAll()
-	if err != nil {
-		t.Fatal(err)
-	}
+	rows := scenario.ReadCSV(t, path)
 	// A header, then every stage for each size.
 	stages := []string{"spmv-p1", "loop", "last-step", "spmv-p2", "peak-go", "assemble-p1", "assemble-p2", "solve-p1",
 		"residual-p1", "average-p1", "dorfler", "refine", "loop-p2"}

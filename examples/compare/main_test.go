@@ -3,7 +3,6 @@ package main
 import (
 	"bytes"
 	"context"
-	"encoding/csv"
 	"encoding/xml"
 	"errors"
 	"io"
@@ -18,23 +17,12 @@ import (
 	"unicode/utf8"
 
 	"github.com/posteriori-fem/posteriori/adapt/study"
+	"github.com/posteriori-fem/posteriori/examples/internal/scenario"
 	"github.com/posteriori-fem/posteriori/fem/known"
 )
 
 // readCSV reads a whole CSV file.
-func readCSV(t *testing.T, path string) [][]string {
-	t.Helper()
-	f, err := os.Open(path)
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer f.Close()
-	rows, err := csv.NewReader(f).ReadAll()
-	if err != nil {
-		t.Fatalf("%s: %v", path, err)
-	}
-	return rows
-}
+func readCSV(t *testing.T, path string) [][]string { return scenario.ReadCSV(t, path) }
 
 // A small study runs, prints an aligned table and writes the three files,
 // complete and well-formed.

@@ -2,6 +2,7 @@ package scenario
 
 import (
 	"bytes"
+	"encoding/csv"
 	"io"
 	"os"
 	"path/filepath"
@@ -75,4 +76,19 @@ func CheckCommand(t TB, run Command) {
 			t.Errorf("%v: the output folder was created", args)
 		}
 	}
+}
+
+// ReadCSV reads a whole CSV file for a test, failing t on an error.
+func ReadCSV(t TB, path string) [][]string {
+	t.Helper()
+	f, err := os.Open(path)
+	if err != nil {
+		t.Fatalf("%s: %v", path, err)
+	}
+	defer f.Close()
+	rows, err := csv.NewReader(f).ReadAll()
+	if err != nil {
+		t.Fatalf("%s: %v", path, err)
+	}
+	return rows
 }
