@@ -22,18 +22,8 @@ func TestEdgeCases(t *testing.T) {
 	}
 	// Piecewise linear across x = 0 with a = R for x > 0: a∇u = (1, 0).
 	const contrast = 1e8
-	pw := func(x, y float64) float64 {
-		if x > 0 {
-			return x / contrast
-		}
-		return x
-	}
-	pwEx := fem.Exact{U: pw, Grad: func(x, y float64) (float64, float64) {
-		if x > 0 {
-			return 1 / contrast, 0
-		}
-		return 1, 0
-	}}
+	pwEx := interfaceLinear(contrast)
+	pw := pwEx.U
 	thin, _ := mesh.Rectangle(0, 0, 2, 2e-3, 2, 2)  // cells 1 × 1e-3: angles ≈ 1e-3 rad, one free vertex
 	thin4, _ := mesh.Rectangle(0, 0, 8, 4e-3, 8, 4) // the same with 21 free vertices
 	tiny, _ := mesh.Rectangle(0, 0, 1e-9, 1e-9, 8, 8)

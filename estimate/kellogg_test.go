@@ -53,18 +53,8 @@ func TestKelloggLargestAtOrigin(t *testing.T) {
 func TestCoefficientInJump(t *testing.T) {
 	t.Parallel()
 	const r = known.KelloggR
-	u := func(x, y float64) float64 {
-		if x > 0 {
-			return x / r
-		}
-		return x
-	}
-	ex := fem.Exact{U: u, Grad: func(x, y float64) (float64, float64) {
-		if x > 0 {
-			return 1 / r, 0
-		}
-		return 1, 0
-	}}
+	ex := interfaceLinear(r)
+	u := ex.U
 	p := &fem.Problem{
 		A:         map[int32]fem.Tensor{1: fem.Scalar(r), 2: fem.Scalar(1), 3: fem.Scalar(1), 4: fem.Scalar(r)},
 		Dirichlet: map[int32]fem.Func{mesh.SideBottom: u, mesh.SideRight: u, mesh.SideTop: u, mesh.SideLeft: u},
@@ -152,4 +142,21 @@ func TestLinearIndicatorsZero(t *testing.T) {
 			}
 		}
 	}
+}
+
+// interfaceLinear returns u = x for x ≤ 0 and x/R for x > 0, the solution
+// of −∇·(a∇u) = 0 with a = 1 left of x = 0 and a = R right of it: a∇u =
+// (1, 0) on both sides, so the flux is continuous (closed form).
+func interfaceLinear(contrast float64) fem.Exact {
+	return fem.Exact{U: func(x, y float64) float64 {
+		if x > 0 {
+			return x / contrast
+		}
+		return x
+	}, Grad: func(x, y float64) (float64, float64) {
+		if x > 0 {
+			return 1 / contrast, 0
+		}
+		return 1, 0
+	}}
 }
