@@ -286,35 +286,42 @@ func histogram(eta2 []float64) (*hist, error) {
 	n := len(eta2)
 	nw := max(1, min(runtime.GOMAXPROCS(0), n/histGrain, 16))
 	hs := make([]*hist, nw)
-	err := parallel.For(nw, 1, func(w0, w1 int) error {
-		for w := w0; w < w1; w++ {
-			h := histPool.Get().(*hist)
-			clear(h.count[:])
-			clear(h.hi[:])
-			clear(h.lo[:])
-			hs[w] = h
-			lo, hi := n*w/nw, n*(w+1)/nw
-			for i, v := range eta2[lo:hi] {
-				if !valid(v) {
-					return indicatorErr(lo+i, v)
-				}
-				if v == 0 {
-					continue
-				}
-				b := math.Float64bits(v)
-				key := b >> keyShift
-				m := b & (1<<52 - 1)
-				if b>>52 != 0 {
-					m |= 1 << 52
-				}
-				h.count[key]++
-				var c uint64
-				h.lo[key], c = bits.Add64(h.lo[key], m, 0)
-				h.hi[key] += c
+	errs := make([]error, nw)
+	bounds := parallel.Even(nil, nw, n)
+	parallel.Run(nw, func(w int) {
+		h := histPool.Get().(*hist)
+		clear(h.count[:])
+		clear(h.hi[:])
+		clear(h.lo[:])
+		hs[w] = h
+		lo, hi := bounds[w], bounds[w+1]
+		for i, v := range eta2[lo:hi] {
+			if !valid(v) {
+				errs[w] = indicatorErr(lo+i, v)
+				return
 			}
+			if v == 0 {
+				continue
+			}
+			b := math.Float64bits(v)
+			key := b >> keyShift
+			m := b & (1<<52 - 1)
+			if b>>52 != 0 {
+				m |= 1 << 52
+			}
+			h.count[key]++
+			var c uint64
+			h.lo[key], c = bits.Add64(h.lo[key], m, 0)
+			h.hi[key] += c
 		}
-		return nil
 	})
+	var err error
+	for _, e := range errs {
+		if e != nil {
+			err = e // the lowest part's, so the lowest invalid index
+			break
+		}
+	}
 	for _, h := range hs[1:] {
 		if h != nil {
 			defer histPool.Put(h)
@@ -347,24 +354,22 @@ func collect(dst []bool, eta2 []float64, cross int, idx []int32) []int32 {
 	n := len(eta2)
 	nw := max(1, min(runtime.GOMAXPROCS(0), n/histGrain, 16))
 	parts := make([][]int32, nw)
-	_ = parallel.For(nw, 1, func(w0, w1 int) error {
-		for w := w0; w < w1; w++ {
-			lo, hi := n*w/nw, n*(w+1)/nw
-			var part []int32
-			if w == 0 {
-				part = idx
-			}
-			c := uint64(cross)
-			for i, v := range eta2[lo:hi] {
-				key := math.Float64bits(v) >> keyShift
-				dst[lo+i] = v > 0 && key > c
-				if key == c && v > 0 {
-					part = append(part, int32(lo+i))
-				}
-			}
-			parts[w] = part
+	bounds := parallel.Even(nil, nw, n)
+	parallel.Run(nw, func(w int) {
+		lo, hi := bounds[w], bounds[w+1]
+		var part []int32
+		if w == 0 {
+			part = idx
 		}
-		return nil
+		c := uint64(cross)
+		for i, v := range eta2[lo:hi] {
+			key := math.Float64bits(v) >> keyShift
+			dst[lo+i] = v > 0 && key > c
+			if key == c && v > 0 {
+				part = append(part, int32(lo+i))
+			}
+		}
+		parts[w] = part
 	})
 	idx = parts[0]
 	for _, p := range parts[1:] {

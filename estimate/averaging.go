@@ -111,20 +111,18 @@ func averagingP1(dst *Indicators, u *fem.Function, p *fem.Problem) error {
 	if several {
 		reg = dst.scratchInt(nv)
 	}
-	_ = parallel.For(owners, 1, func(lo, hi int) error {
-		for w := lo; w < hi; w++ {
-			vlo, vhi := int32(w*nv/owners), int32((w+1)*nv/owners)
-			if several {
-				over[w] = vertexSidesSums(tri, region, tg, acc, reg, vlo, vhi, nil)
-			} else {
-				vertexSums(tri, tg, acc, vlo, vhi)
-			}
-			for v := int(vlo); v < int(vhi); v++ {
-				a := acc[4*v]
-				grad[2*v], grad[2*v+1] = acc[4*v+1]/a, acc[4*v+2]/a
-			}
+	vb := parallel.Even(nil, owners, nv)
+	parallel.Run(owners, func(w int) {
+		vlo, vhi := int32(vb[w]), int32(vb[w+1])
+		if several {
+			over[w] = vertexSidesSums(tri, region, tg, acc, reg, vlo, vhi, nil)
+		} else {
+			vertexSums(tri, tg, acc, vlo, vhi)
 		}
-		return nil
+		for v := int(vlo); v < int(vhi); v++ {
+			a := acc[4*v]
+			grad[2*v], grad[2*v+1] = acc[4*v+1]/a, acc[4*v+2]/a
+		}
 	})
 	var sides []side
 	if several {

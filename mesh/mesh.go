@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 	"slices"
+	"sort"
 )
 
 // Interior is the EdgeTag of an edge with a triangle on each side.
@@ -276,8 +277,9 @@ const degenerateTol = 1e-13
 
 // buildTopology numbers the edges and fills Edge, TriEdge, EdgeTri and
 // EdgeTag. The 3·nt half-edges are sorted by (low vertex, high vertex) with
-// a counting sort on the low vertex followed by an insertion sort inside each
-// bucket, which is linear for meshes of bounded vertex degree.
+// a counting sort on the low vertex followed by a sort inside each bucket
+// (by high vertex, then half-edge index), which is linear for meshes of
+// bounded vertex degree.
 func (m *Mesh) buildTopology() error {
 	nv, nt := m.NumVertices(), m.NumTriangles()
 	nh := 3 * nt
@@ -294,19 +296,20 @@ func (m *Mesh) buildTopology() error {
 	for v := range nv {
 		start[v+1] += start[v]
 	}
-	order := make([]int32, nh) // half-edges sorted by lo, then hi, then index
-	hiOf := make([]int32, nh)  // hi vertex, in sorted position
+	// key: hi·2³² + h per half-edge, bucketed by lo, then sorted per bucket.
+	key := make([]int64, nh)
 	fill := append([]int32(nil), start[:nv]...)
 	for h := range nh {
 		lo, hi := lohi(h)
-		p := fill[lo]
+		key[fill[lo]] = int64(hi)<<32 | int64(h)
 		fill[lo]++
-		// Insertion into the bucket [start[lo], p], keeping (hi, h) ascending.
-		for p > start[lo] && hiOf[p-1] > hi {
-			order[p], hiOf[p] = order[p-1], hiOf[p-1]
-			p--
-		}
-		order[p], hiOf[p] = int32(h), hi
+	}
+	for v := range nv {
+		slices.Sort(key[start[v]:start[v+1]])
+	}
+	order := make([]int32, nh) // half-edges sorted by lo, then hi, then index
+	for p, k := range key {
+		order[p] = int32(k)
 	}
 	m.TriEdge = make([]int32, nh)
 	m.Edge = make([]int32, 0, 2*(nh/2+nv))
@@ -359,16 +362,12 @@ func (m *Mesh) buildTopology() error {
 // binary search finds it.
 func (m *Mesh) findEdge(a, b int32) int {
 	lo, hi := min(a, b), max(a, b)
-	i, j := 0, m.NumEdges()
-	for i < j {
-		h := int(uint(i+j) >> 1)
+	// sort.Search, as slices.BinarySearchFunc needs one element per edge
+	// and the edges are pairs in one flat slice.
+	i := sort.Search(m.NumEdges(), func(h int) bool {
 		el, eh := m.Edge[2*h], m.Edge[2*h+1]
-		if el < lo || (el == lo && eh < hi) {
-			i = h + 1
-		} else {
-			j = h
-		}
-	}
+		return el > lo || (el == lo && eh >= hi)
+	})
 	if i < m.NumEdges() && m.Edge[2*i] == lo && m.Edge[2*i+1] == hi {
 		return i
 	}

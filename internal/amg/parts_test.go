@@ -393,7 +393,7 @@ func TestColour(t *testing.T) {
 		d.Col = append(d.Col, int32(i))
 		d.Val = append(d.Val, 10)
 		lo := int(d.RowPtr[i])
-		sortPairs(d.Col[lo:], d.Val[lo:])
+		sortPairs(d.Col[lo:], d.Val[lo:], nil)
 		d.RowPtr[i+1] = int32(len(d.Col))
 	}
 	a = d

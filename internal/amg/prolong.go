@@ -1,8 +1,10 @@
 package amg
 
 import (
+	"cmp"
 	"math"
 	"runtime"
+	"slices"
 
 	"github.com/posteriori-fem/posteriori/internal/parallel"
 	"github.com/posteriori-fem/posteriori/internal/sparse"
@@ -190,25 +192,33 @@ func prolongator(a *sparse.CSR, diag []float64, c *connections, agg []int32, nag
 		}
 	}
 	put := func(lo, hi int, p *sparse.CSR) {
+		var buf []colVal
 		for i := lo; i < hi; i++ {
 			s, e := p.RowPtr[i], p.RowPtr[i+1]
 			row(i, p.Col[s:e], p.Val[s:e])
-			sortPairs(p.Col[s:e], p.Val[s:e])
+			buf = sortPairs(p.Col[s:e], p.Val[s:e], buf)
 		}
 	}
 	return fill(a.Rows, nagg, a.RowPtr, count, put)
 }
 
-// sortPairs sorts the short slice cols ascending by insertion, permuting
-// vals alike.
-func sortPairs(cols []int32, vals []float64) {
-	vals = vals[:len(cols)]
-	for j := 1; j < len(cols); j++ {
-		c, v := cols[j], vals[j]
-		l := j
-		for ; l > 0 && cols[l-1] > c; l-- {
-			cols[l], vals[l] = cols[l-1], vals[l-1]
-		}
-		cols[l], vals[l] = c, v
+// colVal is a column index with its value.
+type colVal struct {
+	col int32
+	val float64
+}
+
+// sortPairs sorts cols ascending, permuting vals alike, through the
+// scratch buf, which it returns (grown if needed) for reuse. The columns
+// must be distinct.
+func sortPairs(cols []int32, vals []float64, buf []colVal) []colVal {
+	buf = buf[:0]
+	for j, c := range cols {
+		buf = append(buf, colVal{c, vals[j]})
 	}
+	slices.SortFunc(buf, func(x, y colVal) int { return cmp.Compare(x.col, y.col) })
+	for j, p := range buf {
+		cols[j], vals[j] = p.col, p.val
+	}
+	return buf
 }

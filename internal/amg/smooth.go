@@ -1,6 +1,7 @@
 package amg
 
 import (
+	"cmp"
 	"slices"
 
 	"github.com/posteriori-fem/posteriori/internal/sparse"
@@ -286,6 +287,12 @@ type colouring struct {
 	inv  []float64
 }
 
+// colourEntry is a stored entry of a row with the colour of its column.
+type colourEntry struct {
+	colour, col int32
+	val         float64
+}
+
 // colours returns the number of colours (0 for none).
 func (c *colouring) colours() int { return max(0, len(c.ptr)-1) }
 
@@ -338,26 +345,20 @@ func colour(a *sparse.CSR, invDiag []float64) colouring {
 	diag := make([]int32, n)
 	inv := make([]float64, n)
 	chunks(n, m.RowPtr, func(_, lo, hi int) {
-		var key []int32 // the colours of the columns of the row
+		var buf []colourEntry // the entries of the row with their colours
 		for q := lo; q < hi; q++ {
 			i := rows[q]
 			cs, vs := m.Col[m.RowPtr[q]:m.RowPtr[q+1]], m.Val[m.RowPtr[q]:m.RowPtr[q+1]]
-			src := a.Col[a.RowPtr[i]:a.RowPtr[i+1]]
-			copy(vs, a.Val[a.RowPtr[i]:a.RowPtr[i+1]])
-			key = key[:0]
-			for _, j := range src {
-				key = append(key, col[j])
+			src, srcV := a.Col[a.RowPtr[i]:a.RowPtr[i+1]], a.Val[a.RowPtr[i]:a.RowPtr[i+1]]
+			buf = buf[:0]
+			for t, j := range src {
+				buf = append(buf, colourEntry{col[j], j, srcV[t]})
 			}
-			copy(cs, src)
-			// Stable insertion sort by colour: columns stay ascending
-			// within a colour.
-			for t := 1; t < len(cs); t++ {
-				j, v, cj := cs[t], vs[t], key[t]
-				u := t
-				for ; u > 0 && key[u-1] > cj; u-- {
-					cs[u], vs[u], key[u] = cs[u-1], vs[u-1], key[u-1]
-				}
-				cs[u], vs[u], key[u] = j, v, cj
+			// Stable sort by colour: columns keep their order within a
+			// colour.
+			slices.SortStableFunc(buf, func(x, y colourEntry) int { return cmp.Compare(x.colour, y.colour) })
+			for t, e := range buf {
+				cs[t], vs[t] = e.col, e.val
 			}
 			d := 0
 			for cs[d] != i {
