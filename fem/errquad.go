@@ -204,15 +204,24 @@ func (it *errorIntegrator) rule(c [3][3]float64, area float64, r *quadrature.Tri
 // current triangle) and the given area, at subdivision depth depth.
 func (it *errorIntegrator) piece(c [3][3]float64, area float64, depth int) errSums {
 	g := &it.ev.g
-	var px, py [3]float64
-	for i := range 3 {
-		px[i], py[i] = g.point(c[i])
+	px, py := g.x, g.y
+	if depth > 0 {
+		for i := range 3 {
+			px[i], py[i] = g.point(c[i])
+		}
 	}
 	h := math.Sqrt(max(sq(px[1]-px[0])+sq(py[1]-py[0]), sq(px[2]-px[1])+sq(py[2]-py[1]), sq(px[0]-px[2])+sq(py[0]-py[2])))
+	cx, cy := (px[0]+px[1]+px[2])/3, (py[0]+py[1]+py[2])/3
 	inside, found := 0, -1
 	dist := math.Inf(1)
 	for i, sp := range it.ex.Singular {
-		d := pointTriangleDistance(sp[0], sp[1], px, py)
+		// Far from the piece, the distance to its centroid less h (every
+		// point of the piece lies within h of the centroid) is a lower
+		// bound close enough for the rule choice.
+		d := math.Hypot(sp[0]-cx, sp[1]-cy) - h
+		if d < 2*h {
+			d = pointTriangleDistance(sp[0], sp[1], px, py)
+		}
 		if d <= 1e-9*h {
 			inside++
 			found = i
