@@ -18,13 +18,12 @@ import (
 	"errors"
 	"fmt"
 	"math"
-	"runtime"
 	"slices"
-	"sync"
 
 	"github.com/posteriori-fem/posteriori/adapt"
 	"github.com/posteriori-fem/posteriori/estimate"
 	"github.com/posteriori-fem/posteriori/fem/known"
+	"github.com/posteriori-fem/posteriori/internal/parallel"
 )
 
 // Estimator is one estimator of the study, by name.
@@ -159,41 +158,29 @@ func Run(ctx context.Context, c Config) ([]Summary, error) {
 	}
 	slices.SortStableFunc(order, func(i, j int) int { return cmp.Compare(cost(rs[j]), cost(rs[i])) })
 	out := make([]Summary, len(rs))
+	// The runs are handed out in that order as workers finish; after a
+	// failure no new run starts and the running ones see a cancelled
+	// context. The error reported is that of the first failing run in
+	// that order; a run stopped by the cancellation is not a failure of
+	// its own.
 	ctx, cancel := context.WithCancel(ctx)
 	defer cancel()
-	var (
-		mu    sync.Mutex
-		first error // the first run to fail; the others then see a cancelled context
-	)
-	next := make(chan int)
-	var wg sync.WaitGroup
-	for range min(runtime.GOMAXPROCS(0), len(rs)) {
-		wg.Go(func() {
-			for i := range next {
-				var err error
-				if out[i], err = runOne(ctx, rs[i], c.Theta, c.MaxDOFs); err != nil {
-					mu.Lock()
-					if first == nil {
-						first = fmt.Errorf("study: %s, %s, P%d: %w", rs[i].Case.Name, rs[i].Estimator.Name, rs[i].Degree, err)
-					}
-					mu.Unlock()
-					cancel()
+	start := func() (struct{}, error) { return struct{}{}, nil }
+	err := parallel.Dynamic(len(order), 1, start, func(_ struct{}, lo, hi int) error {
+		for _, i := range order[lo:hi] {
+			var err error
+			if out[i], err = runOne(ctx, rs[i], c.Theta, c.MaxDOFs); err != nil {
+				if ctx.Err() != nil && errors.Is(err, ctx.Err()) {
+					return nil // stopped by another run's failure or the caller: reported below
 				}
+				cancel()
+				return fmt.Errorf("study: %s, %s, P%d: %w", rs[i].Case.Name, rs[i].Estimator.Name, rs[i].Degree, err)
 			}
-		})
-	}
-feed:
-	for _, i := range order {
-		select {
-		case next <- i:
-		case <-ctx.Done():
-			break feed
 		}
-	}
-	close(next)
-	wg.Wait()
-	if first != nil {
-		return nil, first
+		return nil
+	})
+	if err != nil {
+		return nil, err
 	}
 	if err := ctx.Err(); err != nil {
 		return nil, err

@@ -3,8 +3,11 @@ package study
 import (
 	"context"
 	"errors"
+	"strings"
 	"testing"
 
+	"github.com/posteriori-fem/posteriori/estimate"
+	"github.com/posteriori-fem/posteriori/fem"
 	"github.com/posteriori-fem/posteriori/fem/known"
 )
 
@@ -34,5 +37,27 @@ func TestRunRejects(t *testing.T) {
 	sums, err := Run(context.Background(), good)
 	if err != nil || len(sums) != 1 || len(sums[0].Steps) < 2 {
 		t.Fatalf("good config: %d summaries, error %v", len(sums), err)
+	}
+}
+
+// failing is an estimator that always fails.
+type failing struct{}
+
+var errFail = errors.New("indicator table full")
+
+func (failing) Estimate(*estimate.Indicators, *fem.Function, *fem.Problem) (*estimate.Indicators, error) {
+	return nil, errFail
+}
+
+// A failing run stops the study with its own error, named by case,
+// estimator and degree, not with the cancellation it causes in the runs
+// that are still going.
+func TestRunFailure(t *testing.T) {
+	t.Parallel()
+	c := Config{Cases: known.Suite()[1:2], Degrees: []int{1}, Theta: 0.5, MaxDOFs: 20000,
+		Estimators: []Estimator{Estimators()[0], {Name: "failing", Est: failing{}}}}
+	_, err := Run(context.Background(), c)
+	if !errors.Is(err, errFail) || !strings.Contains(err.Error(), "lshape, failing, P1") {
+		t.Fatalf("error %v, want the failing run's", err)
 	}
 }
