@@ -334,7 +334,11 @@ func TestCGParallelDeterministic(t *testing.T) {
 			}
 		}
 	}
-	// The parallel path allocates per call, not per iteration.
+	// The parallel path allocates per call, not per iteration: 35 more
+	// iterations may add at most one allocation, not one or more per
+	// iteration. (One extra allocation for 40 iterations was seen in 1 of
+	// 30 runs, probably the runtime's own when a goroutine starts; CG's
+	// code allocates nothing per iteration.)
 	runtime.GOMAXPROCS(2)
 	x := make([]float64, a.Rows)
 	allocs := func(iters int) float64 {
@@ -343,8 +347,8 @@ func TestCGParallelDeterministic(t *testing.T) {
 			CG(a, b, x, j, CGSettings{Tol: 1e-12, MaxIter: iters})
 		})
 	}
-	if few, many := allocs(5), allocs(40); !raceEnabled && (few != many || few > 12) {
-		t.Errorf("parallel CG: %v allocations for 5 iterations, %v for 40; want equal and ≤ 12", few, many)
+	if few, many := allocs(5), allocs(40); !raceEnabled && (many > few+1 || few > 12) {
+		t.Errorf("parallel CG: %v allocations for 5 iterations, %v for 40; want at most one more and ≤ 12", few, many)
 	}
 	y := randomVec(rnd, a.Rows)
 	want := 0.0
