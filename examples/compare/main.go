@@ -1,5 +1,8 @@
 // Command compare is the effectivity study: what to run to choose an error
-// estimator for a class of problems. For each model problem of a suite,
+// estimator for a class of problems. It is a command-line front end to
+// package adapt/study, which a program of one's own can call with its own
+// estimators, on the model problems of package fem/known. For each model
+// problem of the suite,
 // each estimator and each degree p, it runs the adaptive loop of package
 // adapt (solve, estimate, Dörfler marking with parameter θ, refinement)
 // from the problem's coarse mesh until the next mesh would exceed a DOF
