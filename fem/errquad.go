@@ -20,14 +20,16 @@ import (
 //     u = r^γ μ(θ) and its gradient become sums of powers of s along each
 //     ray t = const. In s the integral is split into the geometric layers
 //     [σ^{k+1}, σ^k], σ = errRadialRatio, each integrated by an
-//     errRadialPoints-point Gauss–Legendre rule; the layers are summed until
-//     their ratio q settles, and the rest of the ray is the geometric tail
-//     L_k q/(1 − q) (Aitken's Δ² extrapolation of the partial sums), which
-//     is exact for a pure power s^β and leaves, for a sum of powers, an error
-//     of the order of the next power's share. In t the rule is graded the
-//     same way towards the foot of the perpendicular from P onto AB, down to
-//     the distance of P from that edge, so that thin pieces (P close to an
-//     edge) are integrated as accurately as fat ones.
+//     errRadialPoints-point Gauss–Legendre rule; the partial sums of the
+//     layers are extrapolated by Wynn's ε-algorithm (Shanks' transformation,
+//     exact for the partial sums of a few powers s^β, one geometric sequence
+//     of layers per power), and layers are added until three successive
+//     extrapolations agree to errRelTol. In t the rule is graded the same way
+//     towards the foot of the perpendicular from P onto AB, down to the
+//     distance of P from that edge, so that thin pieces (P close to an edge)
+//     are integrated as accurately as fat ones; that distance and the
+//     offsets from the foot are kept to full relative precision (Kahan's 2×2
+//     determinant, diffOfProducts).
 //   - A piece at distance d from the nearest singular point, with diameter h,
 //     gets the Dunavant rule of the lowest degree whose measured accuracy at
 //     the ratio h/ℓ, ℓ = min(d, Exact.Scale), is 5e-10 relative or better
@@ -44,15 +46,14 @@ import (
 //   - C. Schwab, Variable order composite quadrature of singular and nearly
 //     singular integrals, Computing 53 (1994) 173–194 (geometric grading
 //     with Gauss rules of fixed order: exponential convergence for r^β).
-//   - A. C. Aitken, On Bernoulli's numerical solution of algebraic
-//     equations, Proc. Roy. Soc. Edinburgh 46 (1926) 289–305 (the Δ²
-//     extrapolation of a geometric tail).
+//   - P. Wynn, On a device for computing the e_m(S_n) transformation,
+//     Math. Tables Aids Comput. 10 (1956) 91–96 (see wynn).
 const (
-	errRadialRatio  = 0.25 // σ of the geometric layers in s and t
-	errRadialPoints = 12   // Gauss–Legendre points per layer
-	errRelTol       = 1e-12
-	errMaxLayers    = 40
-	errMaxDepth     = 40 // subdivisions into four of a piece near a singular point
+	errRadialRatio  = 0.25  // σ of the geometric layers in s and t
+	errRadialPoints = 12    // Gauss–Legendre points per layer
+	errRelTol       = 1e-12 // agreement of successive extrapolations
+	errMaxLayers    = 40    // layers per ray at most (the floor of radialIntegral ends them sooner)
+	errMaxDepth     = 40    // subdivisions into four of a piece near a singular point
 )
 
 // errQuantities is the number of integrands: e², |∇e|², a∇e·∇e + c e².
