@@ -51,7 +51,7 @@ const ErrorDegree = 10
 //
 //   - On a triangle that contains a declared singular point, at a vertex,
 //     on an edge or inside, with u = r^γ μ(θ) about it (γ ≥ 0.05, μ smooth
-//     on the triangle), the three integrals are exact to about 1e-12
+//     on the triangle), the three integrals are exact to about 1e-11
 //     relative on triangles of any size (tested down to diameter 1e-12).
 //   - Elsewhere the rule for each triangle is chosen from h/ℓ, its diameter
 //     over its distance to the nearest singular point (or Exact.Scale if
