@@ -40,11 +40,16 @@ type Settings struct {
 	// (such as the default FEMSolver): each solve after the first, warm
 	// started from the previous solution, stops once the solver's estimate
 	// of the algebraic error in the energy norm is at most
-	// AlgebraicFraction times the previous step's estimate η, so that the
-	// discretization error, not the solver, dominates. Zero means
+	// AlgebraicFraction times the discretization part of the previous
+	// step's estimate, η − η_alg (Step.Estimate − Step.Algebraic; the whole
+	// η for estimators that report no algebraic part), so that the
+	// discretization error, not the solver, dominates. Setting it against
+	// η itself would feed an estimator's algebraic part back into the next
+	// tolerance: a loose solve raises η_alg, which loosens the next solve.
+	// Zero means
 	// DefaultAlgebraicFraction (0.1); a negative value turns the rule off,
 	// so that every solve runs to the solver's own tolerance. The first
-	// solve, and any solve whose previous η is 0, also runs to the solver's
+	// solve, and any solve whose previous η − η_alg is 0, also runs to the solver's
 	// own tolerance. A solve stops earlier still at the solver's residual
 	// tolerance or at its rounding floor (fem.SolveSettings.Tol documents
 	// the floor: about u κ(A) in relative residual, u = 2⁻⁵³), whichever
@@ -257,7 +262,8 @@ func Run(ctx context.Context, p Problem, s Settings, meth Method) (*Result, erro
 		if ts, ok := meth.Solver.(TargetSolver); ok {
 			etol := 0.0
 			if frac > 0 && step > 0 {
-				etol = frac * res.Steps[step-1].Estimate
+				prev := res.Steps[step-1]
+				etol = frac * max(prev.Estimate-prev.Algebraic, 0)
 			}
 			uv, st, err = ts.SolveTo(sp, p.Data, g, etol)
 		} else {
@@ -285,7 +291,10 @@ func Run(ctx context.Context, p Problem, s Settings, meth Method) (*Result, erro
 		if len(in.Eta2) != m.NumTriangles() {
 			return fail(StageEstimate, fmt.Errorf("%w: estimator returned %d indicators for %d triangles", ErrMethod, len(in.Eta2), m.NumTriangles()))
 		}
-		rec.Estimate, rec.Oscillation = in.Total(), in.Oscillation()
+		rec.Estimate, rec.Oscillation, rec.Algebraic = in.Total(), in.Oscillation(), in.Algebraic
+		if math.IsNaN(rec.Algebraic) || rec.Algebraic < 0 || rec.Algebraic > rec.Estimate {
+			return fail(StageEstimate, fmt.Errorf("%w: estimator returned an algebraic part %g outside [0, η = %g]", ErrMethod, rec.Algebraic, rec.Estimate))
+		}
 		if p.Exact != nil {
 			t = time.Now()
 			var e float64

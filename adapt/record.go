@@ -26,6 +26,7 @@ type Step struct {
 	Marked      int     // triangles marked for refinement (0 at the last step)
 	Iterations  int     // solver iterations
 	AtFloor     bool    // whether the solve stopped at the rounding floor (fem.SolveStats.AtFloor), not at a tolerance
+	Algebraic   float64 // the part of Estimate that accounts for the algebraic error of the solve (estimate.Indicators.Algebraic; 0 if the estimator does not separate it)
 
 	SolveTime, EstimateTime, ErrorTime, MarkTime, RefineTime time.Duration
 }
@@ -36,7 +37,13 @@ type Step struct {
 var CSVHeader = []string{
 	"step", "triangles", "dofs", "free_dofs", "estimate", "oscillation", "error", "effectivity",
 	"marked", "iterations", "solve_s", "estimate_s", "error_s", "mark_s", "refine_s", "at_floor",
+	"algebraic",
 }
+
+// csvFirstColumns is the number of columns of the first version of the
+// records (up to at_floor); ReadCSV reads files with any prefix of
+// CSVHeader at least this long, and leaves the later fields zero.
+const csvFirstColumns = 16
 
 // WriteCSV writes the records with CSVHeader as the first line. Numbers are
 // written in the shortest form that reads back exactly.
@@ -56,7 +63,7 @@ func WriteCSV(w io.Writer, steps []Step) error {
 			strconv.Itoa(s.Step), strconv.Itoa(s.Triangles), strconv.Itoa(s.DOFs), strconv.Itoa(s.FreeDOFs),
 			f(s.Estimate), f(s.Oscillation), e, eff, strconv.Itoa(s.Marked), strconv.Itoa(s.Iterations),
 			sec(s.SolveTime), sec(s.EstimateTime), sec(s.ErrorTime), sec(s.MarkTime), sec(s.RefineTime),
-			strconv.FormatBool(s.AtFloor),
+			strconv.FormatBool(s.AtFloor), f(s.Algebraic),
 		}
 		if err := cw.Write(row); err != nil {
 			return fmt.Errorf("adapt: WriteCSV: %w", err)
@@ -72,20 +79,24 @@ func WriteCSV(w io.Writer, steps []Step) error {
 // ErrCSV reports a malformed step record file.
 var ErrCSV = errors.New("malformed step records")
 
-// ReadCSV reads records written by WriteCSV. Times are rounded to the
+// ReadCSV reads records written by WriteCSV, also by earlier versions whose
+// header is a prefix of CSVHeader (from step to at_floor at least; the
+// fields of the missing columns are zero). Times are rounded to the
 // nanosecond. It rejects a wrong header, a wrong number of fields, numbers
 // that do not parse, negative counts, NaN or infinite values, and an
 // at_floor other than true or false, with an error that names the line and
 // column.
 func ReadCSV(r io.Reader) ([]Step, error) {
 	cr := csv.NewReader(r)
-	cr.FieldsPerRecord = len(CSVHeader)
 	cr.ReuseRecord = true
 	head, err := cr.Read()
 	if err != nil {
 		return nil, fmt.Errorf("adapt: ReadCSV: %w: header: %v", ErrCSV, err)
 	}
-	for i, h := range CSVHeader {
+	if len(head) < csvFirstColumns || len(head) > len(CSVHeader) {
+		return nil, fmt.Errorf("adapt: ReadCSV: %w: header has %d columns, want %d (or, from an earlier version, %d to %d)", ErrCSV, len(head), len(CSVHeader), csvFirstColumns, len(CSVHeader))
+	}
+	for i, h := range CSVHeader[:len(head)] {
 		if head[i] != h {
 			return nil, fmt.Errorf("adapt: ReadCSV: %w: header column %d is %q, want %q", ErrCSV, i+1, head[i], h)
 		}
@@ -131,7 +142,7 @@ func ReadCSV(r io.Reader) ([]Step, error) {
 				err = errors.New("want true or false")
 			}
 			if err != nil && bad == nil {
-				bad = fmt.Errorf("%w: line %d, column %s: %v", ErrCSV, line, CSVHeader[col-1], err)
+				bad = fmt.Errorf("adapt: ReadCSV: %w: line %d, column %s: %v", ErrCSV, line, CSVHeader[col-1], err)
 			}
 			return v
 		}
@@ -147,6 +158,9 @@ func ReadCSV(r io.Reader) ([]Step, error) {
 		s.Marked, s.Iterations = intAt(), intAt()
 		s.SolveTime, s.EstimateTime, s.ErrorTime, s.MarkTime, s.RefineTime = dur(), dur(), dur(), dur(), dur()
 		s.AtFloor = boolAt()
+		if len(row) > csvFirstColumns {
+			s.Algebraic = floatAt()
+		}
 		if bad != nil {
 			return nil, bad
 		}

@@ -21,7 +21,7 @@ func TestCSVRoundTrip(t *testing.T) {
 			Error: 0.05, Effectivity: 2.469135780246, Marked: 3, Iterations: 7, SolveTime: 1500 * time.Microsecond},
 		{Step: 1, Triangles: 30, DOFs: 25, FreeDOFs: 9, Estimate: 1e-300, Oscillation: 3.5e-7, Marked: 0, Iterations: 0,
 			EstimateTime: time.Second, ErrorTime: 0, MarkTime: 3 * time.Nanosecond, RefineTime: time.Hour},
-		{Step: 2, Triangles: 44, DOFs: 31, FreeDOFs: 15, Estimate: 0.01, Iterations: 27, AtFloor: true},
+		{Step: 2, Triangles: 44, DOFs: 31, FreeDOFs: 15, Estimate: 0.01, Iterations: 27, AtFloor: true, Algebraic: 1.25e-3},
 	}
 	var b bytes.Buffer
 	if err := WriteCSV(&b, steps); err != nil {
@@ -46,19 +46,38 @@ func TestCSVRoundTrip(t *testing.T) {
 	for _, bad := range []string{
 		"",
 		"step,dofs\n",
-		head + "0,1,2,3,0.1,0,,,0,0,0,0,0,0,0\n", // too few fields (the former 15 columns)
-		head + "0,1,2,3,x,0,,,0,0,0,0,0,0,0,false\n",        // not a number
-		head + "0,-1,2,3,0.1,0,,,0,0,0,0,0,0,0,false\n",     // negative count
-		head + "0,1,2,3,NaN,0,,,0,0,0,0,0,0,0,false\n",      // NaN
-		head + "0,1,2,3,0.1,0,0.5,,0,0,0,0,0,0,0,false\n",   // effectivity missing
-		head + "0,1,2,3,0.1,0,,,0,0,0,0,0,0,+Inf,false\n",   // infinite time
-		head + "0,1,2,3,0.1,0,,,0,0,0,0,0,0,0,\n",           // at_floor empty
-		head + "0,1,2,3,0.1,0,,,0,0,0,0,0,0,0,1\n",          // at_floor not true or false
-		head + "0,1,2,3,0.1,0,,,0,0,0,0,0,0,0,false,true\n", // too many fields
+		head + "0,1,2,3,0.1,0,,,0,0,0,0,0,0,0,false\n",        // too few fields (the former 16 columns under the new header)
+		head + "0,1,2,3,x,0,,,0,0,0,0,0,0,0,false,0\n",        // not a number
+		head + "0,-1,2,3,0.1,0,,,0,0,0,0,0,0,0,false,0\n",     // negative count
+		head + "0,1,2,3,NaN,0,,,0,0,0,0,0,0,0,false,0\n",      // NaN
+		head + "0,1,2,3,0.1,0,0.5,,0,0,0,0,0,0,0,false,0\n",   // effectivity missing
+		head + "0,1,2,3,0.1,0,,,0,0,0,0,0,0,+Inf,false,0\n",   // infinite time
+		head + "0,1,2,3,0.1,0,,,0,0,0,0,0,0,0,,0\n",           // at_floor empty
+		head + "0,1,2,3,0.1,0,,,0,0,0,0,0,0,0,1,0\n",          // at_floor not true or false
+		head + "0,1,2,3,0.1,0,,,0,0,0,0,0,0,0,false,NaN\n",    // algebraic NaN
+		head + "0,1,2,3,0.1,0,,,0,0,0,0,0,0,0,false,0,true\n", // too many fields
+		strings.Join(CSVHeader[:15], ",") + "\n",              // header shorter than the first version
+		strings.Join(CSVHeader, ",") + ",goal\n",              // a column this version does not know
 	} {
 		if _, err := ReadCSV(strings.NewReader(bad)); !errors.Is(err, ErrCSV) {
 			t.Errorf("%q: %v, want ErrCSV", bad, err)
 		}
+	}
+}
+
+// A file of the first version (16 columns, up to at_floor) reads with the
+// later fields zero.
+func TestCSVEarlierVersion(t *testing.T) {
+	t.Parallel()
+	old := strings.Join(CSVHeader[:16], ",") + "\n0,24,21,5,0.5,0,0.25,2,3,7,0.0015,0,0,0,0,true\n"
+	got, err := ReadCSV(strings.NewReader(old))
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := Step{Triangles: 24, DOFs: 21, FreeDOFs: 5, Estimate: 0.5, HasError: true, Error: 0.25, Effectivity: 2,
+		Marked: 3, Iterations: 7, SolveTime: 1500 * time.Microsecond, AtFloor: true}
+	if len(got) != 1 || got[0] != want {
+		t.Fatalf("got %+v, want %+v", got, want)
 	}
 }
 

@@ -66,19 +66,30 @@ func (eq *equilibration) indicators(dst *Indicators) (EquilibratedParts, error) 
 	parts.Neumann = math.Sqrt(parts.Neumann)
 	parts.Residual = math.Sqrt(parts.Residual)
 	parts.Dirichlet = math.Sqrt(parts.Dirichlet)
+	var tshare []float64 // the tree bound's shares, when it is the smaller
 	if rho2 > 0 {
-		c, ok := eq.algebraicConstant(amin)
-		if !ok {
-			return EquilibratedParts{}, fmt.Errorf("estimate: Equilibrated: the solution is not the exact discrete solution (‖ρ‖ = %.3g) and no Friedrichs constant is known for this boundary: %w", math.Sqrt(rho2), ErrFriedrichs)
+		best := math.Inf(1)
+		if c, ok := eq.algebraicConstant(amin); ok {
+			best = c * math.Sqrt(rho2)
 		}
-		parts.Algebraic = c * math.Sqrt(rho2)
+		sh := make([]float64, nt)
+		if et, ok := eq.treeBound(sh); ok && et < best {
+			best, tshare = et, sh
+		}
+		if math.IsInf(best, 1) {
+			return EquilibratedParts{}, fmt.Errorf("estimate: Equilibrated: the solution is not the exact discrete solution (‖ρ‖ = %.3g), no triangle path reaches a Dirichlet edge, there is no reaction and no Friedrichs constant is known: %w", math.Sqrt(rho2), ErrUnsupported)
+		}
+		parts.Algebraic = best
 	}
 	alg, res := parts.Algebraic, parts.Residual
 	share := alg*alg + 2*alg*res
 	for t := range nt {
 		v := terms[termCount*t : termCount*(t+1)]
 		e2 := v[3]*v[3] + v[4]
-		if rho2 > 0 {
+		switch {
+		case tshare != nil:
+			e2 += share * tshare[t]
+		case rho2 > 0:
 			e2 += share * v[5] / rho2
 		}
 		dst.Eta2[t] = e2

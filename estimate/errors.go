@@ -21,5 +21,4 @@ var (
 // Reasons the equilibrated estimator declines a problem, for errors.Is.
 var (
 	ErrUnsupported = errors.New("problem not supported by this estimator")
-	ErrFriedrichs  = errors.New("no Friedrichs constant known: set Equilibrated.Friedrichs")
 )

@@ -17,6 +17,14 @@ type Indicators struct {
 	Eta2 []float64 // η_T² per triangle
 	Osc2 []float64 // osc_T² per triangle: data oscillation h_T² ‖f − Π_{p−1} f‖²_T
 
+	// Algebraic is the part of the total estimate that accounts for the
+	// algebraic error of an inexact solve, for an estimator that separates
+	// it (Equilibrated: η_alg, see EquilibratedParts); zero for the others.
+	// Total() − Algebraic is the part due to the discretization, which a
+	// solver's stopping rule can be set against without feeding its own
+	// error back into its tolerance.
+	Algebraic float64
+
 	// Scratch of the estimators, kept so that repeated estimates with the
 	// same dst do not allocate.
 	work  []float64
@@ -135,5 +143,6 @@ func prepare(name string, dst *Indicators, u *fem.Function, p *fem.Problem) (*In
 	nt := u.Space.Mesh.NumTriangles()
 	dst.Eta2 = resize(dst.Eta2, nt)
 	dst.Osc2 = resize(dst.Osc2, nt)
+	dst.Algebraic = 0
 	return dst, nil
 }

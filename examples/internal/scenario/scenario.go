@@ -9,9 +9,11 @@ import (
 	"flag"
 	"fmt"
 	"io"
+	"maps"
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"time"
 
@@ -55,6 +57,15 @@ var Estimators = map[string]estimate.Estimator{
 	"residual": estimate.Residual{},
 	"average":  estimate.Recovery{Method: estimate.Averaging},
 	"patch":    estimate.Recovery{Method: estimate.SPR},
+	// The guaranteed upper bound (estimate.Equilibrated).
+	"equilibrated": estimate.Equilibrated{},
+}
+
+// estimatorNames returns the -estimator flag's values, sorted, as a list
+// for messages.
+func estimatorNames() string {
+	names := slices.Sorted(maps.Keys(Estimators))
+	return strings.Join(names[:len(names)-1], ", ") + " or " + names[len(names)-1]
 }
 
 // errUsage marks a bad command line: exit status 2.
@@ -66,7 +77,7 @@ func (sc *Scenario) Parse(args []string) (Options, error) {
 	fs := flag.NewFlagSet(sc.Name, flag.ContinueOnError)
 	fs.SetOutput(io.Discard)
 	fs.IntVar(&o.Degree, "p", 1, "polynomial degree, 1 or 2")
-	fs.StringVar(&o.Estimator, "estimator", "residual", "residual, average or patch")
+	fs.StringVar(&o.Estimator, "estimator", "residual", estimatorNames())
 	fs.Float64Var(&o.Theta, "theta", 0.5, "Dörfler marking parameter in (0, 1]")
 	fs.IntVar(&o.MaxDOFs, "max-dofs", sc.MaxDOFs, "DOF budget, 50 to 4000000")
 	fs.Float64Var(&o.Tol, "tol", 0, "stop when the estimate is below this (0: no tolerance)")
@@ -84,7 +95,7 @@ func (sc *Scenario) Parse(args []string) (Options, error) {
 	case o.Degree != 1 && o.Degree != 2:
 		return bad("-p %d: want 1 or 2", o.Degree)
 	case Estimators[o.Estimator] == nil:
-		return bad("-estimator %q: want residual, average or patch", o.Estimator)
+		return bad("-estimator %q: want %s", o.Estimator, estimatorNames())
 	case !(o.Theta > 0 && o.Theta <= 1):
 		return bad("-theta %g: want a value in (0, 1]", o.Theta)
 	case o.MaxDOFs < 50 || o.MaxDOFs > 4000000:
