@@ -37,8 +37,10 @@ func TestRunSmall(t *testing.T) {
 		t.Errorf("stderr: %s", stderr.String())
 	}
 
-	// results.csv: the documented header, 2 problems × 3 estimators × 2
-	// degrees rows in table order, numbers that parse.
+	// results.csv: the documented header, 2 problems × 4 estimators × 2
+	// degrees rows in table order, numbers that parse; the equilibrated
+	// bound's effectivity is at least 1 on every step (a theorem: see
+	// estimate.Equilibrated).
 	rows := readCSV(t, filepath.Join(dir, "results.csv"))
 	if !slices.Equal(rows[0], resultsHeader) {
 		t.Fatalf("results.csv header %v, want %v", rows[0], resultsHeader)
@@ -47,12 +49,12 @@ func TestRunSmall(t *testing.T) {
 		t.Errorf("results.csv header %q", got)
 	}
 	rows = rows[1:]
-	if len(rows) != 12 {
-		t.Fatalf("results.csv has %d rows, want 12", len(rows))
+	if len(rows) != 16 {
+		t.Fatalf("results.csv has %d rows, want 16", len(rows))
 	}
 	i := 0
 	for _, pr := range []string{"lshape", "kellogg"} {
-		for _, e := range []string{"residual", "averaging", "spr"} {
+		for _, e := range []string{"residual", "averaging", "spr", "equilibrated"} {
 			for _, p := range []string{"1", "2"} {
 				r := rows[i]
 				i++
@@ -80,6 +82,9 @@ func TestRunSmall(t *testing.T) {
 				if !(0 < lo && lo <= hi) {
 					t.Errorf("results.csv row %d: effectivity range [%g, %g]", i, lo, hi)
 				}
+				if e == "equilibrated" && lo < 1 {
+					t.Errorf("results.csv row %d: the guaranteed bound has effectivity %g < 1", i, lo)
+				}
 			}
 		}
 	}
@@ -93,8 +98,8 @@ func TestRunSmall(t *testing.T) {
 	if got := strings.Join(steps[0], ","); got != "problem,estimator,p,step,dofs,estimate,error,effectivity" {
 		t.Errorf("steps.csv header %q", got)
 	}
-	if len(steps)-1 < 12 {
-		t.Fatalf("steps.csv has %d rows, want at least 12", len(steps)-1)
+	if len(steps)-1 < 16 {
+		t.Fatalf("steps.csv has %d rows, want at least 16", len(steps)-1)
 	}
 	count := map[string]int{}
 	for k, r := range steps[1:] {
@@ -105,6 +110,9 @@ func TestRunSmall(t *testing.T) {
 			if x, err := strconv.ParseFloat(v, 64); err != nil || !(x > 0) {
 				t.Errorf("steps.csv row %d, %s = %q: want a positive number", k+1, stepsHeader[5+j], v)
 			}
+		}
+		if eff, _ := strconv.ParseFloat(r[7], 64); r[1] == "equilibrated" && eff < 1 {
+			t.Errorf("steps.csv row %d: the guaranteed bound has effectivity %g < 1", k+1, eff)
 		}
 		count[strings.Join(r[:3], ",")]++
 	}
@@ -151,7 +159,7 @@ func TestRunSmall(t *testing.T) {
 		t.Errorf("output folder holds %v, want %v", names, want)
 	}
 
-	// The table: a header and 12 rows, columns aligned (all lines equally
+	// The table: a header and 16 rows, columns aligned (all lines equally
 	// wide, since the last column is right-aligned).
 	var table []string
 	for _, l := range strings.Split(stdout.String(), "\n") {
@@ -159,8 +167,8 @@ func TestRunSmall(t *testing.T) {
 			table = append(table, l)
 		}
 	}
-	if len(table) != 13 {
-		t.Fatalf("table has %d lines, want 13:\n%s", len(table), stdout.String())
+	if len(table) != 17 {
+		t.Fatalf("table has %d lines, want 17:\n%s", len(table), stdout.String())
 	}
 	for _, l := range table[1:] {
 		if utf8.RuneCountInString(l) != utf8.RuneCountInString(table[0]) {

@@ -27,9 +27,11 @@ const (
 // estimatorColor is the line colour of each estimator (a palette that
 // stays distinct for colour-blind readers); the degree sets the dashes.
 var estimatorColor = map[string]color.Color{
-	"residual":  color.RGBA{R: 0x00, G: 0x72, B: 0xb2, A: 0xff},
-	"averaging": color.RGBA{R: 0xe6, G: 0x9f, B: 0x00, A: 0xff},
-	"spr":       color.RGBA{R: 0x00, G: 0x9e, B: 0x73, A: 0xff},
+	"residual":     color.RGBA{R: 0x00, G: 0x72, B: 0xb2, A: 0xff},
+	"averaging":    color.RGBA{R: 0xe6, G: 0x9f, B: 0x00, A: 0xff},
+	"spr":          color.RGBA{R: 0x00, G: 0x9e, B: 0x73, A: 0xff},
+	"equilibrated": color.RGBA{R: 0xd5, G: 0x5e, B: 0x00, A: 0xff},
+	"flux":         color.RGBA{R: 0xcc, G: 0x79, B: 0xa7, A: 0xff},
 }
 
 // degreeDashes is the dash pattern of each degree: P1 solid, P2 dashed.
