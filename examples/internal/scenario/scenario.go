@@ -171,6 +171,10 @@ func (sc *Scenario) Run(o Options, w io.Writer) error {
 	fmt.Fprintf(w, "stopped: %v after %d steps; rate: the exponent r of error ≈ C N^(-r), fitted over the second half of the steps so far\n", main.res.Status, len(main.res.Steps))
 	fmt.Fprintf(w, "time: the loop's own stages (solve, estimate, mark, refine), %v in all; error t: measuring the true error, %v in all, not part of the loop\n",
 		loopTime.Round(time.Millisecond), errTime.Round(time.Millisecond))
+	if o.Estimator == "equilibrated" {
+		fmt.Fprintf(w, "the estimate is a guaranteed upper bound of the energy error of each step's returned solution (up to the quadrature of non-polynomial data); at the last step %.4e of it (%.2g%%) is the algebraic part, for the solve stopped early\n",
+			last.Algebraic, 100*last.Algebraic/last.Estimate)
+	}
 	fmt.Fprintln(w, "The estimate measures discretization error only, not modelling error; engineering use follows local codes and licensed practice.")
 	adaptive, uniform := main, other
 	if o.Uniform {
