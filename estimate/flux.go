@@ -1,6 +1,7 @@
 package estimate
 
 import (
+	"cmp"
 	"fmt"
 	"math"
 	"slices"
@@ -135,7 +136,8 @@ func (fr FluxRecovery) run(dst *Indicators, u *fem.Function, p *fem.Problem) err
 	if err != nil {
 		return err
 	}
-	return pr.indicators(dst)
+	pr.local(dst.Eta2)
+	return nil
 }
 
 // Flux returns the recovered flux σ ∈ RT_{p−1} of u (see FluxRecovery)
@@ -220,9 +222,12 @@ func invTensor(a fem.Tensor) fem.Tensor {
 	return fem.Tensor{XX: a.YY / d, XY: -a.XY / d, YY: a.XX / d}
 }
 
-// elements computes the element matrices (a⁻¹ φ_i, φ_j)_T and right-hand
-// sides −(∇u_h, φ_i)_T, in local DOF order with the signs of the global
-// basis, and the data oscillation into dst.Osc2.
+// elements computes, per triangle, the element matrix A_T = (a⁻¹ φ_i, φ_j)_T
+// in local DOF order with the signs of the global basis, and the
+// coefficients c_T of −a∇u_h on T, the solution of A_T c_T = −(∇u_h, φ_i)_T
+// (exact: −a∇u_h ∈ P_k² ⊂ RT_k(T)), by the Dunavant rule of degree 2k + 2
+// (exact) and a Cholesky factorisation; and the data oscillation into
+// dst.Osc2.
 func (pr *projection) elements(dst *Indicators) error {
 	m, p, k, nl := pr.m, pr.p, pr.k, pr.nloc
 	rule, err := quadrature.ForTriangle(2*k + 2)
@@ -238,6 +243,7 @@ func (pr *projection) elements(dst *Indicators) error {
 		el := pr.rt.NewElement()
 		var phi [15][2]float64
 		var fq [quadrature.MaxTrianglePoints]float64
+		var fac [15 * 15]float64
 		for t := lo; t < hi; t++ {
 			ev.Load(t)
 			el.Load(t)
@@ -258,6 +264,12 @@ func (pr *projection) elements(dst *Indicators) error {
 					loc[nl*nl+i] -= w * (gx*phi[i][0] + gy*phi[i][1])
 				}
 			}
+			copy(fac[:nl*nl], loc[:nl*nl])
+			if _, ok := lapack64.Potrf(blas64.Symmetric{Uplo: blas.Upper, N: nl, Stride: nl, Data: fac[:nl*nl]}); !ok {
+				panic("estimate: element matrix of RT not positive definite") // broken invariant
+			}
+			lapack64.Potrs(blas64.Triangular{Uplo: blas.Upper, Diag: blas.NonUnit, N: nl, Stride: nl, Data: fac[:nl*nl]},
+				blas64.General{Rows: nl, Cols: 1, Stride: 1, Data: loc[nl*nl:]})
 			if p.F == nil {
 				zero(dst.Osc2, t)
 				continue
@@ -356,10 +368,10 @@ func (pr *projection) rowOf(r int32, t1, li1, t2, li2 int, buf []entry) ([]entry
 	buf = buf[:0]
 	add := func(t, li int) {
 		loc := pr.loc[t*(nl*nl+nl) : (t+1)*(nl*nl+nl)]
-		rhs += loc[nl*nl+li]
 		pr.dofs(t, d[:nl])
 		for j, c := range d[:nl] {
 			v := loc[li*nl+j]
+			rhs += v * loc[nl*nl+j]
 			if c != r && pr.isFixed(c) {
 				rhs -= v * pr.x[c]
 				continue
@@ -371,7 +383,7 @@ func (pr *projection) rowOf(r int32, t1, li1, t2, li2 int, buf []entry) ([]entry
 	if t2 >= 0 {
 		add(t2, li2)
 	}
-	slices.SortStableFunc(buf, func(a, b entry) int { return int(a.col) - int(b.col) })
+	slices.SortStableFunc(buf, func(a, b entry) int { return cmp.Compare(a.col, b.col) })
 	out := buf[:0]
 	for _, en := range buf {
 		if n := len(out); n > 0 && out[n-1].col == en.col {
@@ -403,6 +415,24 @@ func (pr *projection) rowTriangles(r int) (t1, li1, t2, li2 int) {
 	return i / ni, 3*(k+1) + i%ni, -1, -1
 }
 
+// freeCols returns the number of columns of a row that triangle t adds:
+// its free DOFs, less those of its local edge skip (the edge of the row,
+// counted once, by the first triangle), or less none if skip is 3 (a row of
+// an interior DOF). For t < 0 it returns 0.
+func (pr *projection) freeCols(t, skip int) int32 {
+	if t < 0 {
+		return 0
+	}
+	k := pr.k
+	c := int32(pr.rt.InteriorDOFs())
+	for i := range 3 {
+		if i != skip && pr.fixed[pr.m.TriEdge[3*t+i]] == 0 {
+			c += int32(k + 1)
+		}
+	}
+	return c
+}
+
 // assemble builds the matrix and right-hand side of the projection in the
 // given arrays: rows of the fixed Neumann moments are m_ii x_i = m_ii g_i,
 // and the fixed columns of the other rows move to the right-hand side.
@@ -410,15 +440,13 @@ func (pr *projection) assemble(rowPtr, cols []int32, vals []float64) {
 	n := pr.n
 	// Row lengths, then offsets, then the entries.
 	_ = parallel.For(n, 4096, func(lo, hi int) error {
-		buf := make([]entry, 0, 2*pr.nloc)
 		for r := lo; r < hi; r++ {
 			if pr.isFixed(int32(r)) {
 				rowPtr[r+1] = 1
 				continue
 			}
-			t1, li1, t2, li2 := pr.rowTriangles(r)
-			row, _ := pr.rowOf(int32(r), t1, li1, t2, li2, buf)
-			rowPtr[r+1] = int32(len(row))
+			t1, _, t2, li2 := pr.rowTriangles(r)
+			rowPtr[r+1] = pr.freeCols(t1, 3) + pr.freeCols(t2, li2/(pr.k+1))
 		}
 		return nil
 	})
@@ -451,29 +479,12 @@ func (pr *projection) assemble(rowPtr, cols []int32, vals []float64) {
 	pr.a = &sparse.CSR{Rows: n, Cols: n, RowPtr: rowPtr, Col: cols, Val: vals}
 }
 
-// guess sets the free unknowns of x to the local guess: the coefficients
-// c_T of −a∇u_h on each triangle (the solution of A_T c_T = b_T, exact as
-// −a∇u_h ∈ P_k² ⊂ RT_k(T)), averaged on each edge with the weights of the
-// diagonals of the element matrices.
+// guess sets the free unknowns of x to the local guess: inside each
+// triangle the coefficients c_T of −a∇u_h, on each edge those of its
+// triangles averaged with the weights of the diagonals of their element
+// matrices.
 func (pr *projection) guess() {
-	m, nl := pr.m, pr.nloc
-	nt := m.NumTriangles()
-	// The local solutions overwrite the right-hand sides of the element
-	// data, which assembly has used.
-	_ = parallel.For(nt, 256, func(lo, hi int) error {
-		var a [15 * 15]float64
-		for t := lo; t < hi; t++ {
-			loc := pr.loc[t*(nl*nl+nl) : (t+1)*(nl*nl+nl)]
-			copy(a[:nl*nl], loc[:nl*nl])
-			sym := blas64.Symmetric{Uplo: blas.Upper, N: nl, Stride: nl, Data: a[:nl*nl]}
-			if _, ok := lapack64.Potrf(sym); !ok {
-				panic("estimate: element matrix of RT not positive definite") // broken invariant
-			}
-			tri := blas64.Triangular{Uplo: blas.Upper, Diag: blas.NonUnit, N: nl, Stride: nl, Data: a[:nl*nl]}
-			lapack64.Potrs(tri, blas64.General{Rows: nl, Cols: 1, Stride: 1, Data: loc[nl*nl:]})
-		}
-		return nil
-	})
+	nl := pr.nloc
 	_ = parallel.For(pr.n, 4096, func(lo, hi int) error {
 		for r := lo; r < hi; r++ {
 			if pr.isFixed(int32(r)) {
@@ -497,47 +508,33 @@ func (pr *projection) guess() {
 // energy returns ‖a^{−½}(σ + a∇u_h)‖² for σ given by x, with eta2 (one
 // per triangle) as scratch.
 func (pr *projection) energy(eta2 []float64) float64 {
-	_ = pr.local(eta2)
+	pr.local(eta2)
 	return sum(eta2)
 }
 
-// indicators fills dst.Eta2.
-func (pr *projection) indicators(dst *Indicators) error {
-	return pr.local(dst.Eta2)
-}
-
-// local writes ‖a^{−½}(σ + a∇u_h)‖²_T per triangle into eta2, integrated by
-// the Dunavant rule of degree 2k + 2 (exact).
-func (pr *projection) local(eta2 []float64) error {
-	m, k, nl := pr.m, pr.k, pr.nloc
-	rule, err := quadrature.ForTriangle(2*k + 2)
-	if err != nil {
-		return err
-	}
-	return parallel.For(m.NumTriangles(), 256, func(lo, hi int) error {
-		ev := fem.NewEvaluator(pr.u)
-		el := pr.rt.NewElement()
-		var phi [15][2]float64
+// local writes ‖a^{−½}(σ + a∇u_h)‖²_T per triangle into eta2: as
+// −a∇u_h is the field of RT_k(T) with coefficients c_T, σ + a∇u_h has the
+// coefficients δ = x_T − c_T on T and the norm is δᵀ A_T δ.
+func (pr *projection) local(eta2 []float64) {
+	nl := pr.nloc
+	_ = parallel.For(pr.m.NumTriangles(), 1024, func(lo, hi int) error {
+		var d [15]int32
+		var dl [15]float64
 		for t := lo; t < hi; t++ {
-			ev.Load(t)
-			el.Load(t)
-			a := pr.rtab.At(m.Region[t])
-			ai := invTensor(a)
-			d := el.DOFs()
-			s := 0.0
-			for q := range rule.Len() {
-				l := [3]float64{rule.Bary[3*q], rule.Bary[3*q+1], rule.Bary[3*q+2]}
-				el.Basis(l, phi[:nl])
-				_, gx, gy := ev.Eval(l)
-				wx, wy := a.Apply(gx, gy)
-				for i, c := range d {
-					wx += pr.x[c] * phi[i][0]
-					wy += pr.x[c] * phi[i][1]
-				}
-				vx, vy := ai.Apply(wx, wy)
-				s += rule.W[q] * (wx*vx + wy*vy)
+			loc := pr.loc[t*(nl*nl+nl) : (t+1)*(nl*nl+nl)]
+			pr.dofs(t, d[:nl])
+			for i, c := range d[:nl] {
+				dl[i] = pr.x[c] - loc[nl*nl+i]
 			}
-			eta2[t] = s * ev.Area()
+			s := 0.0
+			for i := range nl {
+				r := 0.0
+				for j := range nl {
+					r += loc[i*nl+j] * dl[j]
+				}
+				s += dl[i] * r
+			}
+			eta2[t] = s
 		}
 		return nil
 	})

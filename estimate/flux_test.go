@@ -5,6 +5,7 @@ import (
 	"testing"
 
 	"github.com/posteriori-fem/posteriori/fem"
+	"github.com/posteriori-fem/posteriori/fem/known"
 	"github.com/posteriori-fem/posteriori/mesh"
 )
 
@@ -64,6 +65,68 @@ func TestFluxPatch(t *testing.T) {
 			if worst > 1e-11 || in.Total() > 1e-11 {
 				t.Errorf("P%d mixed=%v: |σ + a∇u| up to %g, η = %g", pl.deg, mixed, worst, in.Total())
 			}
+		}
+	}
+}
+
+// Across an interface the exact flux a∇u is continuous while ∇u jumps. For
+// u = x left of x = 0 and x/R right of it, with a = 1 and a = R (R = 161,
+// the Kellogg contrast), a∇u = (1, 0) on both sides (closed form), u is its
+// own P1 solution on a mesh aligned with x = 0, and −a∇u ∈ RT_0: the
+// projection reproduces it and η = 0 (a projection that weighted the two
+// sides wrongly, or a recovery of a continuous field, would not).
+func TestFluxInterfaceExact(t *testing.T) {
+	t.Parallel()
+	const r = known.KelloggR
+	ex := interfaceLinear(r)
+	u := ex.U
+	p := &fem.Problem{
+		A:         map[int32]fem.Tensor{1: fem.Scalar(r), 2: fem.Scalar(1), 3: fem.Scalar(1), 4: fem.Scalar(r)},
+		Dirichlet: map[int32]fem.Func{mesh.SideBottom: u, mesh.SideRight: u, mesh.SideTop: u, mesh.SideLeft: u},
+	}
+	m, _ := mesh.Quadrants(4)
+	uh, _, e := run(t, m, 1, ex, p)
+	if e > 1e-9 {
+		t.Fatalf("the piecewise linear solution is not reproduced: error %g", e)
+	}
+	// Tolerance: rounding, relative to |a∇u| = 1 on a domain of area 4.
+	if eta := estimateTotal(t, FluxRecovery{}, uh, p).Total(); eta > 1e-12 {
+		t.Errorf("η = %g, want 0", eta)
+	}
+}
+
+// fluxRun runs adaptive refinement (Dörfler θ = 0.5 on the flux recovery
+// indicators) from mesh m for steps steps and returns per step the number
+// of DOFs, η/‖a^½∇(u − u_h)‖, and the relative change of η between the
+// default stopping rule and a solve to the relative residual 1e-10.
+func fluxRun(t *testing.T, m *mesh.Mesh, deg int, ex fem.Exact, p *fem.Problem, steps int) (dofs, eff, dev []float64) {
+	t.Helper()
+	for step := range steps {
+		u, _, e := run(t, m, deg, ex, p)
+		in := estimateTotal(t, FluxRecovery{}, u, p)
+		tight := estimateTotal(t, FluxRecovery{Tol: 1e-9}, u, p)
+		dofs = append(dofs, float64(u.Space.NumDOF()))
+		eff = append(eff, in.Total()/e)
+		dev = append(dev, in.Total()/tight.Total()-1)
+		if step == steps-1 {
+			break
+		}
+		var err error
+		if m, _, err = m.Refine(dorflerMarks(in.Eta2, 0.5)); err != nil {
+			t.Fatal(err)
+		}
+	}
+	return dofs, eff, dev
+}
+
+func TestFluxKellogg(t *testing.T) {
+	t.Parallel()
+	ex, p := known.Kellogg()
+	for _, deg := range []int{1, 2} {
+		m, _ := mesh.Quadrants(2)
+		dofs, eff, dev := fluxRun(t, m, deg, ex, p, 60)
+		for i := range dofs {
+			t.Logf("P%d N=%6.0f eff %.4f dev %.2g", deg, dofs[i], eff[i], dev[i])
 		}
 	}
 }
