@@ -88,6 +88,8 @@ type FluxRecovery struct {
 	// Tol is the relative algebraic error at which the solve of the
 	// projection stops (see FluxRecovery); zero means 1e-2.
 	Tol float64
+
+	general bool // test hook: use the general element path for P1 too
 }
 
 var _ Estimator = FluxRecovery{}
@@ -191,7 +193,11 @@ func (fr FluxRecovery) project(dst *Indicators, u *fem.Function, p *fem.Problem)
 			}
 		}
 	}
-	if err := pr.elements(dst); err != nil {
+	elements := pr.elements
+	if k == 0 && !fr.general {
+		elements = pr.elementsP1
+	}
+	if err := elements(dst); err != nil {
 		return nil, FluxStats{}, err
 	}
 	if err := pr.neumann(); err != nil {
@@ -283,6 +289,77 @@ func (pr *projection) elements(dst *Indicators) error {
 			}
 			h := m.Diameter(t)
 			dst.Osc2[t] = h * h * oscillation(ev, orule, fq[:orule.Len()])
+		}
+		return nil
+	})
+}
+
+// elementsP1 is elements for P1 solutions (RT_0), in closed form. With
+// d = 2|T|, e_l = x_l − x_T (x_T the centroid), s_i the sign of edge i
+// (opposite vertex i) and |E_i| n_i its global normal times its length,
+//
+//	φ_i = s_i (x − x_i)/d,
+//	A_ij = s_i s_j/(2d) (e_i·a⁻¹e_j + Σ_l e_l·a⁻¹e_l / 12),
+//	c_i = −a∇u_h·n_i |E_i|,
+//
+// from ∫_T (x − x_T)(x − x_T)ᵀ = |T|/12 Σ_l e_l e_lᵀ.
+func (pr *projection) elementsP1(dst *Indicators) error {
+	m, p := pr.m, pr.p
+	var orule *quadrature.Triangle
+	if p.F != nil {
+		var err error
+		if orule, err = quadrature.ForTriangle(4); err != nil {
+			return err
+		}
+	}
+	x, tri, uu := m.X, m.Tri, pr.u.U
+	return parallel.For(m.NumTriangles(), 2048, func(lo, hi int) error {
+		for t := lo; t < hi; t++ {
+			v := tri[3*t : 3*t+3 : 3*t+3]
+			d, gx, gy := p1Grad(x, uu, v[0], v[1], v[2])
+			a := pr.rtab.At(m.Region[t])
+			ai := invTensor(a)
+			fx, fy := a.Apply(gx, gy)
+			xs, ys := corners(x, v)
+			cx, cy := (xs[0]+xs[1]+xs[2])/3, (ys[0]+ys[1]+ys[2])/3
+			var ex, ey, s, c [3]float64
+			sum := 0.0
+			for i := range 3 {
+				ex[i], ey[i] = xs[i]-cx, ys[i]-cy
+				ax, ay := ai.Apply(ex[i], ey[i])
+				sum += ex[i]*ax + ey[i]*ay
+				lo, hi := v[(i+1)%3], v[(i+2)%3]
+				s[i] = 1
+				if lo > hi {
+					s[i], lo, hi = -1, hi, lo
+				}
+				// |E| n_E = (Δy, −Δx) from the low to the high vertex.
+				c[i] = -(fx*(x[2*hi+1]-x[2*lo+1]) - fy*(x[2*hi]-x[2*lo]))
+			}
+			loc := pr.loc[12*t : 12*t+12 : 12*t+12]
+			for i := range 3 {
+				ax, ay := ai.Apply(ex[i], ey[i])
+				for j := i; j < 3; j++ {
+					aij := s[i] * s[j] / (2 * d) * (ax*ex[j] + ay*ey[j] + sum/12)
+					loc[3*i+j], loc[3*j+i] = aij, aij
+				}
+			}
+			loc[9], loc[10], loc[11] = c[0], c[1], c[2]
+			if orule == nil {
+				zero(dst.Osc2, t)
+				continue
+			}
+			var fq [quadrature.MaxTrianglePoints]float64
+			for q := range orule.Len() {
+				l0, l1, l2 := orule.Bary[3*q], orule.Bary[3*q+1], orule.Bary[3*q+2]
+				px, py := l0*xs[0]+l1*xs[1]+l2*xs[2], l0*ys[0]+l1*ys[1]+l2*ys[2]
+				fq[q] = p.F(px, py)
+				if math.IsNaN(fq[q]) || math.IsInf(fq[q], 0) {
+					return fmt.Errorf("estimate: FluxRecovery: triangle %d at (%g, %g): source f = %g: %w", t, px, py, fq[q], ErrNotFinite)
+				}
+			}
+			h := diameter(&xs, &ys)
+			dst.Osc2[t] = h * h * (oscP0(orule, fq[:orule.Len()]) * 0.5 * d)
 		}
 		return nil
 	})

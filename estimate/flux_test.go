@@ -2,6 +2,7 @@ package estimate
 
 import (
 	"math"
+	"math/rand/v2"
 	"testing"
 
 	"github.com/posteriori-fem/posteriori/fem"
@@ -128,5 +129,32 @@ func TestFluxKellogg(t *testing.T) {
 		for i := range dofs {
 			t.Logf("P%d N=%6.0f eff %.4f dev %.2g", deg, dofs[i], eff[i], dev[i])
 		}
+	}
+}
+
+// The closed-form P1 element path agrees with the general one (quadrature
+// and Cholesky) to rounding, on a jiggled mesh with four regions and an
+// anisotropic tensor, and the default stopping rule changes η by less than
+// Tol²/2 relative to a solve to the relative residual 1e-10 (the
+// algebraic error enters squared: see FluxRecovery).
+func TestFluxP1General(t *testing.T) {
+	t.Parallel()
+	ex, p := known.Kellogg()
+	p.A[2] = fem.Tensor{XX: 3, XY: 1, YY: 2}
+	r := rand.New(rand.NewPCG(1, 1))
+	m, _ := mesh.Quadrants(8)
+	m = jiggled(t, m, 1.0/8, r)
+	u, _, _ := run(t, m, 1, ex, p)
+	fast := estimateTotal(t, FluxRecovery{}, u, p)
+	gen := estimateTotal(t, FluxRecovery{general: true}, u, p)
+	// Arithmetic tolerance: rounding of the element matrices.
+	if err := agree(fast, gen, 1e-12); err != nil {
+		t.Error(err)
+	}
+	tight := estimateTotal(t, FluxRecovery{Tol: 1e-9}, u, p)
+	dev := math.Abs(fast.Total()/tight.Total() - 1)
+	t.Logf("η = %.6g, with a tight solve %.6g: relative change %.2g", fast.Total(), tight.Total(), dev)
+	if dev > defaultFluxTol*defaultFluxTol/2 {
+		t.Errorf("the default solve changes η by %.3g relative, more than Tol²/2 = %g", dev, defaultFluxTol*defaultFluxTol/2)
 	}
 }
