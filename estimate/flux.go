@@ -29,18 +29,29 @@ import (
 //
 //	η_T = ‖a^{−½}(σ + a∇u_h)‖_T.
 //
-// Unlike the gradient recovery of Recovery, σ is only required to have a
-// continuous normal component, as the exact flux −a∇u has, and not
+// Unlike a gradient recovered in a Lagrange space, σ is only required to
+// have a continuous normal component, as the exact flux −a∇u has, and not
 // continuous tangential components, which the exact flux does not have
-// across a jump of a: so the estimator does not see the jump of ∇u at an
-// interface as an error, and its effectivity does not depend on the
-// contrast of a (Cai and Zhang 2009, for RT_0 and P1; Cai, He and Zhang
-// 2017, for tensors a and RT_0 and RT_1 recoveries of P1 solutions).
+// across a jump of a: the estimator does not see the jump of ∇u at an
+// interface as an error, and its reliability and efficiency constants do
+// not depend on the contrast of a (Cai and Zhang 2009, RT_0 recovery of P1
+// solutions; Cai, He and Zhang 2017, full tensors a and RT_0 and RT_1
+// recoveries of P1 solutions, as their abstract states). The use of
+// RT_{p−1} for P2 is ours: it is the smallest RT space that holds −a∇u_h,
+// so the patch test holds. Cai, He and Zhang also add an element residual
+// of σ, h_T a_T^{−½} ‖f − ∇·σ‖_T (from memory), which this estimator leaves
+// out.
+//
+// Measured effectivity η/‖a^½∇(u − u_h)‖ (TestFluxKellogg, adaptive
+// Dörfler θ = 0.5 runs on the Kellogg checkerboard, contrast 161): P1
+// 0.57–0.65 over 60 steps to 8,500 DOFs, P2 0.43–0.53 over 60 steps to
+// 1,100 DOFs (gradient recovery: 0.29–0.43); on the smooth sine problem
+// under uniform refinement 1.11–1.15 (P1) and 0.84 (P2).
 //
 // Boundary: on the Neumann edges (tagged in Problem.Neumann, and the
 // untagged edges, where g_N = 0) the normal component is fixed, σ·n =
 // −Π_k g_N, the L² projection of the data onto P_k of the edge, as in the
-// space Σ_{g_N} of Cai and Zhang 2009 (from memory): the recovered flux then
+// space of Cai and Zhang 2009 (from memory): the recovered flux then
 // satisfies the boundary condition of the exact flux, and η sees where u_h
 // does not. On the Dirichlet edges σ·n is free.
 //
@@ -57,11 +68,32 @@ import (
 //
 //	‖a^{−½}(σ_j + a∇u_h)‖² = η² + ‖a^{−½}(σ_j − σ)‖²,
 //
-// so a relative algebraic error ε = ‖a^{−½}(σ_j − σ)‖/η changes the total
-// by about ε²/2 (the indicators η_T by up to about ε). CG stops when its
-// estimate of ‖a^{−½}(σ_j − σ)‖ (the delayed Hestenes–Stiefel sum of
-// sparse.CGSettings.EnergyTol) is at most Tol times the η of the local
-// guess, Tol = 1e-2 by default, or at the relative residual 1e-10.
+// so a relative algebraic error ε = ‖a^{−½}(σ_j − σ)‖/η raises the total
+// by about ε²/2 (the indicators η_T change by up to about ε). CG stops when
+// its estimate of ‖a^{−½}(σ_j − σ)‖ (the delayed Hestenes–Stiefel sum of
+// sparse.CGSettings.EnergyTol, a lower bound, from the fourth iteration on)
+// is at most Tol times the η of the local guess, Tol = 1e-2 by default, or
+// at the relative residual 1e-10. Measured against a solve to the relative
+// residual 1e-10 (the tests): the default changes the total by at most
+// 2e-8 relative on adaptive Kellogg meshes (P1 and P2), well inside the
+// Tol²/2 = 5e-5 the rule allows (4 to 7 iterations in
+// BenchmarkFluxRecovery).
+//
+// η_T is computed as δᵀ A_T δ, with A_T the element matrix and δ the
+// coefficients of σ + a∇u_h on T (−a∇u_h is in RT_k(T) for
+// piecewise-constant a). The element data are integrated in closed form
+// for P1 and by the Dunavant rule of degree 2k + 2 (exact) for P2.
+//
+// Cost, measured (BenchmarkFluxRecovery, the sine problem, uniform meshes,
+// 2 shared cores, go test ./estimate -bench BenchmarkFluxRecovery
+// -benchtime 2x): P1 860–980 ns per triangle at 1e4–1e6 triangles, about
+// 240 products with the P1 stiffness matrix of the same mesh (3.6 ns per
+// triangle at 1e6); P2 4,200–8,500 ns per triangle. About a quarter of the
+// P1 time is the source f at six points per triangle for the oscillation;
+// the rest is assembly of the sparse matrix (sorted rows), CG (4–7
+// iterations plus two residual products) and the element passes. Memory:
+// about 280 bytes per triangle for P1 (element data, matrix, CG vectors)
+// and 1,600 for P2, kept in dst's scratch except CG's vectors.
 //
 // The data oscillation is computed as by Residual and Osc2 holds it, by the
 // package convention. The reaction term c u is not part of the flux: with
