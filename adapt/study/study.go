@@ -34,13 +34,14 @@ type Estimator struct {
 }
 
 // Estimators returns the library's estimators in the order of the table:
-// residual, averaging, spr, equilibrated.
+// residual, averaging, spr, equilibrated, flux.
 func Estimators() []Estimator {
 	return []Estimator{
 		{"residual", "explicit residual estimator", estimate.Residual{}},
 		{"averaging", "gradient recovery by area-weighted averaging", estimate.Recovery{Method: estimate.Averaging}},
 		{"spr", "gradient recovery by superconvergent patch recovery", estimate.Recovery{Method: estimate.SPR}},
 		{"equilibrated", "equilibrated fluxes: a guaranteed upper bound", estimate.Equilibrated{}},
+		{"flux", "flux recovery in Raviart–Thomas fields (interface-robust)", estimate.FluxRecovery{}},
 	}
 }
 

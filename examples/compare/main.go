@@ -76,7 +76,7 @@
 // Usage:
 //
 //	go run ./examples/compare [-theta 0.5] [-max-dofs N] [-problems smooth,lshape,...]
-//	    [-estimators residual,averaging,spr,equilibrated] [-p 1,2] [-plot all|PROBLEM] [-out out/compare]
+//	    [-estimators residual,averaging,spr,equilibrated,flux] [-p 1,2] [-plot all|PROBLEM] [-out out/compare]
 //
 // Bad flag values print one line on standard error and exit with status 2,
 // writing nothing. All files are written atomically: a failed run never

@@ -37,7 +37,7 @@ func TestRunSmall(t *testing.T) {
 		t.Errorf("stderr: %s", stderr.String())
 	}
 
-	// results.csv: the documented header, 2 problems × 4 estimators × 2
+	// results.csv: the documented header, 2 problems × 5 estimators × 2
 	// degrees rows in table order, numbers that parse; the equilibrated
 	// bound's effectivity is at least 1 on every step (a theorem: see
 	// estimate.Equilibrated).
@@ -49,12 +49,12 @@ func TestRunSmall(t *testing.T) {
 		t.Errorf("results.csv header %q", got)
 	}
 	rows = rows[1:]
-	if len(rows) != 16 {
-		t.Fatalf("results.csv has %d rows, want 16", len(rows))
+	if len(rows) != 20 {
+		t.Fatalf("results.csv has %d rows, want 20", len(rows))
 	}
 	i := 0
 	for _, pr := range []string{"lshape", "kellogg"} {
-		for _, e := range []string{"residual", "averaging", "spr", "equilibrated"} {
+		for _, e := range []string{"residual", "averaging", "spr", "equilibrated", "flux"} {
 			for _, p := range []string{"1", "2"} {
 				r := rows[i]
 				i++
@@ -98,8 +98,8 @@ func TestRunSmall(t *testing.T) {
 	if got := strings.Join(steps[0], ","); got != "problem,estimator,p,step,dofs,estimate,error,effectivity" {
 		t.Errorf("steps.csv header %q", got)
 	}
-	if len(steps)-1 < 16 {
-		t.Fatalf("steps.csv has %d rows, want at least 16", len(steps)-1)
+	if len(steps)-1 < 20 {
+		t.Fatalf("steps.csv has %d rows, want at least 20", len(steps)-1)
 	}
 	count := map[string]int{}
 	for k, r := range steps[1:] {
@@ -159,7 +159,7 @@ func TestRunSmall(t *testing.T) {
 		t.Errorf("output folder holds %v, want %v", names, want)
 	}
 
-	// The table: a header and 16 rows, columns aligned (all lines equally
+	// The table: a header and 20 rows, columns aligned (all lines equally
 	// wide, since the last column is right-aligned).
 	var table []string
 	for _, l := range strings.Split(stdout.String(), "\n") {
@@ -167,8 +167,8 @@ func TestRunSmall(t *testing.T) {
 			table = append(table, l)
 		}
 	}
-	if len(table) != 17 {
-		t.Fatalf("table has %d lines, want 17:\n%s", len(table), stdout.String())
+	if len(table) != 21 {
+		t.Fatalf("table has %d lines, want 21:\n%s", len(table), stdout.String())
 	}
 	for _, l := range table[1:] {
 		if utf8.RuneCountInString(l) != utf8.RuneCountInString(table[0]) {

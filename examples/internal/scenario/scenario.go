@@ -59,6 +59,8 @@ var Estimators = map[string]estimate.Estimator{
 	"patch":    estimate.Recovery{Method: estimate.SPR},
 	// The guaranteed upper bound (estimate.Equilibrated).
 	"equilibrated": estimate.Equilibrated{},
+	// Interface-robust flux recovery in Raviart–Thomas fields (estimate.FluxRecovery).
+	"flux": estimate.FluxRecovery{},
 }
 
 // estimatorNames returns the -estimator flag's values, sorted, as a list
