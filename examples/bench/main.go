@@ -44,6 +44,7 @@ import (
 	"io"
 	"math"
 	"os"
+	"path/filepath"
 	"runtime"
 	"runtime/metrics"
 	"strconv"
@@ -52,6 +53,7 @@ import (
 
 	"github.com/posteriori-fem/posteriori/adapt"
 	"github.com/posteriori-fem/posteriori/estimate"
+	"github.com/posteriori-fem/posteriori/examples/internal/cli"
 	"github.com/posteriori-fem/posteriori/fem"
 	"github.com/posteriori-fem/posteriori/fem/known"
 	"github.com/posteriori-fem/posteriori/mesh"
@@ -72,11 +74,15 @@ type Row struct {
 
 func run(args []string, stdout, stderr io.Writer) int {
 	fs := flag.NewFlagSet("bench", flag.ContinueOnError)
-	fs.SetOutput(io.Discard)
-	sizes := fs.String("sizes", "10000,100000,1000000", "comma-separated P1 unknowns")
+	sizes := fs.String("sizes", "10000,100000,1000000", "comma-separated P1 unknowns, whole numbers from 100 to 2e7")
 	reps := fs.Int("reps", 3, "repetitions per stage (the best is kept), 1 to 100")
 	csvPath := fs.String("csv", "", "also write the table as CSV to this file")
-	if err := fs.Parse(args); err != nil {
+	about := "Stage costs of the adaptive loop (assembly, solve, estimators, marking, refinement) in units of one\n" +
+		"sparse matrix-vector product (SpMV) of the same mesh, and peak memory, by size."
+	if err := cli.Parse(fs, args, "bench [flags]", about, stdout); err != nil {
+		if errors.Is(err, cli.ErrHelp) {
+			return 0
+		}
 		fmt.Fprintln(stderr, "bench:", err)
 		return 2
 	}
@@ -92,6 +98,13 @@ func run(args []string, stdout, stderr io.Writer) int {
 	if *reps < 1 || *reps > 100 {
 		fmt.Fprintf(stderr, "bench: -reps %d: want 1 to 100\n", *reps)
 		return 2
+	}
+	if *csvPath != "" {
+		// The file's folder is checked before the measurements.
+		if err := cli.CheckOut(filepath.Dir(*csvPath)); err != nil {
+			fmt.Fprintln(stderr, "bench: -csv:", err)
+			return 2
+		}
 	}
 	fmt.Fprintf(stdout, "stage costs in units of one SpMV of the same mesh; %d cores (GOMAXPROCS %d), %s\n", runtime.NumCPU(), runtime.GOMAXPROCS(0), runtime.Version())
 	fmt.Fprintf(stdout, "%-12s %9s %11s %14s %9s\n", "stage", "size", "time", "per element", "SpMV")

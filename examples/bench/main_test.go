@@ -2,8 +2,11 @@ package main
 
 import (
 	"bytes"
+	"io"
+	"os"
 	"path/filepath"
 	"strconv"
+	"strings"
 	"testing"
 
 	"github.com/posteriori-fem/posteriori/examples/internal/scenario"
@@ -45,10 +48,16 @@ func TestRunSmall(t *testing.T) {
 
 func TestBadFlags(t *testing.T) {
 	t.Parallel()
-	for _, args := range [][]string{{"-sizes", "10"}, {"-sizes", "1e4,x"}, {"-reps", "0"}, {"-nope"}} {
+	file := filepath.Join(t.TempDir(), "file")
+	if err := os.WriteFile(file, nil, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	for _, args := range [][]string{{"-sizes", "10"}, {"-sizes", "1e4,x"}, {"-reps", "0"}, {"-nope"}, {"extra"},
+		{"-sizes", "100", "-csv", filepath.Join(file, "t.csv")}} {
 		var out, errs bytes.Buffer
-		if code := run(args, &out, &errs); code != 2 {
-			t.Errorf("%v: exit %d, want 2", args, code)
+		if code := run(args, &out, &errs); code != 2 || out.Len() != 0 || strings.Count(strings.TrimRight(errs.String(), "\n"), "\n") != 0 {
+			t.Errorf("%v: exit %d, stdout %q, stderr %q; want 2, nothing, one line", args, code, out.String(), errs.String())
 		}
 	}
+	scenario.CheckHelp(t, func(args []string, o, e io.Writer) int { return run(args, o, e) }, "sizes", "reps", "csv")
 }

@@ -98,6 +98,7 @@ import (
 	"time"
 
 	"github.com/posteriori-fem/posteriori/adapt/study"
+	"github.com/posteriori-fem/posteriori/examples/internal/cli"
 	"github.com/posteriori-fem/posteriori/fem/known"
 
 	"github.com/posteriori-fem/posteriori/mesh"
@@ -115,8 +116,8 @@ func main() {
 // exit status: 0 on success, 1 when a run or a write fails, 2 for bad
 // arguments.
 func run(stdout, stderr io.Writer, args []string) int {
-	c, out, plotWhich, err := parseArgs(stderr, args)
-	if errors.Is(err, flag.ErrHelp) {
+	c, out, plotWhich, err := parseArgs(stdout, args)
+	if errors.Is(err, cli.ErrHelp) {
 		return 0
 	}
 	if err != nil {
@@ -142,51 +143,36 @@ func run(stdout, stderr io.Writer, args []string) int {
 	return 0
 }
 
-// parseArgs parses and checks the arguments. For -h it prints the usage
-// on stderr and returns flag.ErrHelp; other errors are for the caller to
-// print.
-func parseArgs(stderr io.Writer, args []string) (c study.Config, out, plotWhich string, err error) {
+// parseArgs parses and checks the arguments and makes the output folder.
+// For -h it prints the usage on stdout and returns cli.ErrHelp; other
+// errors are for the caller to print.
+func parseArgs(stdout io.Writer, args []string) (c study.Config, out, plotWhich string, err error) {
 	fs := flag.NewFlagSet("compare", flag.ContinueOnError)
-	fs.SetOutput(io.Discard) // a parse error is returned and printed as one line
-	theta := fs.Float64("theta", 0.5, "Dörfler marking parameter θ in (0, 1]")
-	maxDOFs := fs.Int("max-dofs", defaultMaxDOFs, "DOF budget of each run, at least 100")
+	theta := fs.Float64("theta", 0.5, "Dörfler marking parameter θ, in (0, 1]")
+	maxDOFs := fs.Int("max-dofs", defaultMaxDOFs, cli.BudgetHelp+", per run")
 	probs := fs.String("problems", names(known.Suite(), func(p known.Case) string { return p.Name }), "problems to run, comma-separated")
 	ests := fs.String("estimators", names(study.Estimators(), func(e study.Estimator) string { return e.Name }), "estimators to run, comma-separated")
 	ps := fs.String("p", "1,2", "polynomial degrees to run, comma-separated, 1 or 2")
 	fs.StringVar(&plotWhich, "plot", "all", `problem drawn in effectivity.svg, or "all" for one panel per problem`)
-	fs.StringVar(&out, "out", filepath.Join("out", "compare"), "output folder")
-	fs.Usage = func() {
-		fmt.Fprintln(fs.Output(), "usage: compare [flags]\n\nThe effectivity study of the error estimators on model problems with known solutions.")
-		fmt.Fprintln(fs.Output(), "\nproblems:")
-		for _, p := range known.Suite() {
-			fmt.Fprintf(fs.Output(), "  %-8s %s\n", p.Name, p.About)
-		}
-		fmt.Fprintln(fs.Output(), "estimators:")
-		for _, e := range study.Estimators() {
-			fmt.Fprintf(fs.Output(), "  %-9s %s\n", e.Name, e.About)
-		}
-		fmt.Fprintln(fs.Output(), "\nflags:")
-		fs.PrintDefaults()
+	fs.StringVar(&out, "out", filepath.Join("out", "compare"), "output folder (created if missing)")
+	var about strings.Builder
+	about.WriteString("The effectivity study of the error estimators on model problems with known solutions.\n\nproblems:\n")
+	for _, p := range known.Suite() {
+		fmt.Fprintf(&about, "  %-8s %s\n", p.Name, p.About)
 	}
-	usage := fs.Usage
-	fs.Usage = func() {}
-	if err := fs.Parse(args); err != nil {
-		if errors.Is(err, flag.ErrHelp) {
-			fs.SetOutput(stderr)
-			usage()
-			return c, "", "", err
-		}
-		return c, "", "", fmt.Errorf("%v (see -h)", err)
+	about.WriteString("estimators:\n")
+	for _, e := range study.Estimators() {
+		fmt.Fprintf(&about, "  %-12s %s\n", e.Name, e.About)
 	}
-	if fs.NArg() > 0 {
-		return c, "", "", fmt.Errorf("unexpected argument %q", fs.Arg(0))
+	if err := cli.Parse(fs, args, "compare [flags]", about.String(), stdout); err != nil {
+		return c, "", "", err
 	}
 	c.Theta, c.MaxDOFs = *theta, *maxDOFs
 	if !(c.Theta > 0 && c.Theta <= 1) {
 		return c, "", "", fmt.Errorf("-theta %g: want 0 < θ ≤ 1", c.Theta)
 	}
-	if c.MaxDOFs < 100 {
-		return c, "", "", fmt.Errorf("-max-dofs %d: want at least 100", c.MaxDOFs)
+	if err := cli.Budget(c.MaxDOFs); err != nil {
+		return c, "", "", err
 	}
 	if c.Cases, err = pick("-problems", *probs, known.Suite(), func(p known.Case) string { return p.Name }); err != nil {
 		return c, "", "", err
@@ -202,8 +188,8 @@ func parseArgs(stderr io.Writer, args []string) (c study.Config, out, plotWhich 
 			return c, "", "", fmt.Errorf("-plot %q: want \"all\" or one of the problems run (%s)", plotWhich, names(c.Cases, func(p known.Case) string { return p.Name }))
 		}
 	}
-	if out == "" {
-		return c, "", "", errors.New("-out: empty folder name")
+	if err := cli.CheckOut(out); err != nil {
+		return c, "", "", err
 	}
 	return c, out, plotWhich, nil
 }

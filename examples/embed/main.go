@@ -43,6 +43,7 @@ import (
 
 	"github.com/posteriori-fem/posteriori/adapt"
 	"github.com/posteriori-fem/posteriori/estimate"
+	"github.com/posteriori-fem/posteriori/examples/internal/cli"
 	"github.com/posteriori-fem/posteriori/fem"
 	"github.com/posteriori-fem/posteriori/fem/known"
 	"github.com/posteriori-fem/posteriori/mesh"
@@ -57,27 +58,21 @@ func main() {
 // bad arguments.
 func run(stdout, stderr io.Writer, args []string) int {
 	fs := flag.NewFlagSet("embed", flag.ContinueOnError)
-	fs.SetOutput(io.Discard) // errors are reported below, on one line
-	maxDOFs := fs.Int("max-dofs", 20000, "DOF budget of the adaptive loop, 100 to 2000000")
+	maxDOFs := fs.Int("max-dofs", 20000, cli.BudgetHelp)
 	theta := fs.Float64("theta", 0.5, "Dörfler marking parameter θ, in (0, 1]")
-	if err := fs.Parse(args); err != nil {
-		if errors.Is(err, flag.ErrHelp) {
-			fs.SetOutput(stderr)
-			fmt.Fprintln(stderr, "usage: embed [-max-dofs N] [-theta θ]")
-			fs.PrintDefaults()
+	about := "Seepage under a dam by a caller's own P1 solver plugged into the adaptive loop."
+	if err := cli.Parse(fs, args, "embed [flags]", about, stdout); err != nil {
+		if errors.Is(err, cli.ErrHelp) {
 			return 0
 		}
 		fmt.Fprintln(stderr, "embed:", err)
 		return 2
 	}
-	switch {
-	case fs.NArg() > 0:
-		fmt.Fprintf(stderr, "embed: unexpected argument %q\n", fs.Arg(0))
+	if err := cli.Budget(*maxDOFs); err != nil {
+		fmt.Fprintln(stderr, "embed:", err)
 		return 2
-	case *maxDOFs < 100 || *maxDOFs > 2000000:
-		fmt.Fprintf(stderr, "embed: -max-dofs %d: want 100 to 2000000\n", *maxDOFs)
-		return 2
-	case !(*theta > 0 && *theta <= 1): // also rejects NaN
+	}
+	if !(*theta > 0 && *theta <= 1) { // also rejects NaN
 		fmt.Fprintf(stderr, "embed: -theta %g: want 0 < θ ≤ 1\n", *theta)
 		return 2
 	}

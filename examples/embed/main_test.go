@@ -2,11 +2,13 @@ package main
 
 import (
 	"bytes"
+	"io"
 	"math"
 	"strconv"
 	"strings"
 	"testing"
 
+	"github.com/posteriori-fem/posteriori/examples/internal/scenario"
 	"github.com/posteriori-fem/posteriori/fem"
 	"github.com/posteriori-fem/posteriori/fem/known"
 	"github.com/posteriori-fem/posteriori/mesh"
@@ -172,7 +174,8 @@ func TestBadFlags(t *testing.T) {
 		{"-theta", "2"},
 		{"-theta", "NaN"},
 		{"-max-dofs", "5"},
-		{"-max-dofs", "3000000"},
+		{"-max-dofs", "49"},
+		{"-max-dofs", "4000001"},
 		{"-bogus"},
 		{"extra"},
 	} {
@@ -187,4 +190,5 @@ func TestBadFlags(t *testing.T) {
 			t.Errorf("%q: stdout %q, want nothing", args, out.String())
 		}
 	}
+	scenario.CheckHelp(t, func(args []string, o, e io.Writer) int { return run(o, e, args) }, "max-dofs", "theta")
 }

@@ -11,7 +11,7 @@
 //
 // Usage:
 //
-//	go run ./examples/kellogg [-p 1|2] [-estimator residual|average|patch|equilibrated|flux]
+//	go run ./examples/kellogg [-p 1|2] [-estimator residual|averaging|spr|equilibrated|flux]
 //	    [-theta 0.5] [-max-dofs 20000] [-tol 0] [-out out/kellogg] [-uniform]
 //
 // The estimate measures discretization error only, not modelling error;

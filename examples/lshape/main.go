@@ -19,7 +19,7 @@
 //
 // Usage:
 //
-//	go run ./examples/lshape [-p 1|2] [-estimator residual|average|patch|equilibrated|flux]
+//	go run ./examples/lshape [-p 1|2] [-estimator residual|averaging|spr|equilibrated|flux]
 //	    [-theta 0.5] [-max-dofs 40000] [-tol 0] [-out out/lshape] [-uniform]
 //
 // The estimate measures discretization error only, not modelling error;

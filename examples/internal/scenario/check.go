@@ -23,8 +23,10 @@ type Command func(args []string, stdout, stderr io.Writer) int
 
 // CheckCommand is the shared test of the examples built on Scenario: small
 // runs write files that Verify accepts, with one printed row per recorded
-// step, and bad flags exit with status 2, one line on stderr and nothing
-// written.
+// step; -h, -help and --help print the usage with every flag to stdout
+// and exit 0; bad flags exit with status 2, one line on stderr and nothing
+// written; an output folder that cannot be made fails the same way,
+// before any computation.
 //
 // t is a *testing.T; the interface keeps package testing out of the
 // examples' binaries.
@@ -32,8 +34,8 @@ func CheckCommand(t TB, run Command) {
 	t.Helper()
 	for _, args := range [][]string{
 		{"-max-dofs", "400"},
-		{"-max-dofs", "400", "-p", "2", "-estimator", "patch"},
-		{"-max-dofs", "300", "-uniform", "-estimator", "average"},
+		{"-max-dofs", "400", "-p", "2", "-estimator", "spr"},
+		{"-max-dofs", "300", "-uniform", "-estimator", "averaging"},
 	} {
 		dir := filepath.Join(t.TempDir(), "out")
 		var out, errs bytes.Buffer
@@ -74,6 +76,38 @@ func CheckCommand(t TB, run Command) {
 		}
 		if _, err := os.Stat(dir); !os.IsNotExist(err) {
 			t.Errorf("%v: the output folder was created", args)
+		}
+	}
+	// An output folder under a regular file cannot be made: the run stops
+	// at once, with one line and status 2, and prints no step.
+	file := filepath.Join(t.TempDir(), "file")
+	if err := os.WriteFile(file, nil, 0o644); err != nil {
+		t.Fatalf("%v", err)
+	}
+	var out, errs bytes.Buffer
+	if code := run([]string{"-out", filepath.Join(file, "out")}, &out, &errs); code != 2 || out.Len() != 0 ||
+		strings.Count(strings.TrimRight(errs.String(), "\n"), "\n") != 0 {
+		t.Errorf("-out under a file: exit %d, stdout %q, stderr %q; want 2, nothing, one line", code, out.String(), errs.String())
+	}
+	CheckHelp(t, run, "p", "estimator", "theta", "max-dofs", "tol", "out", "uniform")
+}
+
+// CheckHelp checks that -h, -help and --help print a usage that lists
+// every flag in flags to stdout, write nothing to stderr, and exit 0.
+func CheckHelp(t TB, run Command, flags ...string) {
+	t.Helper()
+	for _, h := range []string{"-h", "-help", "--help"} {
+		var out, errs bytes.Buffer
+		if code := run([]string{h}, &out, &errs); code != 0 || errs.Len() != 0 {
+			t.Errorf("%s: exit %d, stderr %q; want 0 and nothing", h, code, errs.String())
+		}
+		if !strings.HasPrefix(out.String(), "usage: ") {
+			t.Errorf("%s: stdout does not start with the usage line: %q", h, out.String())
+		}
+		for _, f := range flags {
+			if !strings.Contains(out.String(), "\n  -"+f+" ") && !strings.Contains(out.String(), "\n  -"+f+"\n") {
+				t.Errorf("%s: usage does not list -%s:\n%s", h, f, out.String())
+			}
 		}
 	}
 }

@@ -9,16 +9,16 @@ import (
 	"flag"
 	"fmt"
 	"io"
-	"maps"
 	"math"
 	"os"
 	"path/filepath"
-	"slices"
 	"strings"
 	"time"
 
 	"github.com/posteriori-fem/posteriori/adapt"
+	"github.com/posteriori-fem/posteriori/adapt/study"
 	"github.com/posteriori-fem/posteriori/estimate"
+	"github.com/posteriori-fem/posteriori/examples/internal/cli"
 	"github.com/posteriori-fem/posteriori/fem"
 	"github.com/posteriori-fem/posteriori/mesh"
 )
@@ -52,60 +52,71 @@ type Options struct {
 	Uniform   bool
 }
 
-// Estimators maps the -estimator flag's values to estimators.
-var Estimators = map[string]estimate.Estimator{
-	"residual": estimate.Residual{},
-	"average":  estimate.Recovery{Method: estimate.Averaging},
-	"patch":    estimate.Recovery{Method: estimate.SPR},
-	// The guaranteed upper bound (estimate.Equilibrated).
-	"equilibrated": estimate.Equilibrated{},
-	// Interface-robust flux recovery in Raviart–Thomas fields (estimate.FluxRecovery).
-	"flux": estimate.FluxRecovery{},
-}
+// Estimators maps the -estimator flag's values to estimators: the names
+// and estimators of the effectivity study (adapt/study), shared by every
+// example.
+var Estimators = func() map[string]estimate.Estimator {
+	m := map[string]estimate.Estimator{}
+	for _, e := range study.Estimators() {
+		m[e.Name] = e.Est
+	}
+	return m
+}()
 
-// estimatorNames returns the -estimator flag's values, sorted, as a list
-// for messages.
+// estimatorNames returns the -estimator flag's values in the study's
+// order, as a list for messages.
 func estimatorNames() string {
-	names := slices.Sorted(maps.Keys(Estimators))
+	var names []string
+	for _, e := range study.Estimators() {
+		names = append(names, e.Name)
+	}
 	return strings.Join(names[:len(names)-1], ", ") + " or " + names[len(names)-1]
 }
 
 // errUsage marks a bad command line: exit status 2.
 var errUsage = errors.New("usage")
 
-// Parse parses and checks the flags. Errors are one line and wrap errUsage.
-func (sc *Scenario) Parse(args []string) (Options, error) {
+// Parse parses and checks the flags and the output folder (which it
+// creates, so that a run that could not write its results fails before
+// computing them). Errors are one line and wrap errUsage. Asked for help,
+// it prints the usage to stdout and returns cli.ErrHelp.
+func (sc *Scenario) Parse(args []string, stdout io.Writer) (Options, error) {
 	var o Options
 	fs := flag.NewFlagSet(sc.Name, flag.ContinueOnError)
-	fs.SetOutput(io.Discard)
 	fs.IntVar(&o.Degree, "p", 1, "polynomial degree, 1 or 2")
-	fs.StringVar(&o.Estimator, "estimator", "residual", estimatorNames())
-	fs.Float64Var(&o.Theta, "theta", 0.5, "Dörfler marking parameter in (0, 1]")
-	fs.IntVar(&o.MaxDOFs, "max-dofs", sc.MaxDOFs, "DOF budget, 50 to 4000000")
-	fs.Float64Var(&o.Tol, "tol", 0, "stop when the estimate is below this (0: no tolerance)")
-	fs.StringVar(&o.Out, "out", sc.DefaultOut, "folder for the output files")
+	fs.StringVar(&o.Estimator, "estimator", "residual", "error estimator: "+estimatorNames())
+	fs.Float64Var(&o.Theta, "theta", 0.5, "Dörfler marking parameter, in (0, 1]")
+	fs.IntVar(&o.MaxDOFs, "max-dofs", sc.MaxDOFs, cli.BudgetHelp)
+	fs.Float64Var(&o.Tol, "tol", 0, "stop when the estimate is at most this, a finite value ≥ 0 (0: no tolerance)")
+	fs.StringVar(&o.Out, "out", sc.DefaultOut, "folder for the output files (created if missing)")
 	fs.BoolVar(&o.Uniform, "uniform", false, "refine uniformly instead of adaptively")
 	bad := func(format string, a ...any) (Options, error) {
 		return o, fmt.Errorf("%w: %s: %s", errUsage, sc.Name, fmt.Sprintf(format, a...))
 	}
-	if err := fs.Parse(args); err != nil {
+	about := sc.Title + ".\nRuns the adaptive loop and, for comparison, uniform refinement; prints one row per step\n" +
+		"with the true error beside the estimate; writes the step records, the final mesh and pictures into -out.\n" +
+		"The estimate measures discretization error only, not modelling error."
+	if err := cli.Parse(fs, args, sc.Name+" [flags]", about, stdout); err != nil {
+		if errors.Is(err, cli.ErrHelp) {
+			return o, err
+		}
 		return bad("%v", err)
 	}
+	budget := cli.Budget(o.MaxDOFs)
 	switch {
-	case fs.NArg() > 0:
-		return bad("unexpected argument %q", fs.Arg(0))
 	case o.Degree != 1 && o.Degree != 2:
 		return bad("-p %d: want 1 or 2", o.Degree)
 	case Estimators[o.Estimator] == nil:
 		return bad("-estimator %q: want %s", o.Estimator, estimatorNames())
 	case !(o.Theta > 0 && o.Theta <= 1):
 		return bad("-theta %g: want a value in (0, 1]", o.Theta)
-	case o.MaxDOFs < 50 || o.MaxDOFs > 4000000:
-		return bad("-max-dofs %d: want 50 to 4000000", o.MaxDOFs)
+	case budget != nil:
+		return bad("%v", budget)
 	case !(o.Tol >= 0) || math.IsInf(o.Tol, 0):
 		return bad("-tol %g: want a finite value ≥ 0", o.Tol)
-	case strings.TrimSpace(o.Out) == "":
-		return bad("-out: empty folder name")
+	}
+	if err := cli.CheckOut(o.Out); err != nil {
+		return bad("%v", err)
 	}
 	return o, nil
 }
@@ -114,7 +125,10 @@ func (sc *Scenario) Parse(args []string) (Options, error) {
 // exit status: 0, 1 for a failed computation, 2 for a bad command line (in
 // which case nothing is written).
 func (sc *Scenario) Main(args []string, stdout, stderr io.Writer) int {
-	o, err := sc.Parse(args)
+	o, err := sc.Parse(args, stdout)
+	if errors.Is(err, cli.ErrHelp) {
+		return 0
+	}
 	if err != nil {
 		fmt.Fprintln(stderr, strings.TrimPrefix(err.Error(), "usage: "))
 		return 2
