@@ -149,6 +149,8 @@ type Equilibrated struct {
 	// from the bounding box when every boundary edge is a Dirichlet edge,
 	// else unknown.
 	Friedrichs float64
+
+	generalOnly bool // tests: skip the fast paths
 }
 
 var _ Estimator = Equilibrated{}
@@ -222,6 +224,9 @@ type equilibration struct {
 	sig    []float64 // per triangle, per local vertex slot: the local coefficients of σ_a
 	vstart []int32
 	vtri   []int32
+	// terms writes the terms of one triangle (see termCount).
+	terms func(tw *termWork, t int, v []float64) error
+	tdat  []float64 // fast path: per-triangle data (see solveP1)
 }
 
 func (q Equilibrated) equilibrate(u *fem.Function, p *fem.Problem) (*equilibration, error) {
@@ -265,16 +270,50 @@ func (q Equilibrated) equilibrate(u *fem.Function, p *fem.Problem) (*equilibrati
 			eq.free[m.Edge[2*e+1]] = false
 		}
 	}
-	if err := eq.triangleData(); err != nil {
+	eq.vstart, eq.vtri = m.VertexTriangles()
+	if err := eq.dispatch(); err != nil {
 		return nil, err
+	}
+	return eq, nil
+}
+
+// dispatch solves the patch problems and sets the terms of the
+// indicators, by the path that serves the equilibration.
+//
+// Fast paths for special cases; if none of them applies, the general but
+// slower implementation:
+//
+//   - P1 (solveP1, equilibrated_p1.go): every patch problem is reduced to
+//     a symmetric positive definite system of about n + 1 unknowns for n
+//     triangles around the vertex, with closed-form element matrices from
+//     reference tables; the path declines a mesh in which the triangles
+//     of some vertex do not form one fan (a vertex where two pieces touch),
+//     which then takes the general path.
+//   - otherwise (P2, and Equilibrated.generalOnly) the general path
+//     (solveGeneral): dense saddle-point systems assembled by quadrature.
+func (eq *equilibration) dispatch() error {
+	if eq.k == 1 && !eq.q.generalOnly {
+		if err := eq.solveP1(); err != errNotFan {
+			return err
+		}
+	}
+	return eq.solveGeneral()
+}
+
+// solveGeneral is the general path of dispatch, and the reference against
+// which the fast path is tested: the data by quadrature, and each patch
+// problem as a dense saddle-point system solved by LU factorisation.
+func (eq *equilibration) solveGeneral() error {
+	if err := eq.triangleData(); err != nil {
+		return err
 	}
 	if err := eq.neumannData(); err != nil {
-		return nil, err
+		return err
 	}
-	eq.vstart, eq.vtri = m.VertexTriangles()
 	eq.vertexResiduals()
-	eq.sig = make([]float64, 3*nt*eq.nloc)
-	err = parallel.For(nv, 64, func(lo, hi int) error {
+	eq.sig = make([]float64, 3*eq.m.NumTriangles()*eq.nloc)
+	eq.terms = (*termWork).triangle
+	return parallel.For(eq.m.NumVertices(), 64, func(lo, hi int) error {
 		w := newPatchWork(eq)
 		for a := lo; a < hi; a++ {
 			if err := w.solve(a); err != nil {
@@ -283,10 +322,6 @@ func (q Equilibrated) equilibrate(u *fem.Function, p *fem.Problem) (*equilibrati
 		}
 		return nil
 	})
-	if err != nil {
-		return nil, err
-	}
-	return eq, nil
 }
 
 // triangleData evaluates f at the rule's points, the diffusion, and the

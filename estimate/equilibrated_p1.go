@@ -1,0 +1,259 @@
+package estimate
+
+import (
+	"errors"
+	"fmt"
+	"math"
+
+	"github.com/posteriori-fem/posteriori/fem"
+	"github.com/posteriori-fem/posteriori/internal/parallel"
+	"github.com/posteriori-fem/posteriori/internal/quadrature"
+)
+
+// errNotFan is returned by solveP1 when the triangles of a vertex do not
+// form one fan; dispatch then takes the general path.
+var errNotFan = errors.New("estimate: a vertex patch is not one fan")
+
+// p1Stride is the number of float64s solveP1 keeps per triangle in
+// equilibration.tdat: ∫_T f λ_i λ_j by the rule for (i, j) = (0, 0),
+// (0, 1), (0, 2), (1, 1), (1, 2), (2, 2), then ‖f − Π_1 f‖²_T and
+// ‖f − Π_0 f‖²_T.
+const p1Stride = 8
+
+// symIndex[i][j] is the index of ∫_T f λ_i λ_j in a triangle's tdat.
+var symIndex = [3][3]int{{0, 1, 2}, {1, 3, 4}, {2, 4, 5}}
+
+// solveP1 is the P1 path of dispatch. It computes the same σ_h as
+// solveGeneral, up to rounding, since each patch problem is a strictly
+// convex minimisation with a unique minimiser. The data are the same (f at
+// the points of the same rule); the polynomial parts of the divergence
+// data are integrated in closed form. On the patch ω_a of n triangles,
+// every admissible τ is σ_p + curl ζ, with σ_p ∈ RT_1(ω_a) one field with
+// the prescribed divergence and normal components, and ζ ∈ P_2(ω_a)
+// continuous and zero on the part of ∂ω_a where τ·n is prescribed (the
+// divergence-free fields of RT_1 on a disc are the curls of P_2, and
+// curl ζ·n is the tangential derivative of ζ). σ_p has zero first moments
+// on the free edges, edge means found by one sweep around the fan (each
+// triangle fixes the flux through its second edge at the vertex), and
+// interior DOFs from the linear part of the divergence. The correction ζ
+// minimises the same functional,
+//
+//	K ζ = −Σ_T C_Tᵀ M_T (σ_p + ψ_a a∇u_h)_T,   K = Σ_T C_Tᵀ M_T C_T,
+//
+// with M_T the weighted RT_1 mass matrix and C_T the DOFs of the curls of
+// the P2 basis functions, both from the reference tables of rt1Reference;
+// K is symmetric positive definite of order n + 1 (interior vertex) or
+// less, factorised by Cholesky. The indicators' flux term is the quadratic
+// form of M_T in closed form.
+func (eq *equilibration) solveP1() error {
+	m := eq.m
+	nt := m.NumTriangles()
+	eq.tdat = make([]float64, p1Stride*nt)
+	eq.rt3 = make([]float64, 3*nt)
+	if err := eq.trianglesP1(); err != nil {
+		return err
+	}
+	if err := eq.neumannData(); err != nil {
+		return err
+	}
+	eq.vertexResiduals()
+	eq.sig = make([]float64, 3*nt*eq.nloc)
+	eq.terms = (*termWork).triangleP1
+	ref := rt1Ref()
+	return parallel.For(m.NumVertices(), 64, func(lo, hi int) error {
+		w := &p1Patch{eq: eq, ref: ref}
+		for a := lo; a < hi; a++ {
+			if err := w.solve(a); err != nil {
+				return err
+			}
+		}
+		return nil
+	})
+}
+
+// p1Triangle is the geometry and flux of one triangle of a P1 function.
+type p1Triangle struct {
+	area  float64
+	gs    [3]float64    // G₀₀, G₁₁, G₀₁ of G = Jᵀ a⁻¹ J, divided by det J
+	what  [2]float64    // ŵ = adj(J) a∇u_h
+	kappa [3]float64    // a∇u_h·∇λ_i
+	u     [3]float64    // nodal values
+	sign  [3]float64    // RTSpace.Sign of the three edges
+	grad  [3][2]float64 // ∇λ_i
+}
+
+// load fills g for triangle t.
+func (g *p1Triangle) load(eq *equilibration, t int) {
+	m := eq.m
+	x, tri := m.X, m.Tri[3*t:3*t+3:3*t+3]
+	x0, y0 := x[2*tri[0]], x[2*tri[0]+1]
+	j00, j10 := x[2*tri[1]]-x0, x[2*tri[1]+1]-y0
+	j01, j11 := x[2*tri[2]]-x0, x[2*tri[2]+1]-y0
+	d := j00*j11 - j10*j01
+	g.area = 0.5 * d
+	for i := range 3 {
+		g.u[i] = eq.u.U[tri[i]]
+		b, c := tri[(i+1)%3], tri[(i+2)%3]
+		g.grad[i] = [2]float64{(x[2*b+1] - x[2*c+1]) / d, (x[2*c] - x[2*b]) / d}
+		g.sign[i] = 1
+		if b > c {
+			g.sign[i] = -1
+		}
+	}
+	du1, du2 := g.u[1]-g.u[0], g.u[2]-g.u[0]
+	gx, gy := (j11*du1-j10*du2)/d, (j00*du2-j01*du1)/d
+	a := eq.diff[t]
+	wx, wy := a.Apply(gx, gy)
+	for i := range 3 {
+		g.kappa[i] = wx*g.grad[i][0] + wy*g.grad[i][1]
+	}
+	g.what = [2]float64{j11*wx - j01*wy, -j10*wx + j00*wy}
+	// a⁻¹ = [[YY, −XY], [−XY, XX]] / det a.
+	da := a.XX*a.YY - a.XY*a.XY
+	ixx, ixy, iyy := a.YY/da, -a.XY/da, a.XX/da
+	q := func(ux, uy, vx, vy float64) float64 { return ux*(ixx*vx+ixy*vy) + uy*(ixy*vx+iyy*vy) }
+	g.gs = [3]float64{q(j00, j10, j00, j10) / d, q(j01, j11, j01, j11) / d, q(j00, j10, j01, j11) / d}
+}
+
+// trianglesP1 stores the diffusion, the moments of f and the oscillations
+// of each triangle (tdat), and the residual contributions rt3 (see
+// triangleData), from f at the rule's points.
+func (eq *equilibration) trianglesP1() error {
+	m, p, rule := eq.m, eq.p, eq.rule
+	nq := rule.Len()
+	co := fem.NewRegionTable(p)
+	// Gram matrix of 1, λ_1, λ_2 under the rule (weights summing to 1), and
+	// its inverse, for the projections onto P_0 and P_1.
+	var gram [3][3]float64
+	for q := range nq {
+		l := [3]float64{1, rule.Bary[3*q+1], rule.Bary[3*q+2]}
+		for i := range 3 {
+			for j := range 3 {
+				gram[i][j] += rule.W[q] * l[i] * l[j]
+			}
+		}
+	}
+	ginv, ok := inverse3(gram)
+	if !ok {
+		panic("estimate: singular Gram matrix of monomials") // broken internal invariant
+	}
+	return parallel.For(m.NumTriangles(), 256, func(lo, hi int) error {
+		var fq [quadrature.MaxTrianglePoints]float64
+		var g p1Triangle
+		for t := lo; t < hi; t++ {
+			eq.diff[t] = co.At(m.Region[t])
+			g.load(eq, t)
+			tri := m.Tri[3*t : 3*t+3 : 3*t+3]
+			var xs, ys [3]float64
+			for i, v := range tri {
+				xs[i], ys[i] = m.X[2*v], m.X[2*v+1]
+			}
+			var mom [6]float64
+			var pr [3]float64
+			for q := range nq {
+				l := rule.Bary[3*q : 3*q+3 : 3*q+3]
+				x := l[0]*xs[0] + l[1]*xs[1] + l[2]*xs[2]
+				y := l[0]*ys[0] + l[1]*ys[1] + l[2]*ys[2]
+				f := p.Source(x, y)
+				if math.IsNaN(f) || math.IsInf(f, 0) {
+					return fmt.Errorf("estimate: Equilibrated: triangle %d at (%g, %g): source f = %g: %w", t, x, y, f, ErrNotFinite)
+				}
+				fq[q] = f
+				wf := rule.W[q] * f
+				mom[0] += wf * l[0] * l[0]
+				mom[1] += wf * l[0] * l[1]
+				mom[2] += wf * l[0] * l[2]
+				mom[3] += wf * l[1] * l[1]
+				mom[4] += wf * l[1] * l[2]
+				mom[5] += wf * l[2] * l[2]
+				pr[0] += wf
+				pr[1] += wf * l[1]
+				pr[2] += wf * l[2]
+			}
+			area := g.area
+			d := eq.tdat[p1Stride*t : p1Stride*(t+1) : p1Stride*(t+1)]
+			for i := range mom {
+				d[i] = area * mom[i]
+			}
+			// ‖f − Π_1 f‖² and ‖f − Π_0 f‖², as termWork.projectionError.
+			var c [3]float64
+			for i := range 3 {
+				c[i] = ginv[i][0]*pr[0] + ginv[i][1]*pr[1] + ginv[i][2]*pr[2]
+			}
+			mean := pr[0] / gram[0][0]
+			o1, o0 := 0.0, 0.0
+			for q, f := range fq[:nq] {
+				e1 := f - (c[0] + c[1]*rule.Bary[3*q+1] + c[2]*rule.Bary[3*q+2])
+				e0 := f - mean
+				o1 += rule.W[q] * e1 * e1
+				o0 += rule.W[q] * e0 * e0
+			}
+			d[6], d[7] = o1*area, o0*area
+			// (ψ_i (f − c u_h) − a∇u_h·∇ψ_i, 1)_T, with ∫ λ_i λ_j = |T|(1 + δ_ij)/12.
+			su := g.u[0] + g.u[1] + g.u[2]
+			for i := range 3 {
+				fi := d[symIndex[i][0]] + d[symIndex[i][1]] + d[symIndex[i][2]]
+				eq.rt3[3*t+i] = fi - p.C*area*(su+g.u[i])/12 - area*g.kappa[i]
+			}
+		}
+		return nil
+	})
+}
+
+// inverse3 returns the inverse of a 3×3 matrix by cofactors and whether
+// it is regular.
+func inverse3(a [3][3]float64) ([3][3]float64, bool) {
+	var c [3][3]float64
+	for i := range 3 {
+		for j := range 3 {
+			i1, i2, j1, j2 := (i+1)%3, (i+2)%3, (j+1)%3, (j+2)%3
+			c[j][i] = a[i1][j1]*a[i2][j2] - a[i1][j2]*a[i2][j1]
+		}
+	}
+	det := a[0][0]*c[0][0] + a[0][1]*c[1][0] + a[0][2]*c[2][0]
+	if det == 0 || math.IsNaN(det) {
+		return c, false
+	}
+	for i := range 3 {
+		for j := range 3 {
+			c[i][j] /= det
+		}
+	}
+	return c, true
+}
+
+// triangleP1 writes the terms of triangle t into v (see termCount) for the
+// P1 path: the flux term as the quadratic form of the weighted RT_1 mass
+// matrix, the oscillations from tdat.
+func (tw *termWork) triangleP1(t int, v []float64) error {
+	eq := tw.eq
+	ref := rt1Ref()
+	var g p1Triangle
+	g.load(eq, t)
+	var c [8]float64
+	eq.local(t, c[:])
+	// Local DOFs of σ_h + a∇u_h: the signs of the edge means, and the DOFs
+	// of a∇u_h = Σ_i λ_i a∇u_h.
+	for i := range 3 {
+		c[2*i] *= g.sign[i]
+	}
+	for i := range 3 {
+		for j := range 8 {
+			c[j] += g.what[0]*ref.lam[i][0][j] + g.what[1]*ref.lam[i][1][j]
+		}
+	}
+	flux2 := 0.0
+	for kl := range 3 {
+		s := 0.0
+		for i := range 8 {
+			r := 0.0
+			for j := range 8 {
+				r += ref.mass[kl][i][j] * c[j]
+			}
+			s += c[i] * r
+		}
+		flux2 += g.gs[kl] * s
+	}
+	d := eq.tdat[p1Stride*t : p1Stride*(t+1)]
+	return tw.finish(t, flux2, d[6], d[7], g.area, v)
+}

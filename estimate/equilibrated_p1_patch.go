@@ -1,0 +1,288 @@
+package estimate
+
+import (
+	"fmt"
+	"math"
+)
+
+// Kinds of the edges of a patch at its vertex.
+const (
+	patchInterior   = iota // interior edge: free moments
+	patchDirichlet         // Dirichlet edge: free moments, no condition
+	patchPrescribed        // Neumann or untagged boundary edge: τ·n prescribed
+)
+
+// p1Patch is the scratch of one goroutine solving P1 patch problems (see
+// solveP1).
+type p1Patch struct {
+	eq  *equilibration
+	ref *rt1Reference
+	// Per patch triangle, in the order of the vertex's triangles.
+	tri  []p1Triangle
+	ia   []int8     // local index of the vertex
+	pe   [][2]int32 // patch edges of the local edges ia+1 and ia+2
+	gm   [][3]float64
+	sp   [][8]float64 // local DOFs of σ_p
+	done []bool
+	// Per patch edge.
+	edge   []int32
+	inc    [][2]int32 // patch triangles on its sides, −1 for none
+	kind   []int8
+	g0, g1 []float64 // global moments 0 and 1 of σ_p
+	zm     []int32   // index of the midpoint value of ζ, −1 if zero
+	// The system K ζ = b.
+	k, b []float64
+}
+
+// grow returns s with length n, reusing its storage.
+func grow[T any](s []T, n int) []T {
+	if cap(s) < n {
+		return make([]T, n)
+	}
+	return s[:n]
+}
+
+// solve solves the patch problem of vertex a and writes σ_a into the
+// vertex slots of its triangles.
+func (w *p1Patch) solve(a int) error {
+	eq, ref := w.eq, w.ref
+	m := eq.m
+	tris := eq.vtri[eq.vstart[a]:eq.vstart[a+1]]
+	n := len(tris)
+	w.tri, w.ia, w.pe = grow(w.tri, n), grow(w.ia, n), grow(w.pe, n)
+	w.gm, w.sp, w.done = grow(w.gm, n), grow(w.sp, n), grow(w.done, n)
+	w.edge, w.inc, w.kind = w.edge[:0], w.inc[:0], w.kind[:0]
+	rt := eq.rtilde[a]
+	c := eq.p.C
+	for pt, t := range tris {
+		g := &w.tri[pt]
+		g.load(eq, int(t))
+		ia := localVertex(m, int(t), int32(a))
+		w.ia[pt] = int8(ia)
+		w.done[pt] = false
+		for s := range 2 {
+			e := m.TriEdge[3*int(t)+(ia+1+s)%3]
+			pe := indexOf(w.edge, e)
+			if pe < 0 {
+				pe = len(w.edge)
+				w.edge = append(w.edge, e)
+				w.inc = append(w.inc, [2]int32{int32(pt), -1})
+				k := int8(patchInterior)
+				switch {
+				case !m.IsBoundary(int(e)):
+				case eq.dirE[e]:
+					k = patchDirichlet
+				default:
+					k = patchPrescribed
+				}
+				w.kind = append(w.kind, k)
+			} else {
+				w.inc[pe][1] = int32(pt)
+			}
+			w.pe[pt][s] = int32(pe)
+		}
+		// (g_a, q)_T for q = 1, λ_1, λ_2, g_a = ψ_a (f − c u_h) − a∇u_h·∇ψ_a − r̃_a ψ_a,
+		// with ∫ λ_i λ_j = |T|(1 + δ_ij)/12 and ∫ λ_i λ_j λ_k = |T| 2 α!β!γ!/(α+β+γ+2)!.
+		d := eq.tdat[p1Stride*int(t) : p1Stride*int(t)+6]
+		ar := g.area
+		su := g.u[0] + g.u[1] + g.u[2]
+		w.gm[pt][0] = d[symIndex[ia][0]] + d[symIndex[ia][1]] + d[symIndex[ia][2]] -
+			c*ar*(su+g.u[ia])/12 - ar*g.kappa[ia] - rt*ar/3
+		for mm := 1; mm < 3; mm++ {
+			uq := 0.0
+			for j := range 3 {
+				uq += g.u[j] * tri3(ia, j, mm)
+			}
+			dl := 1.0
+			if ia == mm {
+				dl = 2
+			}
+			w.gm[pt][mm] = d[symIndex[ia][mm]] - c*ar*uq - ar*g.kappa[ia]/3 - rt*ar*dl/12
+		}
+	}
+	ne := len(w.edge)
+	w.g0, w.g1, w.zm = grow(w.g0, ne), grow(w.g1, ne), grow(w.zm, ne)
+	// Prescribed moments, and the boundary edges of the fan.
+	k := eq.k
+	ends := [2]int{-1, -1}
+	nb := 0
+	for pe, e := range w.edge {
+		w.g0[pe], w.g1[pe] = 0, 0
+		if w.kind[pe] == patchInterior {
+			continue
+		}
+		if nb == 2 {
+			return errNotFan
+		}
+		ends[nb] = pe
+		nb++
+		if w.kind[pe] != patchPrescribed {
+			continue
+		}
+		pt := int(w.inc[pe][0])
+		t := int(tris[pt])
+		end := 0
+		if m.Edge[2*e+1] == int32(a) {
+			end = 1
+		}
+		s := w.tri[pt].sign[localEdge(m, t, int(e))] // n_E·n_out
+		w.g0[pe] = -s * eq.neu[(2*int(e)+end)*(k+1)]
+		w.g1[pe] = -s * eq.neu[(2*int(e)+end)*(k+1)+1]
+	}
+	if nb == 1 {
+		return errNotFan
+	}
+	// The sweep: from a start edge of known mean, through each triangle to
+	// its other edge at the vertex. Around an interior vertex it starts with
+	// a zero mean on the first triangle's first edge and ends at that
+	// triangle, whose equation is left out (it follows from the others as
+	// r_a is taken out by ρ_a); along a boundary fan it starts at a
+	// prescribed edge if there is one, and a prescribed edge at its end
+	// keeps its value (again one equation follows from the others).
+	start, pt := 0, 0
+	if nb == 0 {
+		start = int(w.pe[0][0])
+		pt = int(w.inc[start][0])
+		if pt == 0 {
+			pt = int(w.inc[start][1])
+		}
+		w.done[0] = true
+	} else {
+		start = ends[0]
+		if w.kind[ends[0]] != patchPrescribed && w.kind[ends[1]] == patchPrescribed {
+			start = ends[1]
+		}
+		pt = int(w.inc[start][0])
+	}
+	visited := 0
+	if nb == 0 {
+		visited = 1
+	}
+	for cur := start; pt >= 0 && !w.done[pt]; {
+		w.done[pt] = true
+		visited++
+		g := &w.tri[pt]
+		ia := int(w.ia[pt])
+		s := 0
+		if int(w.pe[pt][0]) == cur {
+			s = 1
+		}
+		next := int(w.pe[pt][s])
+		ik, in := (ia+2-s)%3, (ia+1+s)%3 // local edges of cur and next
+		if w.kind[next] != patchPrescribed || nb == 0 {
+			w.g0[next] = g.sign[in] * (w.gm[pt][0] - g.sign[ik]*w.g0[cur])
+		}
+		cur = next
+		if o := int(w.inc[next][0]); o != pt {
+			pt = o
+		} else {
+			pt = int(w.inc[next][1])
+		}
+	}
+	if visited != n {
+		return errNotFan
+	}
+	// The unknowns of ζ: its value at the vertex unless the vertex is on a
+	// prescribed edge, and at the midpoints of the free edges.
+	nz := 0
+	za := -1
+	if nb == 0 || (w.kind[ends[0]] != patchPrescribed && w.kind[ends[1]] != patchPrescribed) {
+		za, nz = 0, 1
+	}
+	for pe := range w.edge {
+		w.zm[pe] = -1
+		if w.kind[pe] != patchPrescribed {
+			w.zm[pe] = int32(nz)
+			nz++
+		}
+	}
+	w.k, w.b = grow(w.k, nz*nz), grow(w.b, nz)
+	clear(w.k)
+	clear(w.b)
+	for pt := range n {
+		g := &w.tri[pt]
+		ia := int(w.ia[pt])
+		sp := &w.sp[pt]
+		*sp = [8]float64{}
+		for s := range 2 {
+			i, pe := (ia+1+s)%3, w.pe[pt][s]
+			sp[2*i] = g.sign[i] * w.g0[pe]
+			sp[2*i+1] = w.g1[pe]
+		}
+		r1, r2 := w.gm[pt][1], w.gm[pt][2]
+		for l := range 6 {
+			r1 -= ref.div[1][l] * sp[l]
+			r2 -= ref.div[2][l] * sp[l]
+		}
+		sp[6] = ref.binv[0][0]*r1 + ref.binv[0][1]*r2
+		sp[7] = ref.binv[1][0]*r1 + ref.binv[1][1]*r2
+		var st [8]float64
+		for j := range 8 {
+			st[j] = sp[j] + g.what[0]*ref.lam[ia][0][j] + g.what[1]*ref.lam[ia][1][j]
+		}
+		idx := [3]int{za, int(w.zm[w.pe[pt][0]]), int(w.zm[w.pe[pt][1]])}
+		for ci, I := range idx {
+			if I < 0 {
+				continue
+			}
+			bi := 0.0
+			for kl := range 3 {
+				p := &ref.pref[ia][kl][ci]
+				s := 0.0
+				for j := range 8 {
+					s += p[j] * st[j]
+				}
+				bi += g.gs[kl] * s
+			}
+			w.b[I] -= bi
+			for di, J := range idx {
+				if J < 0 {
+					continue
+				}
+				kr := &ref.kref[ia]
+				w.k[I*nz+J] += g.gs[0]*kr[0][ci][di] + g.gs[1]*kr[1][ci][di] + g.gs[2]*kr[2][ci][di]
+			}
+		}
+	}
+	if !cholesky(w.k, nz, 0) {
+		return fmt.Errorf("estimate: Equilibrated: the patch problem of vertex %d is singular: %w", a, ErrNotFinite)
+	}
+	cholSolve(w.k, nz, w.b, w.b)
+	for _, v := range w.b {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return fmt.Errorf("estimate: Equilibrated: the patch problem of vertex %d: %w", a, ErrNotFinite)
+		}
+	}
+	nloc := eq.nloc
+	for pt, t := range tris {
+		g := &w.tri[pt]
+		ia := int(w.ia[pt])
+		var z [3]float64
+		for ci, I := range [3]int{za, int(w.zm[w.pe[pt][0]]), int(w.zm[w.pe[pt][1]])} {
+			if I >= 0 {
+				z[ci] = w.b[I]
+			}
+		}
+		out := eq.sig[(3*int(t)+ia)*nloc : (3*int(t)+ia+1)*nloc]
+		cr := &ref.curl[ia]
+		for i := range 8 {
+			out[i] = w.sp[pt][i] + cr[i][0]*z[0] + cr[i][1]*z[1] + cr[i][2]*z[2]
+		}
+		for i := range 3 {
+			out[2*i] *= g.sign[i]
+		}
+	}
+	return nil
+}
+
+// tri3 returns ∫_T λ_i λ_j λ_k / |T|: 1/10 if i = j = k, 1/30 if two are
+// equal, 1/60 if all differ.
+func tri3(i, j, k int) float64 {
+	switch {
+	case i == j && j == k:
+		return 1. / 10
+	case i == j || j == k || i == k:
+		return 1. / 30
+	}
+	return 1. / 60
+}
