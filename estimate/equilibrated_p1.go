@@ -14,13 +14,22 @@ import (
 // form one fan; dispatch then takes the general path.
 var errNotFan = errors.New("estimate: a vertex patch is not one fan")
 
-// p1Stride is the number of float64s solveP1 keeps per triangle in
-// equilibration.tdat: ∫_T f λ_i λ_j by the rule for (i, j) = (0, 0),
-// (0, 1), (0, 2), (1, 1), (1, 2), (2, 2), then ‖f − Π_1 f‖²_T and
-// ‖f − Π_0 f‖²_T.
-const p1Stride = 8
+// The data solveP1 keeps per triangle in equilibration.tdat, at these
+// offsets: (g_i, λ_m)_T for the vertices i = 0, 1, 2 and m = 1, 2, with
+// g_i = ψ_i (f − c u_h) − a∇u_h·∇ψ_i (the moment with 1 is rt3); G₀₀, G₁₁,
+// G₀₁ of G = Jᵀ a⁻¹ J divided by det J; ŵ = adj(J) a∇u_h; the area;
+// ‖f − Π_1 f‖²_T and ‖f − Π_0 f‖²_T.
+const (
+	tdGq     = 0
+	tdGs     = 6
+	tdW      = 9
+	tdArea   = 11
+	tdOsc    = 12
+	p1Stride = 14
+)
 
-// symIndex[i][j] is the index of ∫_T f λ_i λ_j in a triangle's tdat.
+// symIndex[i][j] is the index of ∫_T f λ_i λ_j in trianglesP1's moments,
+// stored for (i, j) = (0, 0), (0, 1), (0, 2), (1, 1), (1, 2), (2, 2).
 var symIndex = [3][3]int{{0, 1, 2}, {1, 3, 4}, {2, 4, 5}}
 
 // solveP1 is the P1 path of dispatch. It computes the same σ_h as
@@ -74,12 +83,10 @@ func (eq *equilibration) solveP1() error {
 // p1Triangle is the geometry and flux of one triangle of a P1 function.
 type p1Triangle struct {
 	area  float64
-	gs    [3]float64    // G₀₀, G₁₁, G₀₁ of G = Jᵀ a⁻¹ J, divided by det J
-	what  [2]float64    // ŵ = adj(J) a∇u_h
-	kappa [3]float64    // a∇u_h·∇λ_i
-	u     [3]float64    // nodal values
-	sign  [3]float64    // RTSpace.Sign of the three edges
-	grad  [3][2]float64 // ∇λ_i
+	gs    [3]float64 // G₀₀, G₁₁, G₀₁ of G = Jᵀ a⁻¹ J, divided by det J
+	what  [2]float64 // ŵ = adj(J) a∇u_h
+	kappa [3]float64 // a∇u_h·∇λ_i
+	u     [3]float64 // nodal values
 }
 
 // load fills g for triangle t.
@@ -93,19 +100,15 @@ func (g *p1Triangle) load(eq *equilibration, t int) {
 	g.area = 0.5 * d
 	for i := range 3 {
 		g.u[i] = eq.u.U[tri[i]]
-		b, c := tri[(i+1)%3], tri[(i+2)%3]
-		g.grad[i] = [2]float64{(x[2*b+1] - x[2*c+1]) / d, (x[2*c] - x[2*b]) / d}
-		g.sign[i] = 1
-		if b > c {
-			g.sign[i] = -1
-		}
 	}
 	du1, du2 := g.u[1]-g.u[0], g.u[2]-g.u[0]
 	gx, gy := (j11*du1-j10*du2)/d, (j00*du2-j01*du1)/d
 	a := eq.diff[t]
 	wx, wy := a.Apply(gx, gy)
 	for i := range 3 {
-		g.kappa[i] = wx*g.grad[i][0] + wy*g.grad[i][1]
+		b, c := tri[(i+1)%3], tri[(i+2)%3]
+		// ∇λ_i = ((y_b − y_c)/d, (x_c − x_b)/d).
+		g.kappa[i] = (wx*(x[2*b+1]-x[2*c+1]) + wy*(x[2*c]-x[2*b])) / d
 	}
 	g.what = [2]float64{j11*wx - j01*wy, -j10*wx + j00*wy}
 	// a⁻¹ = [[YY, −XY], [−XY, XX]] / det a.
@@ -113,6 +116,18 @@ func (g *p1Triangle) load(eq *equilibration, t int) {
 	ixx, ixy, iyy := a.YY/da, -a.XY/da, a.XX/da
 	q := func(ux, uy, vx, vy float64) float64 { return ux*(ixx*vx+ixy*vy) + uy*(ixy*vx+iyy*vy) }
 	g.gs = [3]float64{q(j00, j10, j00, j10) / d, q(j01, j11, j01, j11) / d, q(j00, j10, j01, j11) / d}
+}
+
+// edgeSigns returns RTSpace.Sign of the three edges of triangle t.
+func edgeSigns(tri []int32, t int) [3]float64 {
+	var s [3]float64
+	for i := range 3 {
+		s[i] = 1
+		if tri[3*t+(i+1)%3] > tri[3*t+(i+2)%3] {
+			s[i] = -1
+		}
+	}
+	return s
 }
 
 // trianglesP1 stores the diffusion, the moments of f and the oscillations
@@ -171,10 +186,13 @@ func (eq *equilibration) trianglesP1() error {
 				pr[2] += wf * l[2]
 			}
 			area := g.area
-			d := eq.tdat[p1Stride*t : p1Stride*(t+1) : p1Stride*(t+1)]
 			for i := range mom {
-				d[i] = area * mom[i]
+				mom[i] *= area
 			}
+			d := eq.tdat[p1Stride*t : p1Stride*(t+1) : p1Stride*(t+1)]
+			copy(d[tdGs:tdGs+3], g.gs[:])
+			copy(d[tdW:tdW+2], g.what[:])
+			d[tdArea] = area
 			// ‖f − Π_1 f‖² and ‖f − Π_0 f‖², as termWork.projectionError.
 			var c [3]float64
 			for i := range 3 {
@@ -188,12 +206,20 @@ func (eq *equilibration) trianglesP1() error {
 				o1 += rule.W[q] * e1 * e1
 				o0 += rule.W[q] * e0 * e0
 			}
-			d[6], d[7] = o1*area, o0*area
-			// (ψ_i (f − c u_h) − a∇u_h·∇ψ_i, 1)_T, with ∫ λ_i λ_j = |T|(1 + δ_ij)/12.
+			d[tdOsc], d[tdOsc+1] = o1*area, o0*area
+			// (g_i, q)_T for q = 1, λ_1, λ_2, with ∫ λ_i λ_j = |T|(1 + δ_ij)/12
+			// and ∫ λ_i λ_j λ_k = |T| 2 α!β!γ!/(α+β+γ+2)!.
 			su := g.u[0] + g.u[1] + g.u[2]
 			for i := range 3 {
-				fi := d[symIndex[i][0]] + d[symIndex[i][1]] + d[symIndex[i][2]]
+				fi := mom[symIndex[i][0]] + mom[symIndex[i][1]] + mom[symIndex[i][2]]
 				eq.rt3[3*t+i] = fi - p.C*area*(su+g.u[i])/12 - area*g.kappa[i]
+				for mm := 1; mm < 3; mm++ {
+					uq := 0.0
+					for j := range 3 {
+						uq += g.u[j] * tri3(i, j, mm)
+					}
+					d[tdGq+2*i+mm-1] = mom[symIndex[i][mm]] - p.C*area*uq - area*g.kappa[i]/3
+				}
 			}
 		}
 		return nil
@@ -228,19 +254,18 @@ func inverse3(a [3][3]float64) ([3][3]float64, bool) {
 func (tw *termWork) triangleP1(t int, v []float64) error {
 	eq := tw.eq
 	ref := rt1Ref()
-	var g p1Triangle
-	g.load(eq, t)
+	d := eq.tdat[p1Stride*t : p1Stride*(t+1) : p1Stride*(t+1)]
+	sign := edgeSigns(eq.m.Tri, t)
 	var c [8]float64
 	eq.local(t, c[:])
 	// Local DOFs of σ_h + a∇u_h: the signs of the edge means, and the DOFs
 	// of a∇u_h = Σ_i λ_i a∇u_h.
 	for i := range 3 {
-		c[2*i] *= g.sign[i]
+		c[2*i] *= sign[i]
 	}
-	for i := range 3 {
-		for j := range 8 {
-			c[j] += g.what[0]*ref.lam[i][0][j] + g.what[1]*ref.lam[i][1][j]
-		}
+	w0, w1 := d[tdW], d[tdW+1]
+	for j := range 8 {
+		c[j] += w0*ref.lamSum[0][j] + w1*ref.lamSum[1][j]
 	}
 	flux2 := 0.0
 	for kl := range 3 {
@@ -252,8 +277,7 @@ func (tw *termWork) triangleP1(t int, v []float64) error {
 			}
 			s += c[i] * r
 		}
-		flux2 += g.gs[kl] * s
+		flux2 += d[tdGs+kl] * s
 	}
-	d := eq.tdat[p1Stride*t : p1Stride*(t+1)]
-	return tw.finish(t, flux2, d[6], d[7], g.area, v)
+	return tw.finish(t, flux2, d[tdOsc], d[tdOsc+1], d[tdArea], v)
 }

@@ -18,10 +18,9 @@ type p1Patch struct {
 	eq  *equilibration
 	ref *rt1Reference
 	// Per patch triangle, in the order of the vertex's triangles.
-	tri  []p1Triangle
-	ia   []int8     // local index of the vertex
-	pe   [][2]int32 // patch edges of the local edges ia+1 and ia+2
-	gm   [][3]float64
+	tri  []p1Slot
+	ia   []int8       // local index of the vertex
+	pe   [][2]int32   // patch edges of the local edges ia+1 and ia+2
 	sp   [][8]float64 // local DOFs of σ_p
 	done []bool
 	// Per patch edge.
@@ -32,6 +31,14 @@ type p1Patch struct {
 	zm     []int32   // index of the midpoint value of ζ, −1 if zero
 	// The system K ζ = b.
 	k, b []float64
+}
+
+// p1Slot is the data of one triangle of a patch.
+type p1Slot struct {
+	sign [3]float64 // RTSpace.Sign of the edges
+	gs   [3]float64 // see tdGs
+	what [2]float64 // see tdW
+	gm   [3]float64 // (g_a − ρ_a, q)_T for q = 1, λ_1, λ_2
 }
 
 // grow returns s with length n, reusing its storage.
@@ -50,18 +57,35 @@ func (w *p1Patch) solve(a int) error {
 	tris := eq.vtri[eq.vstart[a]:eq.vstart[a+1]]
 	n := len(tris)
 	w.tri, w.ia, w.pe = grow(w.tri, n), grow(w.ia, n), grow(w.pe, n)
-	w.gm, w.sp, w.done = grow(w.gm, n), grow(w.sp, n), grow(w.done, n)
+	w.sp, w.done = grow(w.sp, n), grow(w.done, n)
 	w.edge, w.inc, w.kind = w.edge[:0], w.inc[:0], w.kind[:0]
 	rt := eq.rtilde[a]
-	c := eq.p.C
+	tri, triEdge := m.Tri, m.TriEdge
 	for pt, t := range tris {
 		g := &w.tri[pt]
-		g.load(eq, int(t))
-		ia := localVertex(m, int(t), int32(a))
+		ia := 0
+		for tri[3*int(t)+ia] != int32(a) {
+			ia++
+		}
 		w.ia[pt] = int8(ia)
 		w.done[pt] = false
+		d := eq.tdat[p1Stride*int(t) : p1Stride*(int(t)+1) : p1Stride*(int(t)+1)]
+		g.sign = edgeSigns(tri, int(t))
+		g.gs = [3]float64{d[tdGs], d[tdGs+1], d[tdGs+2]}
+		g.what = [2]float64{d[tdW], d[tdW+1]}
+		// (g_a − ρ_a, q)_T for q = 1, λ_1, λ_2, with ρ_a = r̃_a ψ_a and
+		// ∫ λ_i λ_j = |T|(1 + δ_ij)/12.
+		ar := d[tdArea]
+		g.gm[0] = eq.rt3[3*int(t)+ia] - rt*ar/3
+		for mm := 1; mm < 3; mm++ {
+			dl := 1.0
+			if ia == mm {
+				dl = 2
+			}
+			g.gm[mm] = d[tdGq+2*ia+mm-1] - rt*ar*dl/12
+		}
 		for s := range 2 {
-			e := m.TriEdge[3*int(t)+(ia+1+s)%3]
+			e := triEdge[3*int(t)+(ia+1+s)%3]
 			pe := indexOf(w.edge, e)
 			if pe < 0 {
 				pe = len(w.edge)
@@ -80,24 +104,6 @@ func (w *p1Patch) solve(a int) error {
 				w.inc[pe][1] = int32(pt)
 			}
 			w.pe[pt][s] = int32(pe)
-		}
-		// (g_a, q)_T for q = 1, λ_1, λ_2, g_a = ψ_a (f − c u_h) − a∇u_h·∇ψ_a − r̃_a ψ_a,
-		// with ∫ λ_i λ_j = |T|(1 + δ_ij)/12 and ∫ λ_i λ_j λ_k = |T| 2 α!β!γ!/(α+β+γ+2)!.
-		d := eq.tdat[p1Stride*int(t) : p1Stride*int(t)+6]
-		ar := g.area
-		su := g.u[0] + g.u[1] + g.u[2]
-		w.gm[pt][0] = d[symIndex[ia][0]] + d[symIndex[ia][1]] + d[symIndex[ia][2]] -
-			c*ar*(su+g.u[ia])/12 - ar*g.kappa[ia] - rt*ar/3
-		for mm := 1; mm < 3; mm++ {
-			uq := 0.0
-			for j := range 3 {
-				uq += g.u[j] * tri3(ia, j, mm)
-			}
-			dl := 1.0
-			if ia == mm {
-				dl = 2
-			}
-			w.gm[pt][mm] = d[symIndex[ia][mm]] - c*ar*uq - ar*g.kappa[ia]/3 - rt*ar*dl/12
 		}
 	}
 	ne := len(w.edge)
@@ -170,7 +176,7 @@ func (w *p1Patch) solve(a int) error {
 		next := int(w.pe[pt][s])
 		ik, in := (ia+2-s)%3, (ia+1+s)%3 // local edges of cur and next
 		if w.kind[next] != patchPrescribed || nb == 0 {
-			w.g0[next] = g.sign[in] * (w.gm[pt][0] - g.sign[ik]*w.g0[cur])
+			w.g0[next] = g.sign[in] * (g.gm[0] - g.sign[ik]*w.g0[cur])
 		}
 		cur = next
 		if o := int(w.inc[next][0]); o != pt {
@@ -209,7 +215,7 @@ func (w *p1Patch) solve(a int) error {
 			sp[2*i] = g.sign[i] * w.g0[pe]
 			sp[2*i+1] = w.g1[pe]
 		}
-		r1, r2 := w.gm[pt][1], w.gm[pt][2]
+		r1, r2 := g.gm[1], g.gm[2]
 		for l := range 6 {
 			r1 -= ref.div[1][l] * sp[l]
 			r2 -= ref.div[2][l] * sp[l]

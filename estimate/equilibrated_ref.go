@@ -30,10 +30,11 @@ import (
 // (0,1), with fem's RT_1 basis and interpolant: exactly, up to rounding,
 // since the rules used are exact for these polynomials.
 type rt1Reference struct {
-	mass [3][8][8]float64 // M̂₀₀, M̂₁₁, M̂₀₁ + M̂₁₀
-	div  [3][8]float64    // ∫_T̂ div̂ φ̂_i q̂_m for q̂ = 1, x̂, ŷ
-	binv [2][2]float64    // inverse of div[1:3][6:8], the interior DOFs' block
-	lam  [3][2][8]float64 // DOFs of λ_i e_k, e_k the unit vectors
+	mass   [3][8][8]float64 // M̂₀₀, M̂₁₁, M̂₀₁ + M̂₁₀
+	div    [3][8]float64    // ∫_T̂ div̂ φ̂_i q̂_m for q̂ = 1, x̂, ŷ
+	binv   [2][2]float64    // inverse of div[1:3][6:8], the interior DOFs' block
+	lam    [3][2][8]float64 // DOFs of λ_i e_k, e_k the unit vectors
+	lamSum [2][8]float64    // DOFs of e_k: Σ_i lam[i][k]
 	// For the patch of local vertex ia: the DOFs of the curls of the P2
 	// basis functions of the vertex ia and of the midpoints of the edges
 	// ia+1 and ia+2 (the edges through the vertex), as columns.
@@ -113,6 +114,11 @@ func buildRT1Reference() *rt1Reference {
 			})
 			// λ_i vanishes on the edge opposite vertex i.
 			r.lam[i][k][2*i], r.lam[i][k][2*i+1] = 0, 0
+		}
+	}
+	for k := range 2 {
+		for j := range 8 {
+			r.lamSum[k][j] = r.lam[0][k][j] + r.lam[1][k][j] + r.lam[2][k][j]
 		}
 	}
 	// curl ζ = (∂_y ζ, −∂_x ζ) of the P2 basis functions.
