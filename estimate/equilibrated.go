@@ -180,7 +180,7 @@ func (q Equilibrated) EstimateParts(dst *Indicators, u *fem.Function, p *fem.Pro
 	if err != nil {
 		return nil, EquilibratedParts{}, err
 	}
-	eq, err := q.equilibrate(u, p)
+	eq, err := q.equilibrate(u, p, dst)
 	if err != nil {
 		return nil, EquilibratedParts{}, err
 	}
@@ -196,7 +196,7 @@ func (q Equilibrated) Flux(u *fem.Function, p *fem.Problem) (*fem.RTFunction, er
 	if _, err := prepare("Equilibrated", nil, u, p); err != nil {
 		return nil, err
 	}
-	eq, err := q.equilibrate(u, p)
+	eq, err := q.equilibrate(u, p, nil)
 	if err != nil {
 		return nil, err
 	}
@@ -227,9 +227,23 @@ type equilibration struct {
 	// terms writes the terms of one triangle (see termCount).
 	terms func(tw *termWork, t int, v []float64) error
 	tdat  []float64 // fast path: per-triangle data (see solveP1)
+	arena []float64 // scratch from which take cuts the arrays
 }
 
-func (q Equilibrated) equilibrate(u *fem.Function, p *fem.Problem) (*equilibration, error) {
+// take returns n float64s, not cleared: cut from the arena while it has
+// room, else allocated.
+func (eq *equilibration) take(n int) []float64 {
+	if len(eq.arena) < n {
+		return make([]float64, n)
+	}
+	s := eq.arena[:n:n]
+	eq.arena = eq.arena[n:]
+	return s
+}
+
+// equilibrate computes σ_h, taking its arrays from the scratch of dst if
+// dst is not nil.
+func (q Equilibrated) equilibrate(u *fem.Function, p *fem.Problem, dst *Indicators) (*equilibration, error) {
 	if !p.PiecewiseConstant() {
 		return nil, fmt.Errorf("estimate: Equilibrated: diffusion given by AFunc: %w", ErrUnsupported)
 	}
@@ -271,6 +285,11 @@ func (q Equilibrated) equilibrate(u *fem.Function, p *fem.Problem) (*equilibrati
 		}
 	}
 	eq.vstart, eq.vtri = m.VertexTriangles()
+	if dst != nil {
+		// Room for the arrays of the P1 path (see solveP1); the general
+		// path allocates what does not fit.
+		eq.arena = dst.scratch(nt*(3*eq.nloc+p1Stride+3+termCount) + nv + 2*(k+1)*ne)
+	}
 	if err := eq.dispatch(); err != nil {
 		return nil, err
 	}
@@ -311,7 +330,7 @@ func (eq *equilibration) solveGeneral() error {
 		return err
 	}
 	eq.vertexResiduals()
-	eq.sig = make([]float64, 3*eq.m.NumTriangles()*eq.nloc)
+	eq.sig = eq.take(3 * eq.m.NumTriangles() * eq.nloc)
 	eq.terms = (*termWork).triangle
 	return parallel.For(eq.m.NumVertices(), 64, func(lo, hi int) error {
 		w := newPatchWork(eq)
@@ -329,8 +348,8 @@ func (eq *equilibration) solveGeneral() error {
 func (eq *equilibration) triangleData() error {
 	m, p, rule := eq.m, eq.p, eq.rule
 	nt, nq := m.NumTriangles(), rule.Len()
-	eq.fq = make([]float64, nt*nq)
-	eq.rt3 = make([]float64, 3*nt)
+	eq.fq = eq.take(nt * nq)
+	eq.rt3 = eq.take(3 * nt)
 	return parallel.For(nt, 256, func(lo, hi int) error {
 		ev := fem.NewEvaluator(eq.u)
 		for t := lo; t < hi; t++ {
@@ -381,7 +400,8 @@ func (eq *equilibration) neumannEdge(e int) (gn fem.Func, ax, ay, bx, by, le flo
 // Neumann edge.
 func (eq *equilibration) neumannData() error {
 	m, k := eq.m, eq.k
-	eq.neu = make([]float64, 2*(k+1)*m.NumEdges())
+	eq.neu = eq.take(2 * (k + 1) * m.NumEdges())
+	clear(eq.neu)
 	for e := range m.NumEdges() {
 		gn, ax, ay, bx, by, le := eq.neumannEdge(e)
 		if gn == nil {
@@ -408,7 +428,8 @@ func (eq *equilibration) neumannData() error {
 // order of the vertex's triangles, and stores r_a / (ψ_a, 1)_{ω_a}.
 func (eq *equilibration) vertexResiduals() {
 	m, k := eq.m, eq.k
-	eq.rtilde = make([]float64, m.NumVertices())
+	eq.rtilde = eq.take(m.NumVertices())
+	clear(eq.rtilde)
 	_ = parallel.For(m.NumVertices(), 1024, func(lo, hi int) error {
 		for a := lo; a < hi; a++ {
 			if !eq.free[a] {

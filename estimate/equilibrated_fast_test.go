@@ -53,7 +53,7 @@ func TestEquilibratedFastMatchesGeneral(t *testing.T) {
 	)
 	for _, c := range equilibratedCases(t, 1) {
 		fast, general := Equilibrated{Friedrichs: 1}, Equilibrated{Friedrichs: 1, generalOnly: true}
-		eq, err := fast.equilibrate(c.u, c.p)
+		eq, err := fast.equilibrate(c.u, c.p, nil)
 		if err != nil {
 			t.Fatalf("%s: %v", c.name, err)
 		}
@@ -131,7 +131,7 @@ func TestEquilibratedFastDeclines(t *testing.T) {
 	s, _ := fem.NewSpace(m, 1)
 	u, _ := fem.Interpolate(s, func(x, y float64) float64 { return x*x + y })
 	p := &fem.Problem{F: func(x, y float64) float64 { return 1 + x }, Dirichlet: map[int32]fem.Func{0: nil}}
-	eq, err := Equilibrated{}.equilibrate(u, p)
+	eq, err := Equilibrated{}.equilibrate(u, p, nil)
 	if err != nil {
 		t.Fatal(err)
 	}

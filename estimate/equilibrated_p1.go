@@ -28,6 +28,26 @@ const (
 	p1Stride = 14
 )
 
+// tri3[i][k][j] is ∫_T λ_i λ_j λ_k / |T| = 2 α!β!γ!/(α+β+γ+2)!: 1/10 if
+// i = j = k, 1/30 if two are equal, 1/60 if all differ.
+var tri3 = func() (v [3][3][3]float64) {
+	for i := range 3 {
+		for j := range 3 {
+			for k := range 3 {
+				switch {
+				case i == j && j == k:
+					v[i][k][j] = 1. / 10
+				case i == j || j == k || i == k:
+					v[i][k][j] = 1. / 30
+				default:
+					v[i][k][j] = 1. / 60
+				}
+			}
+		}
+	}
+	return v
+}()
+
 // symIndex[i][j] is the index of ∫_T f λ_i λ_j in trianglesP1's moments,
 // stored for (i, j) = (0, 0), (0, 1), (0, 2), (1, 1), (1, 2), (2, 2).
 var symIndex = [3][3]int{{0, 1, 2}, {1, 3, 4}, {2, 4, 5}}
@@ -57,8 +77,8 @@ var symIndex = [3][3]int{{0, 1, 2}, {1, 3, 4}, {2, 4, 5}}
 func (eq *equilibration) solveP1() error {
 	m := eq.m
 	nt := m.NumTriangles()
-	eq.tdat = make([]float64, p1Stride*nt)
-	eq.rt3 = make([]float64, 3*nt)
+	eq.tdat = eq.take(p1Stride * nt)
+	eq.rt3 = eq.take(3 * nt)
 	if err := eq.trianglesP1(); err != nil {
 		return err
 	}
@@ -66,7 +86,7 @@ func (eq *equilibration) solveP1() error {
 		return err
 	}
 	eq.vertexResiduals()
-	eq.sig = make([]float64, 3*nt*eq.nloc)
+	eq.sig = eq.take(3 * nt * eq.nloc)
 	eq.terms = (*termWork).triangleP1
 	ref := rt1Ref()
 	return parallel.For(m.NumVertices(), 64, func(lo, hi int) error {
@@ -152,6 +172,14 @@ func (eq *equilibration) trianglesP1() error {
 	if !ok {
 		panic("estimate: singular Gram matrix of monomials") // broken internal invariant
 	}
+	// The weights of the moments at each point: W λ_i λ_j in the order of
+	// symIndex, then W, W λ_1, W λ_2.
+	wl := make([][9]float64, nq)
+	for q := range nq {
+		l := rule.Bary[3*q : 3*q+3]
+		w := rule.W[q]
+		wl[q] = [9]float64{w * l[0] * l[0], w * l[0] * l[1], w * l[0] * l[2], w * l[1] * l[1], w * l[1] * l[2], w * l[2] * l[2], w, w * l[1], w * l[2]}
+	}
 	return parallel.For(m.NumTriangles(), 256, func(lo, hi int) error {
 		var fq [quadrature.MaxTrianglePoints]float64
 		var g p1Triangle
@@ -174,16 +202,13 @@ func (eq *equilibration) trianglesP1() error {
 					return fmt.Errorf("estimate: Equilibrated: triangle %d at (%g, %g): source f = %g: %w", t, x, y, f, ErrNotFinite)
 				}
 				fq[q] = f
-				wf := rule.W[q] * f
-				mom[0] += wf * l[0] * l[0]
-				mom[1] += wf * l[0] * l[1]
-				mom[2] += wf * l[0] * l[2]
-				mom[3] += wf * l[1] * l[1]
-				mom[4] += wf * l[1] * l[2]
-				mom[5] += wf * l[2] * l[2]
-				pr[0] += wf
-				pr[1] += wf * l[1]
-				pr[2] += wf * l[2]
+				wq := &wl[q]
+				for i := range mom {
+					mom[i] += f * wq[i]
+				}
+				pr[0] += f * wq[6]
+				pr[1] += f * wq[7]
+				pr[2] += f * wq[8]
 			}
 			area := g.area
 			for i := range mom {
@@ -214,10 +239,8 @@ func (eq *equilibration) trianglesP1() error {
 				fi := mom[symIndex[i][0]] + mom[symIndex[i][1]] + mom[symIndex[i][2]]
 				eq.rt3[3*t+i] = fi - p.C*area*(su+g.u[i])/12 - area*g.kappa[i]
 				for mm := 1; mm < 3; mm++ {
-					uq := 0.0
-					for j := range 3 {
-						uq += g.u[j] * tri3(i, j, mm)
-					}
+					t3 := &tri3[i][mm]
+					uq := g.u[0]*t3[0] + g.u[1]*t3[1] + g.u[2]*t3[2]
 					d[tdGq+2*i+mm-1] = mom[symIndex[i][mm]] - p.C*area*uq - area*g.kappa[i]/3
 				}
 			}
@@ -267,17 +290,22 @@ func (tw *termWork) triangleP1(t int, v []float64) error {
 	for j := range 8 {
 		c[j] += w0*ref.lamSum[0][j] + w1*ref.lamSum[1][j]
 	}
-	flux2 := 0.0
-	for kl := range 3 {
-		s := 0.0
-		for i := range 8 {
-			r := 0.0
-			for j := range 8 {
-				r += ref.mass[kl][i][j] * c[j]
-			}
-			s += c[i] * r
+	// flux2 = Σ_kl G_kl cᵀ M̂_kl c / det J, by the packed upper triangles.
+	var cc [36]float64
+	p := 0
+	for i := range 8 {
+		for j := i; j < 8; j++ {
+			cc[p] = c[i] * c[j]
+			p++
 		}
-		flux2 += d[tdGs+kl] * s
 	}
+	var s [3]float64
+	for kl := range 3 {
+		pk := &ref.packed[kl]
+		for q := range cc {
+			s[kl] += pk[q] * cc[q]
+		}
+	}
+	flux2 := d[tdGs]*s[0] + d[tdGs+1]*s[1] + d[tdGs+2]*s[2]
 	return tw.finish(t, flux2, d[tdOsc], d[tdOsc+1], d[tdArea], v)
 }

@@ -21,7 +21,7 @@ type p1Patch struct {
 	tri  []p1Slot
 	ia   []int8       // local index of the vertex
 	pe   [][2]int32   // patch edges of the local edges ia+1 and ia+2
-	sp   [][8]float64 // local DOFs of σ_p
+	sp   [][6]float64 // σ_p in the active DOFs
 	done []bool
 	// Per patch edge.
 	edge   []int32
@@ -208,45 +208,40 @@ func (w *p1Patch) solve(a int) error {
 	for pt := range n {
 		g := &w.tri[pt]
 		ia := int(w.ia[pt])
+		ra := &ref.act[ia]
+		// σ_p in the active DOFs (see rt1Reference.act): the edge moments,
+		// then the interior DOFs from the linear part of the divergence.
 		sp := &w.sp[pt]
-		*sp = [8]float64{}
-		for s := range 2 {
-			i, pe := (ia+1+s)%3, w.pe[pt][s]
-			sp[2*i] = g.sign[i] * w.g0[pe]
-			sp[2*i+1] = w.g1[pe]
-		}
+		pe0, pe1 := w.pe[pt][0], w.pe[pt][1]
+		sp[0], sp[1] = g.sign[(ia+1)%3]*w.g0[pe0], w.g1[pe0]
+		sp[2], sp[3] = g.sign[(ia+2)%3]*w.g0[pe1], w.g1[pe1]
 		r1, r2 := g.gm[1], g.gm[2]
-		for l := range 6 {
-			r1 -= ref.div[1][l] * sp[l]
-			r2 -= ref.div[2][l] * sp[l]
+		for l := range 4 {
+			r1 -= ra.div[0][l] * sp[l]
+			r2 -= ra.div[1][l] * sp[l]
 		}
-		sp[6] = ref.binv[0][0]*r1 + ref.binv[0][1]*r2
-		sp[7] = ref.binv[1][0]*r1 + ref.binv[1][1]*r2
-		var st [8]float64
-		for j := range 8 {
-			st[j] = sp[j] + g.what[0]*ref.lam[ia][0][j] + g.what[1]*ref.lam[ia][1][j]
+		sp[4] = ref.binv[0][0]*r1 + ref.binv[0][1]*r2
+		sp[5] = ref.binv[1][0]*r1 + ref.binv[1][1]*r2
+		var st [6]float64
+		for j := range 6 {
+			st[j] = sp[j] + g.what[0]*ra.lam[0][j] + g.what[1]*ra.lam[1][j]
 		}
-		idx := [3]int{za, int(w.zm[w.pe[pt][0]]), int(w.zm[w.pe[pt][1]])}
+		idx := [3]int{za, int(w.zm[pe0]), int(w.zm[pe1])}
 		for ci, I := range idx {
 			if I < 0 {
 				continue
 			}
-			bi := 0.0
+			var s [3]float64
 			for kl := range 3 {
-				p := &ref.pref[ia][kl][ci]
-				s := 0.0
-				for j := range 8 {
-					s += p[j] * st[j]
-				}
-				bi += g.gs[kl] * s
+				p := &ra.pref[kl][ci]
+				s[kl] = p[0]*st[0] + p[1]*st[1] + p[2]*st[2] + p[3]*st[3] + p[4]*st[4] + p[5]*st[5]
 			}
-			w.b[I] -= bi
+			w.b[I] -= g.gs[0]*s[0] + g.gs[1]*s[1] + g.gs[2]*s[2]
 			for di, J := range idx {
-				if J < 0 {
-					continue
+				if J < 0 || J > I {
+					continue // the lower triangle
 				}
-				kr := &ref.kref[ia]
-				w.k[I*nz+J] += g.gs[0]*kr[0][ci][di] + g.gs[1]*kr[1][ci][di] + g.gs[2]*kr[2][ci][di]
+				w.k[I*nz+J] += g.gs[0]*ra.kref[0][ci][di] + g.gs[1]*ra.kref[1][ci][di] + g.gs[2]*ra.kref[2][ci][di]
 			}
 		}
 	}
@@ -270,25 +265,14 @@ func (w *p1Patch) solve(a int) error {
 			}
 		}
 		out := eq.sig[(3*int(t)+ia)*nloc : (3*int(t)+ia+1)*nloc]
-		cr := &ref.curl[ia]
-		for i := range 8 {
-			out[i] = w.sp[pt][i] + cr[i][0]*z[0] + cr[i][1]*z[1] + cr[i][2]*z[2]
+		ra := &ref.act[ia]
+		sp := &w.sp[pt]
+		out[2*ia], out[2*ia+1] = 0, 0
+		for j, i := range ra.dof {
+			out[i] = sp[j] + ra.curl[j][0]*z[0] + ra.curl[j][1]*z[1] + ra.curl[j][2]*z[2]
 		}
-		for i := range 3 {
-			out[2*i] *= g.sign[i]
-		}
+		out[ra.dof[0]] *= g.sign[(ia+1)%3]
+		out[ra.dof[2]] *= g.sign[(ia+2)%3]
 	}
 	return nil
-}
-
-// tri3 returns ∫_T λ_i λ_j λ_k / |T|: 1/10 if i = j = k, 1/30 if two are
-// equal, 1/60 if all differ.
-func tri3(i, j, k int) float64 {
-	switch {
-	case i == j && j == k:
-		return 1. / 10
-	case i == j || j == k || i == k:
-		return 1. / 30
-	}
-	return 1. / 60
 }

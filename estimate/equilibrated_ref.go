@@ -31,6 +31,7 @@ import (
 // since the rules used are exact for these polynomials.
 type rt1Reference struct {
 	mass   [3][8][8]float64 // M̂₀₀, M̂₁₁, M̂₀₁ + M̂₁₀
+	packed [3][36]float64   // mass[kl][i][j] for i ≤ j, row by row, off-diagonal entries doubled
 	div    [3][8]float64    // ∫_T̂ div̂ φ̂_i q̂_m for q̂ = 1, x̂, ŷ
 	binv   [2][2]float64    // inverse of div[1:3][6:8], the interior DOFs' block
 	lam    [3][2][8]float64 // DOFs of λ_i e_k, e_k the unit vectors
@@ -39,10 +40,21 @@ type rt1Reference struct {
 	// basis functions of the vertex ia and of the midpoints of the edges
 	// ia+1 and ia+2 (the edges through the vertex), as columns.
 	curl [3][8][3]float64
-	// kref[ia][kl] = curl[ia]ᵀ mass[kl] curl[ia] and pref[ia][kl] =
-	// curl[ia]ᵀ mass[kl].
-	kref [3][3][3][3]float64
-	pref [3][3][3][8]float64
+	// The tables of the patch of local vertex ia restricted to its active
+	// DOFs, those not on the edge opposite ia.
+	act [3]rt1Active
+}
+
+// rt1Active holds the tables of rt1Reference for one local vertex ia,
+// restricted to the six DOFs that do not vanish in its patch: the moments
+// j = 0, 1 of the edges ia+1 and ia+2, then the two interior DOFs.
+type rt1Active struct {
+	dof  [6]int
+	div  [2][4]float64    // div[1:3] at the edge DOFs
+	lam  [2][6]float64    // lam[ia]
+	curl [6][3]float64    // curl[ia]
+	kref [3][3][3]float64 // curl[ia]ᵀ mass[kl] curl[ia]
+	pref [3][3][6]float64 // curl[ia]ᵀ mass[kl]
 }
 
 var rt1Ref = sync.OnceValue(buildRT1Reference)
@@ -81,6 +93,18 @@ func buildRT1Reference() *rt1Reference {
 			}
 			for mm := range 3 {
 				r.div[mm][i] += w * sign[i] * dv[i] * mono[mm]
+			}
+		}
+	}
+	for kl := range 3 {
+		p := 0
+		for i := range 8 {
+			for j := i; j < 8; j++ {
+				r.packed[kl][p] = r.mass[kl][i][j]
+				if j > i {
+					r.packed[kl][p] *= 2
+				}
+				p++
 			}
 		}
 	}
@@ -148,21 +172,33 @@ func buildRT1Reference() *rt1Reference {
 				r.curl[ia][i][c] = cols[c][i]
 			}
 		}
+		ra := &r.act[ia]
+		i1, i2 := (ia+1)%3, (ia+2)%3
+		ra.dof = [6]int{2 * i1, 2*i1 + 1, 2 * i2, 2*i2 + 1, 6, 7}
+		for j, i := range ra.dof {
+			if j < 4 {
+				ra.div[0][j], ra.div[1][j] = r.div[1][i], r.div[2][i]
+			}
+			ra.lam[0][j], ra.lam[1][j] = r.lam[ia][0][i], r.lam[ia][1][i]
+			ra.curl[j] = r.curl[ia][i]
+		}
 		for kl := range 3 {
 			for c := range 3 {
+				var p [8]float64
 				for j := range 8 {
-					s := 0.0
 					for i := range 8 {
-						s += cols[c][i] * r.mass[kl][i][j]
+						p[j] += cols[c][i] * r.mass[kl][i][j]
 					}
-					r.pref[ia][kl][c][j] = s
+				}
+				for j, i := range ra.dof {
+					ra.pref[kl][c][j] = p[i]
 				}
 				for d := range 3 {
 					s := 0.0
 					for j := range 8 {
-						s += r.pref[ia][kl][c][j] * cols[d][j]
+						s += p[j] * cols[d][j]
 					}
-					r.kref[ia][kl][c][d] = s
+					ra.kref[kl][c][d] = s
 				}
 			}
 		}

@@ -32,7 +32,7 @@ const termCount = 7
 func (eq *equilibration) indicators(dst *Indicators) (EquilibratedParts, error) {
 	m := eq.m
 	nt := m.NumTriangles()
-	terms := dst.scratch(termCount * nt)
+	terms := eq.take(termCount * nt)
 	panel, err := quadrature.GaussLegendre(liftPoints)
 	if err != nil {
 		return EquilibratedParts{}, err
