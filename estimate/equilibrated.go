@@ -215,7 +215,7 @@ type equilibration struct {
 	rule   *quadrature.Triangle
 	line   *quadrature.Line
 	fq     []float64 // f at the rule's points, per triangle
-	diff   []fem.Tensor
+	co     *fem.RegionTable // the diffusion of each region
 	dirE   []bool    // edge is a Dirichlet edge
 	free   []bool    // vertex touches no Dirichlet edge
 	neu    []float64 // per boundary edge: ∫_E ψ_end g_N L_j ds, end 0 = Edge[2e]; 2(k+1) per edge
@@ -268,7 +268,7 @@ func (q Equilibrated) equilibrate(u *fem.Function, p *fem.Problem, dst *Indicato
 		return nil, err
 	}
 	nt, nv, ne := m.NumTriangles(), m.NumVertices(), m.NumEdges()
-	eq.diff = make([]fem.Tensor, nt)
+	eq.co = fem.NewRegionTable(p)
 	eq.dirE = make([]bool, ne)
 	eq.free = make([]bool, nv)
 	for i := range eq.free {
@@ -356,7 +356,6 @@ func (eq *equilibration) triangleData() error {
 			ev.Load(t)
 			cx, cy := ev.Point([3]float64{1. / 3, 1. / 3, 1. / 3})
 			a := p.Diffusion(cx, cy, ev.Region())
-			eq.diff[t] = a
 			area := ev.Area()
 			var r [3]float64
 			for q := range nq {

@@ -5,7 +5,6 @@ import (
 	"fmt"
 	"math"
 
-	"github.com/posteriori-fem/posteriori/fem"
 	"github.com/posteriori-fem/posteriori/internal/parallel"
 	"github.com/posteriori-fem/posteriori/internal/quadrature"
 )
@@ -123,7 +122,7 @@ func (g *p1Triangle) load(eq *equilibration, t int) {
 	}
 	du1, du2 := g.u[1]-g.u[0], g.u[2]-g.u[0]
 	gx, gy := (j11*du1-j10*du2)/d, (j00*du2-j01*du1)/d
-	a := eq.diff[t]
+	a := eq.co.At(m.Region[t])
 	wx, wy := a.Apply(gx, gy)
 	for i := range 3 {
 		b, c := tri[(i+1)%3], tri[(i+2)%3]
@@ -156,7 +155,6 @@ func edgeSigns(tri []int32, t int) [3]float64 {
 func (eq *equilibration) trianglesP1() error {
 	m, p, rule := eq.m, eq.p, eq.rule
 	nq := rule.Len()
-	co := fem.NewRegionTable(p)
 	// Gram matrix of 1, λ_1, λ_2 under the rule (weights summing to 1), and
 	// its inverse, for the projections onto P_0 and P_1.
 	var gram [3][3]float64
@@ -184,7 +182,6 @@ func (eq *equilibration) trianglesP1() error {
 		var fq [quadrature.MaxTrianglePoints]float64
 		var g p1Triangle
 		for t := lo; t < hi; t++ {
-			eq.diff[t] = co.At(m.Region[t])
 			g.load(eq, t)
 			tri := m.Tri[3*t : 3*t+3 : 3*t+3]
 			var xs, ys [3]float64
@@ -290,22 +287,18 @@ func (tw *termWork) triangleP1(t int, v []float64) error {
 	for j := range 8 {
 		c[j] += w0*ref.lamSum[0][j] + w1*ref.lamSum[1][j]
 	}
-	// flux2 = Σ_kl G_kl cᵀ M̂_kl c / det J, by the packed upper triangles.
-	var cc [36]float64
-	p := 0
+	// flux2 = cᵀ M_T c with M_T = Σ_kl G_kl M̂_kl / det J, by the packed
+	// upper triangles, in four partial sums (independent chains of adds).
+	g0, g1, g2 := d[tdGs], d[tdGs+1], d[tdGs+2]
+	p0, p1, p2 := &ref.packed[0], &ref.packed[1], &ref.packed[2]
+	var acc [4]float64
+	q := 0
 	for i := range 8 {
 		for j := i; j < 8; j++ {
-			cc[p] = c[i] * c[j]
-			p++
+			acc[q%4] += (g0*p0[q] + g1*p1[q] + g2*p2[q]) * (c[i] * c[j])
+			q++
 		}
 	}
-	var s [3]float64
-	for kl := range 3 {
-		pk := &ref.packed[kl]
-		for q := range cc {
-			s[kl] += pk[q] * cc[q]
-		}
-	}
-	flux2 := d[tdGs]*s[0] + d[tdGs+1]*s[1] + d[tdGs+2]*s[2]
+	flux2 := (acc[0] + acc[1]) + (acc[2] + acc[3])
 	return tw.finish(t, flux2, d[tdOsc], d[tdOsc+1], d[tdArea], v)
 }

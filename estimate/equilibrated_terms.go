@@ -59,7 +59,8 @@ func (eq *equilibration) indicators(dst *Indicators) (EquilibratedParts, error) 
 		parts.Residual += v[3] * v[3]
 		parts.Dirichlet += v[4]
 		rho2 += v[5]
-		amin = min(amin, eq.diff[t].MinEig())
+		_, at := eq.co.AtMin(m.Region[t])
+		amin = min(amin, at)
 	}
 	parts.Flux = math.Sqrt(parts.Flux)
 	parts.Oscillation = math.Sqrt(parts.Oscillation)
@@ -149,7 +150,7 @@ func (tw *termWork) triangle(t int, v []float64) error {
 	tw.el.Load(t)
 	tw.ev.Load(t)
 	eq.local(t, tw.c[:eq.nloc])
-	d := eq.diff[t]
+	d := eq.co.At(eq.m.Region[t])
 	det := d.XX*d.YY - d.XY*d.XY
 	ixx, ixy, iyy := d.YY/det, -d.XY/det, d.XX/det
 	area := tw.ev.Area()
@@ -177,9 +178,8 @@ func (tw *termWork) triangle(t int, v []float64) error {
 func (tw *termWork) finish(t int, flux2, osc, oscConv, area float64, v []float64) error {
 	eq := tw.eq
 	m, p := eq.m, eq.p
-	d := eq.diff[t]
+	d, at := eq.co.AtMin(m.Region[t])
 	h := m.Diameter(t)
-	at := d.MinEig()
 	mt := h / (math.Pi * math.Sqrt(at))
 	if p.C > 0 {
 		mt = min(mt, 1/math.Sqrt(p.C))
