@@ -214,14 +214,14 @@ type equilibration struct {
 	nloc   int // local RT DOFs
 	rule   *quadrature.Triangle
 	line   *quadrature.Line
-	fq     []float64 // f at the rule's points, per triangle
+	fq     []float64        // f at the rule's points, per triangle
 	co     *fem.RegionTable // the diffusion of each region
-	dirE   []bool    // edge is a Dirichlet edge
-	free   []bool    // vertex touches no Dirichlet edge
-	neu    []float64 // per boundary edge: ∫_E ψ_end g_N L_j ds, end 0 = Edge[2e]; 2(k+1) per edge
-	rt3    []float64 // per triangle and local vertex i: (ψ_i (f − c u_h) − a∇u_h·∇ψ_i, 1)_T
-	rtilde []float64 // per vertex: r_a / (ψ_a, 1)_{ω_a} (0 on Dirichlet vertices)
-	sig    []float64 // per triangle, per local vertex slot: the local coefficients of σ_a
+	dirE   []bool           // edge is a Dirichlet edge
+	free   []bool           // vertex touches no Dirichlet edge
+	neu    []float64        // per boundary edge: ∫_E ψ_end g_N L_j ds, end 0 = Edge[2e]; 2(k+1) per edge
+	rt3    []float64        // per triangle and local vertex i: (ψ_i (f − c u_h) − a∇u_h·∇ψ_i, 1)_T
+	rtilde []float64        // per vertex: r_a / (ψ_a, 1)_{ω_a} (0 on Dirichlet vertices)
+	sig    []float64        // per triangle, per local vertex slot: the local coefficients of σ_a
 	vstart []int32
 	vtri   []int32
 	// terms writes the terms of one triangle (see termCount).
