@@ -286,9 +286,10 @@ func (q Equilibrated) equilibrate(u *fem.Function, p *fem.Problem, dst *Indicato
 	}
 	eq.vstart, eq.vtri = m.VertexTriangles()
 	if dst != nil {
-		// Room for the arrays of the P1 path (see solveP1); the general
-		// path allocates what does not fit.
-		eq.arena = dst.scratch(nt*(3*eq.nloc+p1Stride+3+termCount) + nv + 2*(k+1)*ne)
+		// Room for the arrays of either path: σ_a, the residual parts, the
+		// terms, f at the rule's points or the data of solveP1, r̃ and the
+		// Neumann moments.
+		eq.arena = dst.scratch(nt*(3*eq.nloc+3+termCount+max(p1Stride, eq.rule.Len())) + nv + 2*(k+1)*ne)
 	}
 	if err := eq.dispatch(); err != nil {
 		return nil, err
