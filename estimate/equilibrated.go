@@ -109,7 +109,7 @@ import (
 // with the prescribed divergence and normal components (found by one sweep
 // around the vertex) and ζ ∈ P_2(ω_a) vanishing where τ·n is prescribed,
 // so the minimisation is a symmetric positive definite system of n + 1
-// unknowns (or fewer on the boundary) for n triangles around the vertex,
+// unknowns (at most n + 2 on the boundary) for n triangles around the vertex,
 // assembled in closed form from reference-element tables through the
 // contravariant Piola map and solved by Cholesky factorisation. For P2
 // (and P1 meshes where two pieces touch at a vertex) as a dense

@@ -27,7 +27,7 @@ const (
 	p1Stride = 14
 )
 
-// tri3[i][k][j] is ∫_T λ_i λ_j λ_k / |T| = 2 α!β!γ!/(α+β+γ+2)!: 1/10 if
+// tri3[i][j][k] is ∫_T λ_i λ_j λ_k / |T| = 2 α!β!γ!/(α+β+γ+2)!: 1/10 if
 // i = j = k, 1/30 if two are equal, 1/60 if all differ.
 var tri3 = func() (v [3][3][3]float64) {
 	for i := range 3 {
@@ -35,11 +35,11 @@ var tri3 = func() (v [3][3][3]float64) {
 			for k := range 3 {
 				switch {
 				case i == j && j == k:
-					v[i][k][j] = 1. / 10
+					v[i][j][k] = 1. / 10
 				case i == j || j == k || i == k:
-					v[i][k][j] = 1. / 30
+					v[i][j][k] = 1. / 30
 				default:
-					v[i][k][j] = 1. / 60
+					v[i][j][k] = 1. / 60
 				}
 			}
 		}
@@ -70,9 +70,15 @@ var symIndex = [3][3]int{{0, 1, 2}, {1, 3, 4}, {2, 4, 5}}
 //
 // with M_T the weighted RT_1 mass matrix and C_T the DOFs of the curls of
 // the P2 basis functions, both from the reference tables of rt1Reference;
-// K is symmetric positive definite of order n + 1 (interior vertex) or
-// less, factorised by Cholesky. The indicators' flux term is the quadratic
-// form of M_T in closed form.
+// K is symmetric positive definite, of order n + 1 at an interior vertex
+// and at most n + 2 on the boundary, factorised by Cholesky. The
+// indicators' flux term is the quadratic form of M_T in closed form.
+//
+// References:
+//   - D. Boffi, F. Brezzi and M. Fortin, Mixed Finite Element Methods and
+//     Applications, Springer, 2013 (the discrete sequence P_{k+1} → RT_k →
+//     P_k, curl then divergence, is exact on simply connected domains;
+//     from memory, no section quoted).
 func (eq *equilibration) solveP1() error {
 	m := eq.m
 	nt := m.NumTriangles()

@@ -41,14 +41,6 @@ type p1Slot struct {
 	gm   [3]float64 // (g_a − ρ_a, q)_T for q = 1, λ_1, λ_2
 }
 
-// grow returns s with length n, reusing its storage.
-func grow[T any](s []T, n int) []T {
-	if cap(s) < n {
-		return make([]T, n)
-	}
-	return s[:n]
-}
-
 // solve solves the patch problem of vertex a and writes σ_a into the
 // vertex slots of its triangles.
 func (w *p1Patch) solve(a int) error {
@@ -56,8 +48,8 @@ func (w *p1Patch) solve(a int) error {
 	m := eq.m
 	tris := eq.vtri[eq.vstart[a]:eq.vstart[a+1]]
 	n := len(tris)
-	w.tri, w.ia, w.pe = grow(w.tri, n), grow(w.ia, n), grow(w.pe, n)
-	w.sp, w.done = grow(w.sp, n), grow(w.done, n)
+	w.tri, w.ia, w.pe = resize(w.tri, n), resize(w.ia, n), resize(w.pe, n)
+	w.sp, w.done = resize(w.sp, n), resize(w.done, n)
 	w.edge, w.inc, w.kind = w.edge[:0], w.inc[:0], w.kind[:0]
 	rt := eq.rtilde[a]
 	tri, triEdge := m.Tri, m.TriEdge
@@ -107,7 +99,7 @@ func (w *p1Patch) solve(a int) error {
 		}
 	}
 	ne := len(w.edge)
-	w.g0, w.g1, w.zm = grow(w.g0, ne), grow(w.g1, ne), grow(w.zm, ne)
+	w.g0, w.g1, w.zm = resize(w.g0, ne), resize(w.g1, ne), resize(w.zm, ne)
 	// Prescribed moments, and the boundary edges of the fan.
 	k := eq.k
 	ends := [2]int{-1, -1}
@@ -175,7 +167,7 @@ func (w *p1Patch) solve(a int) error {
 		}
 		next := int(w.pe[pt][s])
 		ik, in := (ia+2-s)%3, (ia+1+s)%3 // local edges of cur and next
-		if w.kind[next] != patchPrescribed || nb == 0 {
+		if w.kind[next] != patchPrescribed {
 			w.g0[next] = g.sign[in] * (g.gm[0] - g.sign[ik]*w.g0[cur])
 		}
 		cur = next
@@ -202,7 +194,7 @@ func (w *p1Patch) solve(a int) error {
 			nz++
 		}
 	}
-	w.k, w.b = grow(w.k, nz*nz), grow(w.b, nz)
+	w.k, w.b = resize(w.k, nz*nz), resize(w.b, nz)
 	clear(w.k)
 	clear(w.b)
 	for pt := range n {

@@ -71,9 +71,11 @@ func sum(v []float64) float64 {
 	return s
 }
 
-func resize(dst []float64, n int) []float64 {
+// resize returns dst with length n, reusing its storage if it has room;
+// the values are not cleared.
+func resize[T any](dst []T, n int) []T {
 	if cap(dst) < n {
-		return make([]float64, n)
+		return make([]T, n)
 	}
 	return dst[:n]
 }
