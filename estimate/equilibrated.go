@@ -118,16 +118,19 @@ import (
 // lapack64.Getrf). One patch per vertex, split over GOMAXPROCS
 // goroutines; every value is summed in a fixed order, so the result does
 // not depend on GOMAXPROCS. The cost is linear in the number of triangles
-// for bounded vertex degree; measured (BenchmarkEquilibrated, uniform
-// meshes of the unit square, 2 cores): P1 about COSTP1 ns per triangle at
-// 1e6 triangles, RATIOP1 times a product with the P1 stiffness matrix of the
-// same mesh; P2 about COSTP2 ns per triangle at 1e5 triangles. Memory, in
-// float64s per triangle: for P1, 24 for the three patch contributions to
-// σ_h, 14 of geometry and divergence data, 3 residual parts and 7 terms;
-// for P2, 45, 16 values of f at the quadrature points, 3 and 7; and
-// 2(p+1) per edge and one per vertex. One Estimate with a nil dst
-// allocates 471 bytes per triangle for P1 and 721 for P2 (measured on
-// 100352 triangles); a dst used again keeps these arrays as scratch.
+// for bounded vertex degree. Measured with BenchmarkEquilibrated (uniform
+// meshes of the unit square, 2 cores shared with other work, median of
+// three runs): P1 about 1700 ns per triangle at 1e6 triangles, of the
+// order of 200 products with the P1 stiffness matrix of the same mesh
+// (about a tenth of it evaluates f at the 12 points of each triangle); the
+// general path takes some 20 times as long on P1 meshes; P2 about 2e5 ns
+// per triangle at 1e5 triangles. Memory, in float64s per triangle: for
+// P1, 24 for the three patch contributions to σ_h, 14 of geometry and
+// divergence data, 3 residual parts and 7 terms; for P2, 45, 16 values of
+// f at the quadrature points, 3 and 7; and 2(p+1) per edge and one per
+// vertex. One Estimate with a nil dst allocates 471 bytes per triangle for
+// P1 and 680 for P2 (BenchmarkEquilibrated, 100352 triangles); a dst used
+// again keeps these arrays as scratch.
 //
 // Degree of the flux: σ_h ∈ RT_p for u_h ∈ P_p (Ern and Vohralík 2015),
 // because ψ_a a∇u_h ∈ P_p² lies in RT_p and not in RT_{p−1}: with RT_{p−1}
