@@ -32,7 +32,7 @@
 // constant, for any contrast of a piecewise-constant diffusion, and it
 // includes the error of an inexactly solved u_h. Use it when the number
 // itself matters (a certified error, a stopping test); it costs one small
-// dense saddle-point solve per vertex. Residual and Recovery are cheaper and
+// linear solve per vertex. Residual and Recovery are cheaper and
 // good at locating the error, but their totals are off by an unknown
 // factor (see examples/compare).
 //

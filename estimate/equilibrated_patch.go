@@ -221,7 +221,7 @@ func (w *patchWork) element(t, a, ia int) {
 	clear(w.bloc[:nm*nloc])
 	clear(w.floc[:nloc])
 	clear(w.gloc[:nm])
-	d := eq.diff[t]
+	d := eq.co.At(eq.m.Region[t])
 	det := d.XX*d.YY - d.XY*d.XY
 	ixx, ixy, iyy := d.YY/det, -d.XY/det, d.XX/det
 	bx, by := w.ev.BaryGrad(ia)

@@ -32,7 +32,7 @@ const termCount = 7
 func (eq *equilibration) indicators(dst *Indicators) (EquilibratedParts, error) {
 	m := eq.m
 	nt := m.NumTriangles()
-	terms := dst.scratch(termCount * nt)
+	terms := eq.take(termCount * nt)
 	panel, err := quadrature.GaussLegendre(liftPoints)
 	if err != nil {
 		return EquilibratedParts{}, err
@@ -40,7 +40,7 @@ func (eq *equilibration) indicators(dst *Indicators) (EquilibratedParts, error) 
 	err = parallel.For(nt, 256, func(lo, hi int) error {
 		tw := newTermWork(eq, panel)
 		for t := lo; t < hi; t++ {
-			if err := tw.triangle(t, terms[termCount*t:termCount*(t+1)]); err != nil {
+			if err := eq.terms(tw, t, terms[termCount*t:termCount*(t+1)]); err != nil {
 				return err
 			}
 		}
@@ -59,7 +59,8 @@ func (eq *equilibration) indicators(dst *Indicators) (EquilibratedParts, error) 
 		parts.Residual += v[3] * v[3]
 		parts.Dirichlet += v[4]
 		rho2 += v[5]
-		amin = min(amin, eq.diff[t].MinEig())
+		_, at := eq.co.AtMin(m.Region[t])
+		amin = min(amin, at)
 	}
 	parts.Flux = math.Sqrt(parts.Flux)
 	parts.Oscillation = math.Sqrt(parts.Oscillation)
@@ -155,12 +156,12 @@ func newTermWork(eq *equilibration, panel *quadrature.Line) *termWork {
 // triangle writes the terms of triangle t into v (see termCount).
 func (tw *termWork) triangle(t int, v []float64) error {
 	eq := tw.eq
-	m, p, rule, k := eq.m, eq.p, eq.rule, eq.k
+	rule, k := eq.rule, eq.k
 	nq := rule.Len()
 	tw.el.Load(t)
 	tw.ev.Load(t)
 	eq.local(t, tw.c[:eq.nloc])
-	d := eq.diff[t]
+	d := eq.co.At(eq.m.Region[t])
 	det := d.XX*d.YY - d.XY*d.XY
 	ixx, ixy, iyy := d.YY/det, -d.XY/det, d.XX/det
 	area := tw.ev.Area()
@@ -177,18 +178,22 @@ func (tw *termWork) triangle(t int, v []float64) error {
 		flux2 += rule.W[q] * area * (sx*(ixx*sx+ixy*sy) + sy*(ixy*sx+iyy*sy))
 	}
 	f := eq.fq[t*nq : (t+1)*nq]
+	osc := tw.projectionError(f, k, area)
+	oscConv := tw.projectionError(f, k-1, area)
+	return tw.finish(t, flux2, osc, oscConv, area, v)
+}
+
+// finish writes the terms of triangle t into v from ‖a^{−½}(σ_h +
+// a∇u_h)‖²_T (flux2), ‖f − Π_p f‖²_T (osc) and ‖f − Π_{p−1} f‖²_T
+// (oscConv), adding the boundary terms.
+func (tw *termWork) finish(t int, flux2, osc, oscConv, area float64, v []float64) error {
+	eq := tw.eq
+	m, p := eq.m, eq.p
+	d, at := eq.co.AtMin(m.Region[t])
 	h := m.Diameter(t)
-	at := d.MinEig()
 	mt := h / (math.Pi * math.Sqrt(at))
 	if p.C > 0 {
 		mt = min(mt, 1/math.Sqrt(p.C))
-	}
-	osc := tw.projectionError(f, k, area)
-	oscConv := 0.0
-	if k == 1 {
-		oscConv = tw.projectionError(f, 0, area)
-	} else {
-		oscConv = tw.projectionError(f, 1, area)
 	}
 	neu, err := tw.neumann(t, h, at, area)
 	if err != nil {
@@ -197,6 +202,9 @@ func (tw *termWork) triangle(t int, v []float64) error {
 	dir := 0.0
 	for i := range 3 {
 		if e := m.TriEdge[3*t+i]; eq.dirE[e] {
+			if tw.ev.Triangle() != t {
+				tw.ev.Load(t)
+			}
 			v, err := tw.lift(t, i, d)
 			if err != nil {
 				return err

@@ -354,23 +354,37 @@ func TestEquilibratedReactionNeumann(t *testing.T) {
 	}
 }
 
-// Results do not depend on GOMAXPROCS: every sum has a fixed order.
+// Results do not depend on GOMAXPROCS: every sum has a fixed order. The
+// indicators and the flux σ_h are compared bit for bit, on the P1 path
+// and on the general path (P2), on meshes large enough for several chunks.
 func TestEquilibratedDeterministic(t *testing.T) {
+	defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(0))
 	ex, p := known.Kellogg()
-	m, _ := mesh.Quadrants(16)
-	u, _, _ := run(t, m, 1, ex, p)
-	var got [2][]float64
-	for i, procs := range []int{1, 2} {
-		old := runtime.GOMAXPROCS(procs)
-		in, err := Equilibrated{}.Estimate(nil, u, p)
-		runtime.GOMAXPROCS(old)
-		if err != nil {
-			t.Fatal(err)
+	for _, deg := range []int{1, 2} {
+		m, _ := mesh.Quadrants(16)
+		if deg == 1 {
+			m, _ = mesh.Quadrants(40)
 		}
-		got[i] = in.Eta2
-	}
-	if !slices.Equal(got[0], got[1]) {
-		t.Error("indicators differ between GOMAXPROCS 1 and 2")
+		u, _, _ := run(t, m, deg, ex, p)
+		var eta [][]float64
+		var flux [][]float64
+		for _, procs := range []int{1, 2, 3} {
+			runtime.GOMAXPROCS(procs)
+			in, err := Equilibrated{}.Estimate(nil, u, p)
+			if err != nil {
+				t.Fatal(err)
+			}
+			sig, err := Equilibrated{}.Flux(u, p)
+			if err != nil {
+				t.Fatal(err)
+			}
+			eta, flux = append(eta, in.Eta2), append(flux, sig.U)
+		}
+		for i := 1; i < len(eta); i++ {
+			if !slices.Equal(eta[0], eta[i]) || !slices.Equal(flux[0], flux[i]) {
+				t.Errorf("P%d: indicators or flux differ between GOMAXPROCS 1 and %d", deg, i+1)
+			}
+		}
 	}
 }
 

@@ -119,70 +119,25 @@ func (f *fitter) fit(vx, vy float64, c []float64) (scale float64, ok bool) {
 	if scale == 0 {
 		return 0, false
 	}
-	var a [6][6]float64
+	var a [36]float64 // the normal equations, row major with stride nc
 	var bx, by [6]float64
 	var b [6]float64
 	for _, s := range samples {
 		basis(nc, (s.x-vx)/scale, (s.y-vy)/scale, b[:])
 		for i := range nc {
 			for j := range nc {
-				a[i][j] += b[i] * b[j]
+				a[i*nc+j] += b[i] * b[j]
 			}
 			bx[i] += b[i] * s.gx
 			by[i] += b[i] * s.gy
 		}
 	}
-	if !cholesky(&a, nc) {
+	// A pivot below 1e-10 times the largest diagonal entry means the
+	// sampling points do not determine the fit.
+	if !cholesky(a[:nc*nc], nc, 1e-10) {
 		return 0, false
 	}
-	solve(&a, nc, bx[:nc], c[:nc])
-	solve(&a, nc, by[:nc], c[nc:2*nc])
+	cholSolve(a[:nc*nc], nc, bx[:nc], c[:nc])
+	cholSolve(a[:nc*nc], nc, by[:nc], c[nc:2*nc])
 	return scale, true
-}
-
-// cholesky overwrites the lower triangle of the symmetric n×n matrix a with
-// its Cholesky factor and reports whether a is safely positive definite: a
-// pivot below 1e-10 times the largest diagonal entry means the sampling
-// points do not determine the fit.
-func cholesky(a *[6][6]float64, n int) bool {
-	dmax := 0.0
-	for i := range n {
-		dmax = max(dmax, a[i][i])
-	}
-	for j := range n {
-		d := a[j][j]
-		for k := range j {
-			d -= a[j][k] * a[j][k]
-		}
-		if !(d > 1e-10*dmax) {
-			return false
-		}
-		a[j][j] = math.Sqrt(d)
-		for i := j + 1; i < n; i++ {
-			s := a[i][j]
-			for k := range j {
-				s -= a[i][k] * a[j][k]
-			}
-			a[i][j] = s / a[j][j]
-		}
-	}
-	return true
-}
-
-// solve solves L Lᵀ x = b with the factor from cholesky.
-func solve(a *[6][6]float64, n int, b, x []float64) {
-	for i := range n {
-		s := b[i]
-		for k := range i {
-			s -= a[i][k] * x[k]
-		}
-		x[i] = s / a[i][i]
-	}
-	for i := n - 1; i >= 0; i-- {
-		s := x[i]
-		for k := i + 1; k < n; k++ {
-			s -= a[k][i] * x[k]
-		}
-		x[i] = s / a[i][i]
-	}
 }
