@@ -117,7 +117,7 @@ func (eq *equilibration) treeBound(share []float64) (float64, bool) {
 	}
 	tree := 0.0
 	for t := range nt {
-		f2 := rt0Energy(eq.m.Tri[3*t:3*t+3], eq.m.X, m.Area(t), flux[3*t:3*t+3], eq.diff[t])
+		f2 := rt0Energy(eq.m.Tri[3*t:3*t+3], eq.m.X, m.Area(t), flux[3*t:3*t+3], eq.co.At(m.Region[t]))
 		tree += f2
 		share[t] += f2
 	}
@@ -134,7 +134,8 @@ func (eq *equilibration) treeBound(share []float64) (float64, bool) {
 // of a mean-zero function on triangle t (see Equilibrated).
 func (eq *equilibration) meanWeight(t int) float64 {
 	h := eq.m.Diameter(t)
-	w := h * h / (math.Pi * math.Pi * eq.diff[t].MinEig())
+	_, amin := eq.co.AtMin(eq.m.Region[t])
+	w := h * h / (math.Pi * math.Pi * amin)
 	if c := eq.p.C; c > 0 {
 		w = min(w, 1/c)
 	}
