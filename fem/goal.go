@@ -306,3 +306,22 @@ func addGoalLoad(s *Space, p *Problem, b []float64) error {
 	}
 	return nil
 }
+
+// Dual returns the dual problem of p for the goal g,
+//
+//	a(v, z) = J₀(v) for every v with v = 0 on the Dirichlet edges,
+//
+// as a Problem: p's diffusion, reaction and boundary tags, homogeneous
+// Dirichlet data on p's Dirichlet tags, no source, no Neumann data, and
+// g's load (Problem.Goal). The bilinear form is symmetric, so its matrix
+// is that of p; any solver of p solves it.
+func Dual(p *Problem, g Goal) *Problem {
+	d := &Problem{A: p.A, AFunc: p.AFunc, C: p.C, PureNeumann: p.PureNeumann, Goal: g}
+	if len(p.Dirichlet) > 0 {
+		d.Dirichlet = make(map[int32]Func, len(p.Dirichlet))
+		for tag := range p.Dirichlet {
+			d.Dirichlet[tag] = nil
+		}
+	}
+	return d
+}
