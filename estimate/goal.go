@@ -26,9 +26,15 @@ import (
 // patchwise higher-order interpolation; no second solve), and I_h the
 // nodal interpolant of degree p. The identity behind it is
 // J(u) − J(u_h) = a(u − u_h, z) = ρ(u_h)(z − I_h z) for the exact dual
-// solution z, Galerkin orthogonality removing I_h z; the estimate replaces
-// z by z⁺, and is exact up to that replacement, the algebraic error of the
-// solves and the Dirichlet data's interpolation (not counted). The sum is
+// solution z, Galerkin orthogonality removing I_h z, when u − u_h vanishes
+// on the Dirichlet edges. The interpolation of the Dirichlet data adds
+//
+//	− Σ_{Dirichlet E} ∫_E (g_D − u_h) a∇y·n ds,   y = z − ℓ
+//
+// (Green's formula; ℓ = 0 for the means, φ for Flux), which ρ_T includes
+// for its Dirichlet edges with the discrete y_h. The estimate replaces z by
+// z⁺, and is exact up to that replacement and the algebraic error of the
+// solves. The sum is
 // signed: it estimates J(u) − J(u_h) with its sign, and its parts may
 // cancel.
 //
@@ -145,9 +151,9 @@ func (d DualWeighted) Estimate(dst *GoalIndicators, u, z *fem.Function, p *fem.P
 	}
 	w := goalWeights{deg: deg, rec: rec}
 	err = parallel.For(nt, 512, func(lo, hi int) error {
-		ev, nb := fem.NewEvaluator(u), fem.NewEvaluator(u)
+		ev, nb, yev := fem.NewEvaluator(u), fem.NewEvaluator(u), fem.NewEvaluator(y)
 		for k := lo; k < hi; k++ {
-			rho, bound, err := goalElement(m, ev, nb, p, rule, line, &w, k)
+			rho, bound, err := goalElement(m, ev, nb, yev, p, rule, line, &w, k)
 			if err != nil {
 				return err
 			}
@@ -205,7 +211,7 @@ func (w *goalWeights) at(l [3]float64, yp *[10]float64, ip *[6]float64) float64 
 }
 
 // goalElement returns ρ_T and ι_T of triangle k.
-func goalElement(m *mesh.Mesh, ev, nb *fem.Evaluator, p *fem.Problem, rule *quadrature.Triangle, line *quadrature.Line, w *goalWeights, k int) (rho, bound float64, err error) {
+func goalElement(m *mesh.Mesh, ev, nb, yev *fem.Evaluator, p *fem.Problem, rule *quadrature.Triangle, line *quadrature.Line, w *goalWeights, k int) (rho, bound float64, err error) {
 	ev.Load(k)
 	var yp [10]float64
 	var ip [6]float64
@@ -244,15 +250,21 @@ func goalElement(m *mesh.Mesh, ev, nb *fem.Evaluator, p *fem.Problem, rule *quad
 		j, jj := (i+1)%3, (i+2)%3
 		tag := m.EdgeTag[e]
 		boundary := m.IsBoundary(e)
-		if boundary {
-			if _, ok := p.Dirichlet[tag]; ok {
-				continue
-			}
-		}
 		ax, ay := m.Vertex(int(tv[j]))
 		bx, by := m.Vertex(int(tv[jj]))
 		length := math.Hypot(bx-ax, by-ay)
 		nx, ny := (by-ay)/length, -(bx-ax)/length // outward: the triangle is counter-clockwise
+		if boundary {
+			if gd, ok := p.Dirichlet[tag]; ok {
+				d, err := dirichletTerm(ev, yev, p, line, k, j, jj, length, nx, ny, gd)
+				if err != nil {
+					return 0, 0, err
+				}
+				rho += d
+				bound += math.Abs(d)
+				continue
+			}
+		}
 		var other int
 		if !boundary {
 			other = int(m.EdgeTri[2*e])
@@ -311,4 +323,29 @@ func goalElement(m *mesh.Mesh, ev, nb *fem.Evaluator, p *fem.Problem, rule *quad
 		bound += c * math.Sqrt(e2*ze2)
 	}
 	return rho, bound, nil
+}
+
+// dirichletTerm returns −∫_E (g_D − u_h) a∇y_h·n ds on the Dirichlet edge
+// of triangle k from local vertex j to jj: the part of J(u) − J(u_h) that
+// the interpolation of the Dirichlet data makes (see DualWeighted).
+func dirichletTerm(ev, yev *fem.Evaluator, p *fem.Problem, line *quadrature.Line, k, j, jj int, length, nx, ny float64, gd fem.Func) (float64, error) {
+	yev.Load(k)
+	d := 0.0
+	for q, t := range line.X {
+		var l [3]float64
+		l[j], l[jj] = 1-t, t
+		x, y := ev.Point(l)
+		g := 0.0
+		if gd != nil {
+			g = gd(x, y)
+			if math.IsNaN(g) || math.IsInf(g, 0) {
+				return 0, fmt.Errorf("estimate: DualWeighted: triangle %d at (%g, %g): Dirichlet data %g: %w", k, x, y, g, ErrNotFinite)
+			}
+		}
+		v, _, _ := ev.Eval(l)
+		_, gx, gy := yev.Eval(l)
+		fx, fy := p.Diffusion(x, y, ev.Region()).Apply(gx, gy)
+		d -= line.W[q] * length * (g - v) * (fx*nx + fy*ny)
+	}
+	return d, nil
 }

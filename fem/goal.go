@@ -99,7 +99,7 @@ func linearValue(g Goal, u *Function, p *Problem) (float64, error) {
 // W (nil means w = 1, the mean over the domain). Its load ∫ w φ_i / ∫ w
 // is integrated by the Dunavant rule of degree 2p + 4 on each triangle
 // (exact for w of degree p + 4), the denominator by the rule of degree
-// ErrorDegree. A weight that integrates to zero gives ErrGoal, a NaN or
+// ErrorDegree. A weight whose integral is zero to within 1e-12 ∫|w| gives ErrGoal, a NaN or
 // infinite one ErrNotFinite. RegionMean and BoxMean are the exact cases
 // of indicator weights.
 type Mean struct {
@@ -120,12 +120,12 @@ func (g Mean) total(s *Space) (float64, error) {
 		return 0, err
 	}
 	m := s.Mesh
-	part := make([]float64, m.NumTriangles())
+	part, absPart := make([]float64, m.NumTriangles()), make([]float64, m.NumTriangles())
 	err = parallel.For(m.NumTriangles(), 1024, func(lo, hi int) error {
 		var geo geometry
 		for k := lo; k < hi; k++ {
 			s.geom(&geo, k)
-			v := 0.0
+			v, va := 0.0, 0.0
 			for q := range r.Len() {
 				x, y := geo.point([3]float64{r.Bary[3*q], r.Bary[3*q+1], r.Bary[3*q+2]})
 				w := g.w(x, y)
@@ -133,20 +133,23 @@ func (g Mean) total(s *Space) (float64, error) {
 					return atTriangle(k, x, y, fmt.Errorf("%w: goal weight w = %g", ErrNotFinite, w))
 				}
 				v += r.W[q] * w
+				va += r.W[q] * math.Abs(w)
 			}
-			part[k] = v * geo.area
+			part[k], absPart[k] = v*geo.area, va*geo.area
 		}
 		return nil
 	})
 	if err != nil {
 		return 0, err
 	}
-	t := 0.0
-	for _, v := range part {
+	t, abs := 0.0, 0.0
+	for k, v := range part {
 		t += v
+		abs += absPart[k]
 	}
-	if t == 0 || math.IsNaN(t) || math.IsInf(t, 0) {
-		return 0, fmt.Errorf("fem: Mean: the weight integrates to %g over the mesh: %w", t, ErrGoal)
+	// Zero to within the rounding of the sum: 1e-12 of ∫|w|.
+	if math.Abs(t) <= 1e-12*abs || math.IsNaN(t) || math.IsInf(t, 0) {
+		return 0, fmt.Errorf("fem: Mean: the weight integrates to %g over the mesh (∫|w| = %g): %w", t, abs, ErrGoal)
 	}
 	return t, nil
 }
