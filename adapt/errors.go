@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 
+	"github.com/posteriori-fem/posteriori/fem"
 	"github.com/posteriori-fem/posteriori/mesh"
 )
 
@@ -46,6 +47,11 @@ var (
 	// values, no indicators or the wrong number of them, or a mask of the
 	// wrong length. The StepError's Stage says which.
 	ErrMethod = errors.New("method returned a result that does not fit the step")
+
+	// ErrGoal: Method.Goal cannot be used on the problem's mesh (a weight
+	// that integrates to zero, a flux tag that no boundary edge carries).
+	// It is the value of fem.ErrGoal, shared across the library.
+	ErrGoal = fem.ErrGoal
 )
 
 // IndicatorError reports the first invalid squared indicator, in index

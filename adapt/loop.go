@@ -67,10 +67,29 @@ const DefaultAlgebraicFraction = 0.1
 // Method is how each step is done. Nil fields take the defaults:
 // FEMSolver{} (this library's assembly and solver), estimate.Residual{} and
 // Dorfler{Theta: 0.5}.
+//
+// Goal, if not nil, makes the loop goal-oriented: each step also solves the
+// dual problem fem.Dual(Data, Goal), a(v, z) = J₀(v), with the same Solver
+// (its matrix is the primal one; the solve starts from the previous dual
+// solution carried to the new mesh and runs to the solver's own tolerance),
+// estimates J(u) − J(u_h) by estimate.DualWeighted, and records the goal
+// value, its estimate and, when the problem has an exact solution and Goal
+// is a fem.ExactGoal, the true goal error and the goal effectivity. The
+// dual solve's time adds to Step.SolveTime, the goal estimate's to
+// EstimateTime, the exact goal value's to ErrorTime. With a goal the
+// primal solve also runs to the solver's own tolerance
+// (Settings.AlgebraicFraction does not apply): an algebraic error set
+// against η would enter J(u_h) at the energy rate, not at the goal's
+// doubled rate. The goal is checked on
+// the initial mesh (Goal.Load) before any solve. MarkGoal marks by the
+// goal's indicators ι_T² (estimate.GoalIndicators.Mark2) instead of the
+// estimator's η_T²; it needs Goal. Settings.Tol still applies to η.
 type Method struct {
 	Solver    Solver
 	Estimator estimate.Estimator
 	Marker    Marker
+	Goal      fem.Goal
+	MarkGoal  bool
 }
 
 // Solver solves the problem on the space it is given. A caller with an
@@ -166,6 +185,10 @@ type Result struct {
 	Indicators *estimate.Indicators
 	Steps      []Step
 	Status     Status
+	// Dual and Goal are the last step's dual solution and goal indicators,
+	// when Method.Goal is set.
+	Dual *fem.Function
+	Goal *estimate.GoalIndicators
 }
 
 // Stages of a step, as named in StepError.
@@ -219,6 +242,9 @@ func Run(ctx context.Context, p Problem, s Settings, meth Method) (*Result, erro
 	if err := check(p, s); err != nil {
 		return nil, err
 	}
+	if err := checkGoal(p, meth); err != nil {
+		return nil, err
+	}
 	if meth.Solver == nil {
 		meth.Solver = FEMSolver{}
 	}
@@ -238,6 +264,11 @@ func Run(ctx context.Context, p Problem, s Settings, meth Method) (*Result, erro
 	var in *estimate.Indicators
 	var marks []bool
 	var err2 []float64
+	var gs *goalState
+	var dualGuess []float64
+	if meth.Goal != nil {
+		gs = &goalState{goal: meth.Goal, dual: fem.Dual(p.Data, meth.Goal)}
+	}
 	for step := 0; ; step++ {
 		fail := func(stage string, err error) (*Result, error) {
 			return res, &StepError{Step: step, Stage: stage, Err: err}
@@ -261,7 +292,7 @@ func Run(ctx context.Context, p Problem, s Settings, meth Method) (*Result, erro
 		var st fem.SolveStats
 		if ts, ok := meth.Solver.(TargetSolver); ok {
 			etol := 0.0
-			if frac > 0 && step > 0 {
+			if frac > 0 && step > 0 && meth.Goal == nil {
 				prev := res.Steps[step-1]
 				etol = frac * max(prev.Estimate-prev.Algebraic, 0)
 			}
@@ -306,6 +337,12 @@ func Run(ctx context.Context, p Problem, s Settings, meth Method) (*Result, erro
 				rec.Effectivity = rec.Estimate / e
 			}
 		}
+		if gs != nil {
+			if stage, err := gs.step(&rec, meth, sp, u, p.Data, p.Exact, dualGuess); err != nil {
+				return fail(stage, err)
+			}
+			res.Dual, res.Goal = gs.z, gs.in
+		}
 		// The step is complete: it becomes the result.
 		res.Mesh, res.Solution, res.Indicators = m, u, in
 		status := Running
@@ -321,7 +358,11 @@ func Run(ctx context.Context, p Problem, s Settings, meth Method) (*Result, erro
 				return fail(StageMark, err)
 			}
 			t = time.Now()
-			marks, err = meth.Marker.Mark(marks, in.Eta2)
+			eta2 := in.Eta2
+			if meth.MarkGoal {
+				eta2 = gs.in.Mark2
+			}
+			marks, err = meth.Marker.Mark(marks, eta2)
 			rec.MarkTime = time.Since(t)
 			if err == nil && len(marks) != m.NumTriangles() {
 				err = fmt.Errorf("%w: marker returned %d marks for %d triangles", ErrMethod, len(marks), m.NumTriangles())
@@ -366,6 +407,13 @@ func Run(ctx context.Context, p Problem, s Settings, meth Method) (*Result, erro
 		ns, _ := fem.NewSpace(next, p.Degree)
 		if guess, err = u.Prolong(ns, parents); err != nil {
 			return fail(StageRefine, err)
+		}
+		if gs != nil {
+			zg, err := gs.z.Prolong(ns, parents)
+			if err != nil {
+				return fail(StageRefine, err)
+			}
+			dualGuess = zg.U
 		}
 		m = next
 	}

@@ -147,7 +147,7 @@ func TestSentinelsHaveNoPrefix(t *testing.T) {
 		fem.ErrArgument, fem.ErrDegree, fem.ErrDiffusion, fem.ErrReaction, fem.ErrNotFinite, fem.ErrIllPosed, fem.ErrBoundaryCondition,
 		fem.ErrRegion, fem.ErrNotConverged, fem.ErrOutside,
 		estimate.ErrArgument, estimate.ErrNotFinite, estimate.ErrLength, estimate.ErrTooFew,
-		adapt.ErrTheta, adapt.ErrIndicator, adapt.ErrTooMany, adapt.ErrSettings, adapt.ErrArgument, adapt.ErrMethod, adapt.ErrCSV,
+		adapt.ErrTheta, adapt.ErrIndicator, adapt.ErrTooMany, adapt.ErrSettings, adapt.ErrArgument, adapt.ErrMethod, adapt.ErrCSV, fem.ErrGoal,
 		sparse.ErrDims, sparse.ErrIndex, sparse.ErrNotFinite, sparse.ErrNotPositive, sparse.ErrStructure, sparse.ErrSettings,
 		sparse.ErrNotConverged, sparse.ErrBreakdown, quadrature.ErrDegree,
 	} {
@@ -171,6 +171,7 @@ func TestSharedSentinels(t *testing.T) {
 		{"argument", []error{mesh.ErrArgument, fem.ErrArgument, estimate.ErrArgument, adapt.ErrArgument}},
 		{"length", []error{mesh.ErrLength, estimate.ErrLength}},
 		{"not converged", []error{fem.ErrNotConverged, sparse.ErrNotConverged}},
+		{"goal", []error{fem.ErrGoal, estimate.ErrGoal, adapt.ErrGoal}},
 	} {
 		for i, err := range tc.errs[1:] {
 			if err != tc.errs[0] {

@@ -28,16 +28,29 @@ type Step struct {
 	AtFloor     bool    // whether the solve stopped at the rounding floor (fem.SolveStats.AtFloor), not at a tolerance
 	Algebraic   float64 // the part of Estimate that accounts for the algebraic error of the solve (estimate.Indicators.Algebraic; 0 if the estimator does not separate it)
 
+	// The goal (Method.Goal): HasGoal reports whether Goal and
+	// GoalEstimate were computed, HasGoalError whether GoalError and
+	// GoalEffectivity were measured (an exact solution and a fem.ExactGoal).
+	HasGoal         bool
+	Goal            float64 // J(u_h)
+	GoalEstimate    float64 // the estimate of J(u) − J(u_h), signed (estimate.DualWeighted)
+	HasGoalError    bool
+	GoalError       float64 // J(u) − J(u_h), signed
+	GoalEffectivity float64 // GoalEstimate / GoalError
+
 	SolveTime, EstimateTime, ErrorTime, MarkTime, RefineTime time.Duration
 }
 
 // CSVHeader is the header line of the step records in CSV: one column per
 // field of Step, times in seconds; error and effectivity are empty when
-// they were not measured; at_floor is true or false.
+// they were not measured; at_floor is true or false. The goal fields are
+// goal (Goal) and goal_estimate (GoalEstimate), empty without a goal, and
+// goal_error (GoalError), empty when it was not measured; HasGoal,
+// HasGoalError and GoalEffectivity follow from them when read.
 var CSVHeader = []string{
 	"step", "triangles", "dofs", "free_dofs", "estimate", "oscillation", "error", "effectivity",
 	"marked", "iterations", "solve_s", "estimate_s", "error_s", "mark_s", "refine_s", "at_floor",
-	"algebraic",
+	"algebraic", "goal", "goal_estimate", "goal_error",
 }
 
 // csvFirstColumns is the number of columns of the first version of the
@@ -63,7 +76,13 @@ func WriteCSV(w io.Writer, steps []Step) error {
 			strconv.Itoa(s.Step), strconv.Itoa(s.Triangles), strconv.Itoa(s.DOFs), strconv.Itoa(s.FreeDOFs),
 			f(s.Estimate), f(s.Oscillation), e, eff, strconv.Itoa(s.Marked), strconv.Itoa(s.Iterations),
 			sec(s.SolveTime), sec(s.EstimateTime), sec(s.ErrorTime), sec(s.MarkTime), sec(s.RefineTime),
-			strconv.FormatBool(s.AtFloor), f(s.Algebraic),
+			strconv.FormatBool(s.AtFloor), f(s.Algebraic), "", "", "",
+		}
+		if s.HasGoal {
+			row[17], row[18] = f(s.Goal), f(s.GoalEstimate)
+		}
+		if s.HasGoalError {
+			row[19] = f(s.GoalError)
 		}
 		if err := cw.Write(row); err != nil {
 			return fmt.Errorf("adapt: WriteCSV: %w", err)
@@ -160,6 +179,21 @@ func ReadCSV(r io.Reader) ([]Step, error) {
 		s.AtFloor = boolAt()
 		if len(row) > csvFirstColumns {
 			s.Algebraic = floatAt()
+		}
+		// The goal columns, each empty when unknown.
+		optional := func() (float64, bool) {
+			if col >= len(row) || row[col] == "" {
+				col++
+				return 0, false
+			}
+			return floatAt(), true
+		}
+		var okG, okE bool
+		s.Goal, okG = optional()
+		s.GoalEstimate, okE = optional()
+		s.HasGoal = okG || okE
+		if s.GoalError, s.HasGoalError = optional(); s.HasGoalError && s.GoalError != 0 {
+			s.GoalEffectivity = s.GoalEstimate / s.GoalError
 		}
 		if bad != nil {
 			return nil, bad

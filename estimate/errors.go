@@ -3,6 +3,7 @@ package estimate
 import (
 	"errors"
 
+	"github.com/posteriori-fem/posteriori/fem"
 	"github.com/posteriori-fem/posteriori/mesh"
 )
 
@@ -16,6 +17,10 @@ var (
 	ErrNotFinite = mesh.ErrNotFinite
 	ErrLength    = mesh.ErrLength
 	ErrTooFew    = errors.New("too few points to fit a rate")
+
+	// ErrGoal is fem.ErrGoal: a goal functional that cannot be used on the
+	// mesh.
+	ErrGoal = fem.ErrGoal
 )
 
 // Reasons the equilibrated estimator declines a problem, for errors.Is.

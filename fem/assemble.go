@@ -73,6 +73,11 @@ func Assemble(s *Space, p *Problem) (*System, error) {
 			return nil, err
 		}
 	}
+	if p.Goal != nil {
+		if err := addGoalLoad(s, p, b); err != nil {
+			return nil, err
+		}
+	}
 	bnd := boundaryEdges(s.Mesh)
 	if err := assembleNeumann(s, p, bnd, b); err != nil {
 		return nil, err

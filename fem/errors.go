@@ -30,10 +30,15 @@ var (
 var (
 	ErrArgument  = mesh.ErrArgument
 	ErrNotFinite = mesh.ErrNotFinite
+	ErrLength    = mesh.ErrLength
 
 	// ErrNotConverged: the linear solver reached its iteration limit, or
 	// stagnated, before meeting its tolerance.
 	ErrNotConverged = sentinel.NotConverged
+
+	// ErrGoal: a goal functional that cannot be used on the mesh (see
+	// Goal); the error that wraps it names the goal and the reason.
+	ErrGoal = sentinel.Goal
 )
 
 // DataError reports bad problem data found where it was evaluated: at a

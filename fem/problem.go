@@ -58,6 +58,13 @@ type Problem struct {
 	// solution is fixed by zero mean value; the load is made compatible by
 	// removing its component along the constants.
 	PureNeumann bool
+	// Goal, if not nil, adds the load vector of a goal functional's linear
+	// part, J₀(φ_i) (Goal.Load), to the right-hand side. It is how the dual
+	// problem a(v, z) = J₀(v) of goal-oriented estimation is posed as a
+	// Problem, so that any solver that assembles with Assemble solves it; a
+	// solver with an assembly of its own must add the vector itself. The
+	// estimators of package estimate do not read it.
+	Goal Goal
 }
 
 // Diffusion returns the diffusion tensor at (x, y) in the given region.

@@ -17,10 +17,17 @@
 // The corner limits uniform refinement to error ≈ N^{-1/3}; adaptive
 // refinement recovers the rate N^{-p/2} of smooth solutions.
 //
+// With -goal the loop also solves the dual problem of that goal functional
+// (the mean over a box or a region, or the flux through the boundary edges
+// of a tag), marks by the goal's indicators, prints the goal J(u_h), its
+// estimate, its true error and the goal effectivity, and draws the goal
+// error in convergence.svg.
+//
 // Usage:
 //
 //	go run ./examples/lshape [-p 1|2] [-estimator residual|averaging|spr|equilibrated|flux]
 //	    [-theta 0.5] [-max-dofs 40000] [-tol 0] [-out out/lshape] [-uniform]
+//	    [-goal box:X0,Y0,X1,Y1 | region:TAG | flux:TAG]
 //
 // The estimate measures discretization error only, not modelling error;
 // engineering use follows local codes and licensed practice.

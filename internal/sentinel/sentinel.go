@@ -29,4 +29,10 @@ var (
 	// NotConverged reports an iterative solver that reached its iteration
 	// limit, or stagnated, before meeting its tolerance.
 	NotConverged = errors.New("not converged")
+
+	// Goal reports a goal functional that cannot be used on the mesh: a
+	// mean whose weight integrates to zero (a box outside the domain, a
+	// region no triangle carries), a flux through a tag that no boundary
+	// edge carries.
+	Goal = errors.New("unusable goal functional")
 )

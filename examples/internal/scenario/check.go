@@ -89,7 +89,7 @@ func CheckCommand(t TB, run Command) {
 		strings.Count(strings.TrimRight(errs.String(), "\n"), "\n") != 0 {
 		t.Errorf("-out under a file: exit %d, stdout %q, stderr %q; want 2, nothing, one line", code, out.String(), errs.String())
 	}
-	CheckHelp(t, run, "p", "estimator", "theta", "max-dofs", "tol", "out", "uniform")
+	CheckHelp(t, run, "p", "estimator", "theta", "max-dofs", "tol", "out", "uniform", "goal")
 }
 
 // CheckHelp checks that -h, -help and --help print a usage that lists

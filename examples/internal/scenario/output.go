@@ -119,6 +119,16 @@ func (sc *Scenario) convergence(w io.Writer, o Options, adaptive, uniform []adap
 			return err
 		}
 	}
+	if n, e := goalErrors(adaptive); len(n) > 0 {
+		xy := make(plotter.XYs, len(n))
+		for i := range n {
+			xy[i] = plotter.XY{X: n[i], Y: e[i]}
+		}
+		if err := add("adaptive: goal error |J(u) − J(u_h)|", xy, 4, false, draw.TriangleGlyph{}); err != nil {
+			return err
+		}
+		p.Y.Label.Text = "energy error, estimate, goal error"
+	}
 	// Reference slopes from a common point below the first adaptive error,
 	// so that they fan out and their labels stand apart.
 	n0, n1 := ae[0].X, max(ae[len(ae)-1].X, ue[len(ue)-1].X)

@@ -50,6 +50,7 @@ type Options struct {
 	Tol       float64
 	Out       string
 	Uniform   bool
+	Goal      fem.Goal // from -goal; nil without it
 }
 
 // Estimators maps the -estimator flag's values to estimators: the names
@@ -90,6 +91,7 @@ func (sc *Scenario) Parse(args []string, stdout io.Writer) (Options, error) {
 	fs.Float64Var(&o.Tol, "tol", 0, "stop when the estimate is at most this, a finite value ≥ 0 (0: no tolerance)")
 	fs.StringVar(&o.Out, "out", sc.DefaultOut, "folder for the output files (created if missing)")
 	fs.BoolVar(&o.Uniform, "uniform", false, "refine uniformly instead of adaptively")
+	goal := fs.String("goal", "", "goal functional, marked by: box:X0,Y0,X1,Y1, region:TAG or flux:TAG")
 	bad := func(format string, a ...any) (Options, error) {
 		return o, fmt.Errorf("%w: %s: %s", errUsage, sc.Name, fmt.Sprintf(format, a...))
 	}
@@ -103,6 +105,10 @@ func (sc *Scenario) Parse(args []string, stdout io.Writer) (Options, error) {
 		return bad("%v", err)
 	}
 	budget := cli.Budget(o.MaxDOFs)
+	var err error
+	if o.Goal, err = parseGoal(*goal); err != nil {
+		return bad("%v", err)
+	}
 	switch {
 	case o.Degree != 1 && o.Degree != 2:
 		return bad("-p %d: want 1 or 2", o.Degree)
@@ -157,7 +163,11 @@ func (sc *Scenario) Run(o Options, w io.Writer) error {
 		mode = "uniform refinement"
 	}
 	fmt.Fprintf(w, "%s\nP%d, %s estimator, %s, budget %d DOFs\n", sc.Title, o.Degree, o.Estimator, mode, o.MaxDOFs)
-	fmt.Fprintf(w, "%4s %9s %9s %11s %11s %7s %6s %8s %8s\n", "step", "triangles", "DOFs", "estimate", "true error", "effect.", "rate", "time", "error t")
+	head := fmt.Sprintf("%4s %9s %9s %11s %11s %7s %6s %8s %8s", "step", "triangles", "DOFs", "estimate", "true error", "effect.", "rate", "time", "error t")
+	if o.Goal != nil {
+		head += goalHeader()
+	}
+	fmt.Fprintln(w, head)
 	var seen []adapt.Step
 	var loopTime, errTime time.Duration
 	print := func(s adapt.Step) error {
@@ -171,8 +181,12 @@ func (sc *Scenario) Run(o Options, w io.Writer) error {
 		t := s.SolveTime + s.EstimateTime + s.MarkTime + s.RefineTime
 		loopTime += t
 		errTime += s.ErrorTime
-		fmt.Fprintf(w, "%4d %9d %9d %11.4e %11.4e %7.3f %6s %8s %8s\n", s.Step, s.Triangles, s.DOFs, s.Estimate, s.Error, s.Effectivity, rate,
+		row := fmt.Sprintf("%4d %9d %9d %11.4e %11.4e %7.3f %6s %8s %8s", s.Step, s.Triangles, s.DOFs, s.Estimate, s.Error, s.Effectivity, rate,
 			t.Round(time.Millisecond), s.ErrorTime.Round(time.Millisecond))
+		if o.Goal != nil {
+			row += goalRow(s)
+		}
+		fmt.Fprintln(w, row)
 		return nil
 	}
 	main, err := sc.loop(m, o, o.Uniform, print)
@@ -226,7 +240,7 @@ func (sc *Scenario) loop(m *mesh.Mesh, o Options, uniform bool, onStep func(adap
 	res, err := adapt.Run(context.Background(),
 		adapt.Problem{Mesh: m, Degree: o.Degree, Data: sc.Data, Exact: &ex},
 		adapt.Settings{MaxDOFs: o.MaxDOFs, Tol: o.Tol, OnStep: onStep, AlgebraicFraction: 0.1},
-		adapt.Method{Estimator: Estimators[o.Estimator], Marker: marker})
+		adapt.Method{Estimator: Estimators[o.Estimator], Marker: marker, Goal: o.Goal, MarkGoal: o.Goal != nil})
 	if err != nil {
 		return run{}, err
 	}
