@@ -94,7 +94,7 @@ func fileFixture(n int, p2 bool) (*Mesh, *Data) {
 }
 
 // BenchmarkWriteFiles writes the files of the examples (WriteVTU in its
-// default encoding, WriteJSON) for fixtureFiles meshes of 1e4, 1e5 and 1e6
+// default encoding, WriteJSON) for fileFixture meshes of 1e4, 1e5 and 1e6
 // triangles, with a linear and a quadratic solution, to a writer that
 // only counts, and reports the size per triangle.
 func BenchmarkWriteFiles(b *testing.B) {

@@ -74,9 +74,12 @@ func elem(name string, i int) string { return name + "[" + strconv.Itoa(i) + "]"
 // vertex pairs, which is the edge numbering of New, whatever the numbering
 // of m.
 //
-// On a uniform L-shape mesh of 1,572,864 triangles with one linear field
-// and two Cell fields (BenchmarkWriteFiles), the file takes XXMEASURE bytes
-// per triangle (XXMEASURE with the field quadratic) and XXMEASURE s to write.
+// On the uniform L-shape mesh LShape(409), about 1.0e6 triangles, with a
+// smooth linear field and two Cell fields (BenchmarkWriteFiles), the file
+// takes 100 bytes per triangle, 130 with the field quadratic (its 1.5
+// midpoint values per triangle). Writing took 0.41 s and 1.08 s (median of
+// three runs, spread 0.39 and 0.15 s, on two cores shared with other work,
+// load average 8 to 11).
 //
 // d is checked with Data.Check before anything is written. Errors from w
 // are returned wrapped.
