@@ -79,6 +79,10 @@ func TestMessagesSayContextOnce(t *testing.T) {
 			_, _, err := mesh.ReadJSON(strings.NewReader(`{"vertices": [[0,0],[1,0],[1,0]], "triangles": [[0,1,2]]}`))
 			return err
 		}(), "mesh", "triangle 0"},
+		{"vtu file", func() error {
+			_, _, err := mesh.ReadVTU(strings.NewReader(`<VTKFile type="PolyData"></VTKFile>`))
+			return err
+		}(), "mesh", `"PolyData"`},
 		{"zero mesh", func() error { _, _, err := (&mesh.Mesh{}).Refine(nil); return err }(), "mesh", "Refine"},
 		{"coincident vertices", func() error {
 			_, _, err := mesh.New(mesh.Arrays{X: []float64{0, 0, 1, 0, 1, 1, 0, 1, 1, 0, 2, 0, 2, 1, 1, 1}, Tri: []int32{0, 1, 2, 0, 2, 3, 4, 5, 6, 4, 6, 7}})

@@ -9,21 +9,31 @@ import (
 )
 
 // Data holds named fields on a mesh: Point fields have one value per
-// vertex, Cell fields one per triangle. Either map may be nil.
+// vertex, Cell fields one per triangle, and Edge fields one per edge.
+// Any map may be nil.
+//
+// An Edge field completes the Point field of the same name to a
+// continuous piecewise quadratic (P2) field: Edge[name][e] is its value at
+// the midpoint of edge e, whose ends are m.Edge[2e] and m.Edge[2e+1], so
+// that Point[name] followed by Edge[name] is the coefficient vector of a
+// degree-2 fem.Function (vertex DOFs, then one DOF per edge in edge
+// order). A Point field without an Edge field is piecewise linear.
 //
 // A field name is non-empty and made of the characters A–Z, a–z, 0–9, '_',
 // '.' and '-', so that it can be written unquoted into any of the file
 // formats of this package. The writers emit fields in sorted name order,
 // so their output is deterministic.
 type Data struct {
-	Point, Cell map[string][]float64
+	Point, Cell, Edge map[string][]float64
 }
 
-// Check reports whether d fits m: every Point field has NumVertices values
-// and every Cell field NumTriangles, all values are finite, and every name
-// is valid. The error, which names the field, wraps ErrArgument for a bad
-// name, ErrLength for a wrong length and ErrNotFinite for a NaN or infinite
-// value. A nil d passes.
+// Check reports whether d fits m: every Point field has NumVertices values,
+// every Cell field NumTriangles and every Edge field NumEdges, every Edge
+// field has a Point field of the same name, all values are finite, and
+// every name is valid. The error, which names the field, wraps ErrArgument
+// for a bad name or an Edge field without its Point field, ErrLength for a
+// wrong length and ErrNotFinite for a NaN or infinite value. A nil d
+// passes.
 func (d *Data) Check(m *Mesh) error {
 	if d == nil {
 		return nil
@@ -39,12 +49,16 @@ func (d *Data) Check(m *Mesh) error {
 	}{
 		{"point", d.Point, m.NumVertices(), "vertex"},
 		{"cell", d.Cell, m.NumTriangles(), "triangle"},
+		{"edge", d.Edge, m.NumEdges(), "edge"},
 	}
 	for _, k := range kinds {
 		for _, name := range sortedNames(k.fields) {
 			v := k.fields[name]
 			if !validName(name) {
 				return fmt.Errorf("mesh: %s field %q: a name must be non-empty and made of A-Z a-z 0-9 _ . -: %w", k.kind, name, ErrArgument)
+			}
+			if _, ok := d.Point[name]; k.kind == "edge" && !ok {
+				return fmt.Errorf("mesh: edge field %q: no point field of that name to complete: %w", name, ErrArgument)
 			}
 			if len(v) != k.n {
 				return fmt.Errorf("mesh: %s field %q: %d values, want %d (one per %s): %w", k.kind, name, len(v), k.n, k.per, ErrLength)

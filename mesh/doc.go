@@ -32,4 +32,16 @@
 // of triangle shapes, is kept.
 //
 // h_T is the diameter (longest edge) of triangle T; h_E the length of edge E.
+//
+// # Files
+//
+// WriteJSON and ReadJSON keep a mesh and its fields (Data) in a compact
+// JSON layout of this package; WriteVTU and ReadVTU in the VTK XML
+// UnstructuredGrid format (.vtu) that visualisation tools open, in its
+// binary encodings (zlib-compressed by default) or ASCII. Both round-trip
+// exactly: the same vertices, triangles, regions, boundary tags and field
+// values, bit for bit. A P2 field is a Point field with an Edge field of
+// the same name (its values at the edge midpoints); VTU files carry it on
+// quadratic triangles (VTK cell type 22: corners, then the midpoints of
+// edges 0–1, 1–2, 2–0). SaveJSON and SaveVTU write files atomically.
 package mesh

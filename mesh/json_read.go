@@ -244,7 +244,7 @@ func (r *jsonReader) number() (float64, error) {
 	}
 	v, err := strconv.ParseFloat(string(num), 64)
 	if math.IsInf(v, 0) {
-		return 0, &FormatError{Err: fmt.Errorf("%w: %w: %s", ErrFormat, errHuge, num)}
+		return 0, &FormatError{Format: "json", Err: fmt.Errorf("%w: %w: %s", ErrFormat, errHuge, num)}
 	}
 	if err != nil {
 		return 0, formatErr("", ErrFormat, "bad number %s", num)

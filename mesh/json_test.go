@@ -98,6 +98,71 @@ func TestJSONRoundTrip(t *testing.T) {
 	}
 }
 
+// P2 fields come back bit for bit, also on a refined mesh whose edges are
+// not numbered as New numbers them, and the file has no indentation.
+func TestJSONRoundTripP2(t *testing.T) {
+	t.Parallel()
+	for name, m := range roundTripMeshes(t) {
+		d := p2Data(m)
+		var buf bytes.Buffer
+		if err := WriteJSON(&buf, m, d); err != nil {
+			t.Fatalf("%s: WriteJSON: %v", name, err)
+		}
+		if bytes.Contains(buf.Bytes(), []byte(" ")) || bytes.Contains(buf.Bytes(), []byte("\n\n")) {
+			t.Errorf("%s: the file holds spaces or empty lines", name)
+		}
+		m2, d2, err := ReadJSON(&buf)
+		if err != nil {
+			t.Fatalf("%s: ReadJSON: %v", name, err)
+		}
+		if !slices.Equal(m.X, m2.X) || !slices.Equal(m.Tri, m2.Tri) || !slices.Equal(m.Region, m2.Region) {
+			t.Fatalf("%s: mesh differs", name)
+		}
+		if !sameData(m, m2, d, d2) {
+			t.Fatalf("%s: fields differ", name)
+		}
+	}
+}
+
+// The keys of the earlier layout are read, and the edge order of the
+// layout is that of the (low, high) vertex pairs: a hand-written file
+// whose edge values are their own pair's code.
+func TestReadJSONKeys(t *testing.T) {
+	t.Parallel()
+	old := `{"vertices":[[0,0],[1,0],[0,1]],"triangles":[[0,1,2]],"point_data":{"u":[1,2,3]},"cell_data":{"e":[4]}}`
+	_, d, err := ReadJSON(strings.NewReader(old))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !slices.Equal(d.Point["u"], []float64{1, 2, 3}) || !slices.Equal(d.Cell["e"], []float64{4}) || d.Edge != nil {
+		t.Errorf("old keys: %+v", d)
+	}
+	// Edges in (low, high) order: 0-1, 0-2, 1-2 (the layout of ReadJSON's doc).
+	in := `{"vertices":[[0,0],[1,0],[0,1]],"triangles":[[2,0,1]],"vertex_fields":{"u":[0,0,0]},"edge_fields":{"u":[1,2,12]}}`
+	m, d, err := ReadJSON(strings.NewReader(in))
+	if err != nil {
+		t.Fatal(err)
+	}
+	for e := range m.NumEdges() {
+		a, b := m.Edge[2*e], m.Edge[2*e+1]
+		if want := float64(10*a + b); d.Edge["u"][e] != want {
+			t.Errorf("edge %d-%d: value %v, want %v", a, b, d.Edge["u"][e], want)
+		}
+	}
+	for _, c := range []struct{ name, in, field string }{
+		{"both vertex keys", `{"vertices":[[0,0],[1,0],[0,1]],"triangles":[[0,1,2]],"point_data":{"u":[1,2,3]},"vertex_fields":{"v":[1,2,3]}}`, "vertex_fields"},
+		{"edge field alone", `{"vertices":[[0,0],[1,0],[0,1]],"triangles":[[0,1,2]],"edge_fields":{"u":[1,2,3]}}`, "edge_fields.u"},
+		{"edge field length", `{"vertices":[[0,0],[1,0],[0,1]],"triangles":[[0,1,2]],"vertex_fields":{"u":[1,2,3]},"edge_fields":{"u":[1,2]}}`, "edge_fields.u"},
+		{"edge field value", `{"vertices":[[0,0],[1,0],[0,1]],"triangles":[[0,1,2]],"vertex_fields":{"u":[1,2,3]},"edge_fields":{"u":[1,"2",3]}}`, "edge_fields.u[1]"},
+	} {
+		_, _, err := ReadJSON(strings.NewReader(c.in))
+		var fe *FormatError
+		if !errors.As(err, &fe) || !errors.Is(err, ErrFormat) || fe.Field != c.field {
+			t.Errorf("%s: error %v, want a *FormatError at %s", c.name, err, c.field)
+		}
+	}
+}
+
 // A mesh whose regions, tags and untagged boundary survive the trip, and
 // whose input was clockwise.
 func TestJSONReadOrientationAndTags(t *testing.T) {
@@ -264,6 +329,9 @@ func TestWriteJSONBadData(t *testing.T) {
 	checkRejects(t, m, WriteJSON, []badData{
 		{"NaN", &Data{Point: map[string][]float64{"u": {0, 1, math.NaN(), 3}}}, ErrNotFinite},
 		{"Inf", &Data{Cell: map[string][]float64{"eta": {math.Inf(-1), 1}}}, ErrNotFinite},
+		{"edge NaN", &Data{Point: map[string][]float64{"u": {0, 1, 2, 3}}, Edge: map[string][]float64{"u": {0, 1, math.NaN(), 3, 4}}}, ErrNotFinite},
+		{"edge length", &Data{Point: map[string][]float64{"u": {0, 1, 2, 3}}, Edge: map[string][]float64{"u": {0, 1, 2, 3}}}, ErrLength},
+		{"edge without point field", &Data{Edge: map[string][]float64{"u": {0, 1, 2, 3, 4}}}, ErrArgument},
 		{"length", &Data{Cell: map[string][]float64{"eta": {1, 2, 3}}}, ErrLength},
 		{"name", &Data{Point: map[string][]float64{"a\"b": {0, 1, 2, 3}}}, ErrArgument},
 		{"empty name", &Data{Cell: map[string][]float64{"": {1, 2}}}, ErrArgument},
@@ -292,6 +360,12 @@ func FuzzReadJSON(f *testing.F) {
 	f.Add([]byte(`{"num_vertices": 4, "vertices": [[0,0],[1,0],[0,1],[1,1]], "triangles": [[0,1,2],[1,3,2]]}`))
 	f.Add([]byte(`{"vertices": [[0,0],[1,0],[1,1],[0,1],[0.5,0.5]], "triangles": [[0,1,4],[1,2,4],[2,3,4],[3,0,4]], "boundary": [[0,1,1],[2,3,2]]}`))
 	f.Add([]byte(`{"vertices": [[0,0]], "triangles": [[0,0,0]]}`))
+	f.Add([]byte(`{"vertices":[[0,0],[1,0],[0,1]],"triangles":[[2,0,1]],"vertex_fields":{"u":[0,0,0]},"edge_fields":{"u":[1,2,12]}}`))
+	buf.Reset()
+	if err := WriteJSON(&buf, m, p2Data(m)); err != nil {
+		f.Fatal(err)
+	}
+	f.Add(buf.Bytes())
 	f.Add([]byte(`{}`))
 	f.Fuzz(func(t *testing.T, data []byte) {
 		m, d, err := ReadJSON(bytes.NewReader(data))
@@ -320,7 +394,7 @@ func FuzzReadJSON(f *testing.F) {
 		if err != nil {
 			t.Fatalf("reading back: %v", err)
 		}
-		if !sameMesh(m, m2) || !sameFields(d.Point, d2.Point) || !sameFields(d.Cell, d2.Cell) {
+		if !sameMesh(m, m2) || !sameData(m, m2, d, d2) {
 			t.Fatal("round trip changed the mesh or the fields")
 		}
 	})

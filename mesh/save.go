@@ -12,10 +12,10 @@ func SaveJSON(path string, m *Mesh, d *Data) error {
 	return WriteFile(path, func(w io.Writer) error { return WriteJSON(w, m, d) })
 }
 
-// SaveVTU writes m and d to the file at path as WriteVTU does, atomically
-// as SaveJSON.
-func SaveVTU(path string, m *Mesh, d *Data) error {
-	return WriteFile(path, func(w io.Writer) error { return WriteVTU(w, m, d) })
+// SaveVTU writes m and d to the file at path as WriteVTU does with opt
+// (nil for the default encoding), atomically as SaveJSON.
+func SaveVTU(path string, m *Mesh, d *Data, opt *VTUOptions) error {
+	return WriteFile(path, func(w io.Writer) error { return WriteVTU(w, m, d, opt) })
 }
 
 // SaveSVG writes a picture of m to the file at path as WriteSVG does,

@@ -28,7 +28,7 @@ func TestSaveAtomic(t *testing.T) {
 			if bad {
 				d.Point["u"] = d.Point["u"][:2]
 			}
-			return SaveVTU(path, m, d)
+			return SaveVTU(path, m, d, nil)
 		}},
 		{"svg", func(path string, bad bool) error {
 			c := make([]float64, m.NumTriangles())

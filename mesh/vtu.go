@@ -4,108 +4,343 @@ import (
 	"bufio"
 	"fmt"
 	"io"
+	"math"
+	"strconv"
 )
 
-// vtkTriangle is the cell type code of a linear triangle in the VTK file
-// formats.
-const vtkTriangle = 5
+// VTK cell type codes of the VTK file formats.
+const (
+	vtkTriangle          = 5  // linear triangle: 3 corners
+	vtkQuadraticTriangle = 22 // 3 corners, then the midpoints of edges 0–1, 1–2, 2–0
+)
+
+// Names of the cell arrays that WriteVTU writes from the mesh itself; Cell
+// fields may not use them.
+const (
+	vtuRegion  = "region"
+	vtuEdgeTag = "edge_tag"
+)
+
+// VTUEncoding selects how WriteVTU stores the arrays of a VTU file.
+type VTUEncoding int
+
+// The encodings of the VTK XML format. The binary ones (all but VTUASCII)
+// hold the exact bits of every number.
+const (
+	// VTUAppendedRaw puts the arrays as raw bytes in the AppendedData
+	// section at the end of the file (encoding="raw"). It is the default:
+	// the smallest and fastest, but not valid XML, since the bytes are raw.
+	VTUAppendedRaw VTUEncoding = iota
+	// VTUAppendedBase64 puts them in the AppendedData section in base64
+	// (encoding="base64"), so that the file is valid XML.
+	VTUAppendedBase64
+	// VTUInline puts each array in base64 inside its DataArray element
+	// (format="binary").
+	VTUInline
+	// VTUASCII writes each array as text inside its DataArray element
+	// (format="ascii"), numbers in the shortest form that reads back
+	// exactly. It is several times larger and slower than the binary
+	// encodings, and is never compressed.
+	VTUASCII
+)
+
+// VTUOptions selects the encoding of WriteVTU. A nil *VTUOptions, like the
+// zero value, writes appended raw data, zlib-compressed, with UInt64
+// headers.
+type VTUOptions struct {
+	Encoding VTUEncoding
+	// Uncompressed leaves the binary data as it is instead of compressing
+	// it with zlib (compressor="vtkZLibDataCompressor").
+	Uncompressed bool
+	// Header32 writes the byte counts of the binary data as UInt32
+	// (header_type="UInt32") instead of UInt64; WriteVTU then refuses, with
+	// ErrArgument, an array of 4 GiB or more.
+	Header32 bool
+}
 
 // WriteVTU writes m, and the fields of d if d is not nil, as a VTK XML
-// UnstructuredGrid file (.vtu) in ASCII, which common visualisation tools
-// open directly.
+// UnstructuredGrid file (.vtu, format version 1.0), which common
+// visualisation tools open directly and ReadVTU reads back exactly. opt
+// selects the encoding; nil means the default of VTUOptions.
 //
-// The points are written with z = 0 as Float64; the cells as Int32
-// connectivity, Int64 offsets and UInt8 types (all 5, a linear triangle).
-// The cell data always hold an Int32 array "region" with m.Region,
-// followed by the Cell fields of d as Float64; the point data hold the
-// Point fields. Fields are written in sorted name order and numbers in the
-// shortest form that reads back exactly.
+// Without Edge fields the cells are linear triangles (VTK cell type 5) on
+// the vertices of m. With Edge fields they are quadratic triangles (VTK
+// cell type 22): the points are the vertices of m followed by the
+// midpoints of its edges in edge order, and each cell lists its three
+// corners Tri[3k], Tri[3k+1], Tri[3k+2], then the midpoints of its edges
+// 0–1, 1–2 and 2–0. A Point field is then written at all these points: a
+// field with an Edge field takes its Edge values at the midpoints (so that
+// a reader rebuilds the P2 field exactly), a field without one takes
+// 0.5·(a + b), the value of the linear field, at the midpoint of edge a–b.
+//
+// The points are written as Float64 with z = 0; the cells as connectivity
+// (Int32, or Int64 beyond 2³¹ entries), Int32 or Int64 offsets and UInt8
+// types. The cell data hold an Int32 array "region" with m.Region, an
+// Int32 array "edge_tag" of 3 components holding, for the cell's edges 0–1,
+// 1–2 and 2–0, the boundary tag, or Interior (-1) for an interior edge (so
+// that ReadVTU recovers the tags, and the faces of a slit), and then the
+// Cell fields of d as Float64. The point data hold the Point fields as
+// Float64. Fields are written in sorted name order.
+//
+// Binary data are compressed by default in blocks of 64 KiB with
+// compress/zlib at its fastest level, the blocks in parallel; the output
+// does not depend on GOMAXPROCS. WriteVTU holds the compressed data of the
+// whole file in memory before writing it (the XML header, written first,
+// needs their sizes), about the size of the file.
+//
+// On the uniform L-shape mesh LShape(409), about 1.0e6 triangles, with a
+// smooth linear field "u", two Cell fields "eta" and "err" and the region
+// (BenchmarkWriteFiles), the default encoding takes 27.8 bytes per
+// triangle; with u quadratic, 53.7. Writing took 0.34 s for the linear
+// case and 1.95 s for the quadratic one (median of three runs, spread 0.06
+// and 0.59 s, on two cores shared with other work, load average 8 to 11).
 //
 // d is checked with Data.Check before anything is written; a Cell field may
-// not be called "region". Errors from w are returned wrapped.
-func WriteVTU(w io.Writer, m *Mesh, d *Data) error {
+// not be called "region" or "edge_tag". Errors from w are returned wrapped.
+func WriteVTU(w io.Writer, m *Mesh, d *Data, opt *VTUOptions) error {
 	if err := checkShape(m, "vtu"); err != nil {
 		return err
 	}
 	if err := d.Check(m); err != nil {
 		return err
 	}
-	var point, cell map[string][]float64
-	if d != nil {
-		point, cell = d.Point, d.Cell
+	var o VTUOptions
+	if opt != nil {
+		o = *opt
 	}
-	if _, ok := cell["region"]; ok {
-		return fmt.Errorf("mesh: vtu: cell field name \"region\" is reserved for m.Region: %w", ErrArgument)
+	if o.Encoding < VTUAppendedRaw || o.Encoding > VTUASCII {
+		return fmt.Errorf("mesh: vtu: unknown encoding %d: %w", o.Encoding, ErrArgument)
 	}
-	nv, nt := m.NumVertices(), m.NumTriangles()
-	t := &textWriter{w: bufio.NewWriter(w)}
-	t.str("<?xml version=\"1.0\"?>\n")
-	t.str("<VTKFile type=\"UnstructuredGrid\" version=\"1.0\" byte_order=\"LittleEndian\">\n")
-	t.str("  <UnstructuredGrid>\n")
-	t.printf("    <Piece NumberOfPoints=\"%d\" NumberOfCells=\"%d\">\n", nv, nt)
-
-	t.str("      <PointData>\n")
-	for _, name := range sortedNames(point) {
-		v := point[name]
-		vtuArray(t, "Float64", name, 0, len(v), 6, func(i int) { t.float(v[i]) })
+	if d == nil {
+		d = &Data{}
 	}
-	t.str("      </PointData>\n")
-
-	t.str("      <CellData>\n")
-	vtuArray(t, "Int32", "region", 0, nt, 10, func(k int) { t.int(int64(m.Region[k])) })
-	for _, name := range sortedNames(cell) {
-		v := cell[name]
-		vtuArray(t, "Float64", name, 0, len(v), 6, func(i int) { t.float(v[i]) })
-	}
-	t.str("      </CellData>\n")
-
-	t.str("      <Points>\n")
-	vtuArray(t, "Float64", "", 3, 3*nv, 3, func(i int) {
-		if i%3 == 2 {
-			t.str("0")
-			return
+	for _, name := range []string{vtuRegion, vtuEdgeTag} {
+		if _, ok := d.Cell[name]; ok {
+			return fmt.Errorf("mesh: vtu: cell field name %q is reserved for the mesh's own array: %w", name, ErrArgument)
 		}
-		t.float(m.X[2*(i/3)+i%3])
-	})
-	t.str("      </Points>\n")
-
-	t.str("      <Cells>\n")
-	vtuArray(t, "Int32", "connectivity", 0, 3*nt, 3, func(i int) { t.int(int64(m.Tri[i])) })
-	vtuArray(t, "Int64", "offsets", 0, nt, 10, func(k int) { t.int(3 * int64(k+1)) })
-	vtuArray(t, "UInt8", "types", 0, nt, 20, func(int) { t.int(vtkTriangle) })
-	t.str("      </Cells>\n")
-
-	t.str("    </Piece>\n")
-	t.str("  </UnstructuredGrid>\n")
-	t.str("</VTKFile>\n")
+	}
+	arrays := vtuArrays(m, d)
+	hsize := 8
+	if o.Header32 {
+		hsize = 4
+	}
+	if o.Encoding != VTUASCII {
+		for _, a := range arrays {
+			if o.Header32 && a.n*a.width > math.MaxUint32 {
+				return fmt.Errorf("mesh: vtu: array %q of %d bytes needs UInt64 headers: %w", a.name, a.n*a.width, ErrArgument)
+			}
+		}
+	}
+	var blocks [][]byte
+	if o.Encoding != VTUASCII && !o.Uncompressed {
+		var err error
+		if blocks, err = compressArrays(arrays); err != nil {
+			return fmt.Errorf("mesh: vtu: compress: %w", err)
+		}
+	}
+	e := &vtuEncoder{o: o, hsize: hsize, arrays: arrays, blocks: blocks}
+	t := &textWriter{w: bufio.NewWriterSize(w, 1<<16)}
+	e.t = t
+	e.write(m)
 	if err := t.flush(); err != nil {
 		return fmt.Errorf("mesh: vtu: write: %w", err)
 	}
 	return nil
 }
 
-// vtuArray writes a DataArray of n values, perLine to a line. name may be
-// empty, and ncomp is written when it is positive.
-func vtuArray(t *textWriter, typ, name string, ncomp, n, perLine int, write func(i int)) {
-	t.str("        <DataArray type=\"" + typ + "\"")
-	if name != "" {
-		t.str(" Name=\"" + name + "\"")
+// Sections of a Piece, in the order in which WriteVTU writes them.
+const (
+	inPointData = iota
+	inCellData
+	inPoints
+	inCells
+)
+
+var sectionNames = [...]string{"PointData", "CellData", "Points", "Cells"}
+
+// vtuArray describes one DataArray to write: n values (components
+// counted), of width bytes each, given by f for a Float64 array and by k
+// for an integer one.
+type vtuArray struct {
+	section int
+	typ     string // Float64, Int32, Int64 or UInt8
+	name    string // empty for the points
+	ncomp   int    // 0: not written (one component)
+	n       int
+	width   int
+	f       func(i int) float64
+	k       func(i int) int64
+	block0  int // index of the array's first block in the compressed blocks
+}
+
+// vtuArrays lists the arrays of m and d in the order of the file.
+func vtuArrays(m *Mesh, d *Data) []*vtuArray {
+	nv, nt := m.NumVertices(), m.NumTriangles()
+	quad := len(d.Edge) > 0
+	np, npc, typ := nv, 3, int64(vtkTriangle)
+	if quad {
+		np, npc, typ = nv+m.NumEdges(), 6, vtkQuadraticTriangle
 	}
-	if ncomp > 0 {
-		t.printf(" NumberOfComponents=\"%d\"", ncomp)
+	var out []*vtuArray
+	for _, name := range sortedNames(d.Point) {
+		v, ev := d.Point[name], d.Edge[name]
+		f := func(i int) float64 {
+			switch {
+			case i < nv:
+				return v[i]
+			case ev != nil:
+				return ev[i-nv]
+			}
+			e := i - nv
+			return 0.5 * (v[m.Edge[2*e]] + v[m.Edge[2*e+1]])
+		}
+		out = append(out, &vtuArray{section: inPointData, typ: "Float64", name: name, n: np, width: 8, f: f})
 	}
-	t.str(" format=\"ascii\">\n")
-	for i := 0; i < n && t.err == nil; i++ {
-		switch {
-		case i%perLine == 0:
+	out = append(out, &vtuArray{section: inCellData, typ: "Int32", name: vtuRegion, n: nt, width: 4,
+		k: func(k int) int64 { return int64(m.Region[k]) }})
+	out = append(out, &vtuArray{section: inCellData, typ: "Int32", name: vtuEdgeTag, ncomp: 3, n: 3 * nt, width: 4,
+		k: func(i int) int64 { return int64(m.EdgeTag[m.TriEdge[vtkEdge(i)]]) }})
+	for _, name := range sortedNames(d.Cell) {
+		v := d.Cell[name]
+		out = append(out, &vtuArray{section: inCellData, typ: "Float64", name: name, n: nt, width: 8,
+			f: func(k int) float64 { return v[k] }})
+	}
+	out = append(out, &vtuArray{section: inPoints, typ: "Float64", ncomp: 3, n: 3 * np, width: 8,
+		f: func(i int) float64 {
+			p, c := i/3, i%3
+			switch {
+			case c == 2:
+				return 0
+			case p < nv:
+				return m.X[2*p+c]
+			}
+			e := p - nv
+			return 0.5 * (m.X[2*m.Edge[2*e]+int32(c)] + m.X[2*m.Edge[2*e+1]+int32(c)])
+		}})
+	idx := &vtuArray{section: inCells, typ: "Int32", name: "connectivity", n: npc * nt, width: 4,
+		k: func(i int) int64 {
+			if i%npc < 3 {
+				return int64(m.Tri[3*(i/npc)+i%npc])
+			}
+			return int64(nv) + int64(m.TriEdge[vtkEdge(3*(i/npc)+i%npc-3)])
+		}}
+	off := &vtuArray{section: inCells, typ: "Int32", name: "offsets", n: nt, width: 4,
+		k: func(k int) int64 { return int64(npc) * int64(k+1) }}
+	if npc*nt > math.MaxInt32 {
+		idx.typ, idx.width, off.typ, off.width = "Int64", 8, "Int64", 8
+	}
+	out = append(out, idx, off, &vtuArray{section: inCells, typ: "UInt8", name: "types", n: nt, width: 1,
+		k: func(int) int64 { return typ }})
+	return out
+}
+
+// vtkEdge maps 3k+j, edge j of triangle k in the VTK order (0–1, 1–2,
+// 2–0), to the index into TriEdge of that edge: edge i of a triangle in
+// TriEdge is the one opposite its vertex i, so 0–1 is TriEdge[3k+2], 1–2
+// is TriEdge[3k] and 2–0 is TriEdge[3k+1].
+func vtkEdge(i int) int {
+	return i - i%3 + (i%3+2)%3
+}
+
+// vtuEncoder writes the XML and the data of a VTU file.
+type vtuEncoder struct {
+	o      VTUOptions
+	hsize  int
+	arrays []*vtuArray
+	blocks [][]byte // compressed blocks of all arrays, nil if uncompressed
+	t      *textWriter
+}
+
+func (e *vtuEncoder) write(m *Mesh) {
+	t := e.t
+	t.str("<?xml version=\"1.0\"?>\n")
+	t.str("<VTKFile type=\"UnstructuredGrid\" version=\"1.0\" byte_order=\"LittleEndian\"")
+	if e.o.Encoding != VTUASCII {
+		if e.o.Header32 {
+			t.str(" header_type=\"UInt32\"")
+		} else {
+			t.str(" header_type=\"UInt64\"")
+		}
+		if !e.o.Uncompressed {
+			t.str(" compressor=\"vtkZLibDataCompressor\"")
+		}
+	}
+	t.str(">\n  <UnstructuredGrid>\n")
+	np := m.NumVertices()
+	for _, a := range e.arrays {
+		if a.section == inPoints {
+			np = a.n / 3
+		}
+	}
+	t.printf("    <Piece NumberOfPoints=\"%d\" NumberOfCells=\"%d\">\n", np, m.NumTriangles())
+	offset := 0
+	for s := range sectionNames {
+		t.str("      <" + sectionNames[s] + ">\n")
+		for _, a := range e.arrays {
+			if a.section != s {
+				continue
+			}
+			t.str("        <DataArray type=\"" + a.typ + "\"")
+			if a.name != "" {
+				t.str(" Name=\"" + a.name + "\"")
+			}
+			if a.ncomp > 0 {
+				t.str(" NumberOfComponents=\"" + strconv.Itoa(a.ncomp) + "\"")
+			}
+			switch e.o.Encoding {
+			case VTUASCII:
+				t.str(" format=\"ascii\">\n")
+				e.ascii(a)
+				t.str("        </DataArray>\n")
+			case VTUInline:
+				t.str(" format=\"binary\">\n          ")
+				e.binary(a, true)
+				t.str("\n        </DataArray>\n")
+			default:
+				t.str(" format=\"appended\" offset=\"" + strconv.Itoa(offset) + "\"/>\n")
+				offset += e.encodedSize(a)
+			}
+		}
+		t.str("      </" + sectionNames[s] + ">\n")
+	}
+	t.str("    </Piece>\n  </UnstructuredGrid>\n")
+	if e.o.Encoding == VTUAppendedRaw || e.o.Encoding == VTUAppendedBase64 {
+		b64 := e.o.Encoding == VTUAppendedBase64
+		if b64 {
+			t.str("  <AppendedData encoding=\"base64\">\n   _")
+		} else {
+			t.str("  <AppendedData encoding=\"raw\">\n   _")
+		}
+		for _, a := range e.arrays {
+			e.binary(a, b64)
+		}
+		t.str("\n  </AppendedData>\n")
+	}
+	t.str("</VTKFile>\n")
+}
+
+// ascii writes the values of a as text, a few to a line.
+func (e *vtuEncoder) ascii(a *vtuArray) {
+	t := e.t
+	perLine := 6
+	if a.ncomp == 3 {
+		perLine = 3
+	} else if a.k != nil {
+		perLine = 12
+	}
+	for i := 0; i < a.n && t.err == nil; i++ {
+		if i%perLine == 0 {
 			t.str("          ")
-		default:
+		} else {
 			t.str(" ")
 		}
-		write(i)
-		if i%perLine == perLine-1 || i == n-1 {
+		if a.f != nil {
+			t.float(a.f(i))
+		} else {
+			t.int(a.k(i))
+		}
+		if i%perLine == perLine-1 || i == a.n-1 {
 			t.str("\n")
 		}
 	}
-	t.str("        </DataArray>\n")
 }

@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"encoding/xml"
 	"errors"
+	"io"
 	"math"
 	"os"
 	"path/filepath"
@@ -56,7 +57,7 @@ func TestWriteVTU(t *testing.T) {
 	}
 	d := testData(m)
 	var buf bytes.Buffer
-	if err := WriteVTU(&buf, m, d); err != nil {
+	if err := WriteVTU(&buf, m, d, &VTUOptions{Encoding: VTUASCII}); err != nil {
 		t.Fatal(err)
 	}
 	var f vtkFile
@@ -98,9 +99,19 @@ func TestWriteVTU(t *testing.T) {
 			t.Fatalf("connectivity[%d] = %v, want %d", i, v, m.Tri[i])
 		}
 	}
-	// Cell data: region first, then the fields in name order.
-	if len(p.CellData) != 2 || p.CellData[0].Name != "region" || p.CellData[0].Type != "Int32" || p.CellData[1].Name != "eta" {
+	// Cell data: region and edge tags first, then the fields in name order.
+	if len(p.CellData) != 3 || p.CellData[0].Name != "region" || p.CellData[0].Type != "Int32" ||
+		p.CellData[1].Name != "edge_tag" || p.CellData[1].NComp != 3 || p.CellData[2].Name != "eta" {
 		t.Fatalf("CellData = %+v", p.CellData)
+	}
+	tags := p.CellData[1].values(t)
+	for k := range nt {
+		for j := range 3 { // edge j joins corners j and j+1 (VTK order)
+			a, b := m.Tri[3*k+j], m.Tri[3*k+(j+1)%3]
+			if want := m.EdgeTag[m.findEdge(a, b)]; tags[3*k+j] != float64(want) {
+				t.Fatalf("edge_tag of cell %d, edge %d-%d = %v, want %d", k, a, b, tags[3*k+j], want)
+			}
+		}
 	}
 	reg := p.CellData[0].values(t)
 	for k := range nt {
@@ -108,7 +119,7 @@ func TestWriteVTU(t *testing.T) {
 			t.Fatalf("region[%d] = %v, want %d", k, reg[k], m.Region[k])
 		}
 	}
-	if !slices.Equal(p.CellData[1].values(t), d.Cell["eta"]) {
+	if !slices.Equal(p.CellData[2].values(t), d.Cell["eta"]) {
 		t.Error("cell field eta differs")
 	}
 	if len(p.PointData) != 2 || p.PointData[0].Name != "u" || p.PointData[1].Name != "w_2.x-y" {
@@ -121,18 +132,24 @@ func TestWriteVTU(t *testing.T) {
 	}
 }
 
+// writeVTU returns WriteVTU with the options opt, in the shape of the
+// other writers.
+func writeVTU(opt *VTUOptions) func(io.Writer, *Mesh, *Data) error {
+	return func(w io.Writer, m *Mesh, d *Data) error { return WriteVTU(w, m, d, opt) }
+}
+
 func TestWriteVTURejects(t *testing.T) {
 	m, err := Rectangle(0, 0, 1, 1, 1, 1)
 	if err != nil {
 		t.Fatal(err)
 	}
-	checkRejects(t, m, WriteVTU, []badData{
+	checkRejects(t, m, writeVTU(nil), []badData{
 		{"NaN", &Data{Point: map[string][]float64{"u": {0, 1, math.NaN(), 3}}}, ErrNotFinite},
 		{"length", &Data{Point: map[string][]float64{"u": {0, 1}}}, ErrLength},
 		{"name", &Data{Cell: map[string][]float64{"a<b": {1, 2}}}, ErrArgument},
 		{"region", &Data{Cell: map[string][]float64{"region": {1, 2}}}, ErrArgument},
 	})
-	if err := WriteVTU(&errWriter{100}, m, nil); !errors.Is(err, errBoom) {
+	if err := WriteVTU(&errWriter{100}, m, nil, nil); !errors.Is(err, errBoom) {
 		t.Errorf("failing writer: error %v", err)
 	}
 }
@@ -143,7 +160,7 @@ func TestWriteVTUGolden(t *testing.T) {
 		t.Fatal(err)
 	}
 	var buf bytes.Buffer
-	if err := WriteVTU(&buf, m, nil); err != nil {
+	if err := WriteVTU(&buf, m, nil, &VTUOptions{Encoding: VTUASCII}); err != nil {
 		t.Fatal(err)
 	}
 	golden(t, "rect1.vtu", buf.Bytes())

@@ -9,8 +9,10 @@
 // (default out/lshape):
 //
 //	history.csv      the step records (header: adapt.CSVHeader)
-//	mesh.json        the final mesh with point_data u and cell_data eta, err
-//	mesh.vtu         the same for viewers (VTK XML)
+//	mesh.json        the final mesh with vertex field u (and, with -p 2, its edge
+//	                 values), triangle fields eta and err (mesh.ReadJSON reads it)
+//	mesh.vtu         the same for viewers (VTK XML, zlib-compressed binary;
+//	                 quadratic cells with -p 2; mesh.ReadVTU reads it)
 //	mesh.svg         the final mesh coloured by η_T on a log scale
 //	convergence.svg  true error and estimate against DOFs, adaptive and uniform
 //

@@ -37,9 +37,16 @@ func (sc *Scenario) write(o Options, r run, adaptive, uniform []adapt.Step) erro
 	for i, v := range r.err {
 		errT[i] = math.Sqrt(v)
 	}
+	// A P2 solution numbers its DOFs vertices first, then one per edge in
+	// the mesh's edge order (fem.Space), which is the layout of an Edge
+	// field: the files then carry u_h whole.
+	nv := m.NumVertices()
 	d := &mesh.Data{
-		Point: map[string][]float64{"u": u.U[:m.NumVertices()]},
+		Point: map[string][]float64{"u": u.U[:nv]},
 		Cell:  map[string][]float64{"eta": eta, "err": errT},
+	}
+	if u.Space.Degree == 2 {
+		d.Edge = map[string][]float64{"u": u.U[nv : nv+m.NumEdges()]}
 	}
 	path := func(name string) string { return filepath.Join(o.Out, name) }
 	if err := adapt.SaveCSV(path(HistoryFile), r.res.Steps); err != nil {
@@ -48,7 +55,7 @@ func (sc *Scenario) write(o Options, r run, adaptive, uniform []adapt.Step) erro
 	if err := mesh.SaveJSON(path(MeshJSONFile), m, d); err != nil {
 		return err
 	}
-	if err := mesh.SaveVTU(path(MeshVTUFile), m, d); err != nil {
+	if err := mesh.SaveVTU(path(MeshVTUFile), m, d, nil); err != nil {
 		return err
 	}
 	// A log scale needs positive values: floor η_T at a millionth of the
@@ -158,9 +165,10 @@ func (sc *Scenario) convergence(w io.Writer, o Options, adaptive, uniform []adap
 }
 
 // Verify checks the files of a run in dir: the CSV has the documented
-// header and one row per step, the JSON arrays match the mesh, the VTU and
-// SVG files are well-formed XML and the VTU's counts match the mesh. It is
-// used by the examples' tests.
+// header and one row per step, the JSON arrays match the mesh, the VTU
+// file reads back to the same mesh and fields as the JSON file (the
+// solution with its edge values for P2), and the SVG files are well-formed
+// XML. It is used by the examples' tests.
 func Verify(dir string) (steps int, err error) {
 	f, err := os.Open(filepath.Join(dir, HistoryFile))
 	if err != nil {
@@ -196,15 +204,20 @@ func Verify(dir string) (steps int, err error) {
 	if len(d.Point["u"]) != m.NumVertices() || len(d.Cell["eta"]) != m.NumTriangles() || len(d.Cell["err"]) != m.NumTriangles() {
 		return 0, fmt.Errorf("%s: fields u, eta, err of lengths %d, %d, %d", MeshJSONFile, len(d.Point["u"]), len(d.Cell["eta"]), len(d.Cell["err"]))
 	}
-	var piece struct {
-		Points int `xml:"NumberOfPoints,attr"`
-		Cells  int `xml:"NumberOfCells,attr"`
+	if p2 := recs[len(recs)-1].DOFs > m.NumVertices(); p2 != (len(d.Edge["u"]) == m.NumEdges()) {
+		return 0, fmt.Errorf("%s: %d edge values of u for %d DOFs on %d vertices and %d edges", MeshJSONFile, len(d.Edge["u"]), recs[len(recs)-1].DOFs, m.NumVertices(), m.NumEdges())
 	}
-	if err := wellFormed(filepath.Join(dir, MeshVTUFile), "Piece", &piece); err != nil {
+	v, err := os.Open(filepath.Join(dir, MeshVTUFile))
+	if err != nil {
 		return 0, err
 	}
-	if piece.Points != m.NumVertices() || piece.Cells != m.NumTriangles() {
-		return 0, fmt.Errorf("%s: %d points and %d cells, mesh has %d and %d", MeshVTUFile, piece.Points, piece.Cells, m.NumVertices(), m.NumTriangles())
+	defer v.Close()
+	mv, dv, err := mesh.ReadVTU(v)
+	if err != nil {
+		return 0, err
+	}
+	if !sameMesh(m, mv) || !sameData(d, dv) {
+		return 0, fmt.Errorf("%s and %s hold different meshes or fields", MeshVTUFile, MeshJSONFile)
 	}
 	for _, name := range []string{MeshSVGFile, ConvergenceFile} {
 		if err := wellFormed(filepath.Join(dir, name), "", nil); err != nil {
@@ -243,4 +256,38 @@ func wellFormed(path, elem string, v any) error {
 		return fmt.Errorf("%s: no %s element", path, elem)
 	}
 	return nil
+}
+
+// sameMesh reports whether a and b have the same vertices, triangles,
+// regions and boundary tags.
+func sameMesh(a, b *mesh.Mesh) bool {
+	if !slices.Equal(a.X, b.X) || !slices.Equal(a.Tri, b.Tri) || !slices.Equal(a.Region, b.Region) {
+		return false
+	}
+	ab, at := a.BoundaryEdges()
+	bb, bt := b.BoundaryEdges()
+	return slices.Equal(ab, bb) && slices.Equal(at, bt)
+}
+
+// sameData reports whether a and b hold the same fields, bit for bit, on
+// meshes that sameMesh finds equal (and so number their edges alike).
+func sameData(a, b *mesh.Data) bool {
+	same := func(x, y map[string][]float64) bool {
+		if len(x) != len(y) {
+			return false
+		}
+		for name, v := range x {
+			w, ok := y[name]
+			if !ok || len(v) != len(w) {
+				return false
+			}
+			for i := range v {
+				if math.Float64bits(v[i]) != math.Float64bits(w[i]) {
+					return false
+				}
+			}
+		}
+		return true
+	}
+	return same(a.Point, b.Point) && same(a.Cell, b.Cell) && same(a.Edge, b.Edge)
 }
