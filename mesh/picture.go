@@ -115,7 +115,7 @@ func level(t float64) uint8 {
 // finite coordinates, the length of opt.Cell, that its values are finite
 // (and positive for opt.Log), and the width and view.
 func WritePNG(w io.Writer, m *Mesh, opt *PictureOptions) error {
-	img, err := drawPicture(m, opt)
+	img, _, err := drawPicture(m, opt)
 	if err != nil {
 		return err
 	}
@@ -197,8 +197,9 @@ func checkPicture(m *Mesh, o *PictureOptions) ([]float64, view, error) {
 	return vals, v, nil
 }
 
-// drawPicture draws the picture of WritePNG.
-func drawPicture(m *Mesh, opt *PictureOptions) (*image.Paletted, error) {
+// drawPicture draws the picture of WritePNG and returns it with the
+// rectangle of the drawing (inside the frame).
+func drawPicture(m *Mesh, opt *PictureOptions) (*image.Paletted, image.Rectangle, error) {
 	var o PictureOptions
 	if opt != nil {
 		o = *opt
@@ -211,7 +212,7 @@ func drawPicture(m *Mesh, opt *PictureOptions) (*image.Paletted, error) {
 	}
 	vals, v, err := checkPicture(m, &o)
 	if err != nil {
-		return nil, err
+		return nil, image.Rectangle{}, err
 	}
 	log := o.Log
 	if o.Cell == nil {
@@ -252,7 +253,7 @@ func drawPicture(m *Mesh, opt *PictureOptions) (*image.Paletted, error) {
 	bottom := pngTick + pngGap + capH + pngMargin
 	dw := o.Width - left - right
 	if dw < 40 {
-		return nil, fmt.Errorf("mesh: png: Width %d leaves no room for the drawing: %w", o.Width, ErrArgument)
+		return nil, image.Rectangle{}, fmt.Errorf("mesh: png: Width %d leaves no room for the drawing: %w", o.Width, ErrArgument)
 	}
 	// Scale: pixels per unit length, the same on both axes. The whole
 	// mesh is drawn pngInset pixels inside the frame so that its boundary
@@ -341,7 +342,7 @@ func drawPicture(m *Mesh, opt *PictureOptions) (*image.Paletted, error) {
 	cv.rect(draw.Max.X, draw.Min.Y, draw.Max.X+1, draw.Max.Y, idxBlack)
 	for _, t := range xt {
 		x := floorInt(px(t.at))
-		if x < draw.Min.X || x >= draw.Max.X {
+		if x < draw.Min.X-1 || x > draw.Max.X {
 			continue
 		}
 		cv.rect(x, draw.Max.Y+1, x+1, draw.Max.Y+1+pngTick, idxBlack)
@@ -349,7 +350,7 @@ func drawPicture(m *Mesh, opt *PictureOptions) (*image.Paletted, error) {
 	}
 	for _, t := range yt {
 		y := floorInt(py(t.at))
-		if y < draw.Min.Y || y >= draw.Max.Y {
+		if y < draw.Min.Y-1 || y > draw.Max.Y {
 			continue
 		}
 		cv.rect(draw.Min.X-1-pngTick, y, draw.Min.X-1, y+1, idxBlack)
@@ -374,5 +375,5 @@ func drawPicture(m *Mesh, opt *PictureOptions) (*image.Paletted, error) {
 	if o.Title != "" {
 		cv.text((o.Width-textWidth(o.Title, mag))/2, pngMargin, o.Title, mag, idxBlack)
 	}
-	return img, nil
+	return img, draw, nil
 }
