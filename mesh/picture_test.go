@@ -338,6 +338,9 @@ func TestTicks(t *testing.T) {
 		{scale{lo: -3, hi: 0.5, log: true}, "1e-3 1e-2 1e-1 1e0"},
 		{scale{lo: -20, hi: 0, log: true}, "1e-20 1e-17 1e-14 1e-11 1e-8 1e-5 1e-2"},
 		{scale{lo: 0.7, hi: 0.7}, "0.7"},
+		{scale{lo: math.Log10(1.5e-5), hi: math.Log10(6.5e-4), log: true}, "2e-5 5e-5 1e-4 2e-4 5e-4"},
+		{scale{lo: math.Log10(3.5), hi: math.Log10(4.5), log: true}, "3.5 4.0 4.5"},
+		{scale{lo: math.Log10(3.5), hi: math.Log10(5.5), log: true}, "4 5"},
 		{scale{lo: -2, hi: 21}, "0 5 10 15 20"},
 	} {
 		if got := labels(barTicks(c.s)); got != c.want {

@@ -55,7 +55,8 @@ func axisTicks(lo, hi float64, n int) []tick {
 // barTicks returns the ticks of the colour bar of scale s: for a constant
 // field its value in the middle; on a log scale the powers of ten in the
 // range if there are at least two (every second, third, ... if there are
-// more than eight), else nice values as on a linear scale; on a linear
+// more than eight), else the values 1, 2, 5 × 10^k in the range (or 1 to
+// 9 × 10^k), else nice values as on a linear scale; on a linear
 // scale the multiples of a nice step.
 func barTicks(s scale) []tick {
 	if !(s.hi > s.lo) {
@@ -71,6 +72,23 @@ func barTicks(s scale) []tick {
 				ts = append(ts, tick{at: (d - s.lo) / (s.hi - s.lo), label: "1e" + strconv.Itoa(int(d))})
 			}
 			return ts
+		}
+		// Less than two powers of ten: the values 1, 2, 5 × 10^k in the
+		// range, or all the digits 1 to 9 × 10^k if those are fewer than
+		// two.
+		for _, digits := range [][]float64{{1, 2, 5}, {1, 2, 3, 4, 5, 6, 7, 8, 9}} {
+			var ts []tick
+			for d := d0 - 1; d <= d1; d++ {
+				for _, f := range digits {
+					v := f * math.Pow(10, d)
+					if at := (math.Log10(v) - s.lo) / (s.hi - s.lo); at >= -1e-9 && at <= 1+1e-9 {
+						ts = append(ts, tick{at: at, label: formatTick(f, math.Pow(10, d))})
+					}
+				}
+			}
+			if len(ts) >= 2 {
+				return ts
+			}
 		}
 		lo, hi := math.Pow(10, s.lo), math.Pow(10, s.hi)
 		var ts []tick

@@ -11,7 +11,9 @@
 //	history.csv      the step records (header: adapt.CSVHeader)
 //	mesh.json        the final mesh with point_data u and cell_data eta, err
 //	mesh.vtu         the same for viewers (VTK XML)
-//	mesh.svg         the final mesh coloured by η_T on a log scale
+//	mesh.png         the final mesh coloured by η_T on a log scale (800 pixels wide)
+//	mesh-zoom.png    the same around the re-entrant corner, in the square
+//	                 that holds half of the triangles
 //	convergence.svg  true error and estimate against DOFs, adaptive and uniform
 //
 // The corner limits uniform refinement to error ≈ N^{-1/3}; adaptive
