@@ -35,7 +35,6 @@ const (
 // PictureWidth is the width in pixels of the mesh pictures.
 const PictureWidth = 800
 
-
 func (sc *Scenario) write(o Options, r run, adaptive, uniform []adapt.Step) error {
 	u := r.res.Solution
 	m := u.Space.Mesh
