@@ -52,7 +52,7 @@ const (
 // drawn at the right. opt may be nil.
 //
 // The file holds one polygon per triangle, so its size grows with the
-// mesh (about 130 bytes per triangle): WriteSVG suits meshes of up to some
+// mesh (77 bytes per triangle on a graded mesh of 2.6e5 triangles): WriteSVG suits meshes of up to some
 // thousands of triangles, WritePNG pictures of any size.
 //
 // Coordinates are written with two decimals, so that the output is compact
