@@ -409,4 +409,18 @@ func TestWritePNGExtremes(t *testing.T) {
 			t.Errorf("%v: picture %v", r, p.Rect)
 		}
 	}
+	// Deep zooms put the far vertices at huge or infinite pixel
+	// coordinates; the triangles around the centre still fill the view.
+	m, err := Rectangle(0, 0, 1, 1, 2, 2)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, c := range []struct{ x, y, hw float64 }{{0.3, 0.1, 1e-15}, {0.3, 0.1, 1e-9}, {3e-300, 2e-300, 1e-300}} {
+		p, r := interior(t, m, &PictureOptions{Width: 300, Center: [2]float64{c.x, c.y}, HalfWidth: c.hw})
+		for _, q := range []image.Point{r.Min, r.Max.Sub(image.Pt(1, 1)), r.Min.Add(r.Max).Div(2)} {
+			if ci := p.ColorIndexAt(q.X, q.Y); ci >= 2*pngLevels {
+				t.Errorf("%+v: pixel %v has index %d, want a level or its edge colour", c, q, ci)
+			}
+		}
+	}
 }
