@@ -128,3 +128,26 @@ func BenchmarkWriteFiles(b *testing.B) {
 		}
 	}
 }
+
+// BenchmarkWritePNG draws graded L-shape meshes of 2e5 and 1e6 triangles
+// (gradedLShape) coloured by a field on a log scale, 800 pixels wide, as
+// the examples draw mesh.png, and encodes the PNG.
+func BenchmarkWritePNG(b *testing.B) {
+	for _, n := range []int{2e5, 1e6} {
+		b.Run("n="+strconv.Itoa(n), func(b *testing.B) {
+			m := gradedLShape(b, n)
+			opt := &PictureOptions{Width: 800, Cell: cornerField(m), Log: true, Label: "η_T", Title: "bench"}
+			var size int
+			for b.Loop() {
+				var w countWriter
+				if err := WritePNG(&w, m, opt); err != nil {
+					b.Fatal(err)
+				}
+				size = int(w.n)
+			}
+			b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/float64(m.NumTriangles()), "ns/triangle")
+			b.ReportMetric(float64(size), "bytes/picture")
+			b.ReportMetric(float64(m.NumTriangles()), "triangles")
+		})
+	}
+}

@@ -40,6 +40,13 @@ func TestSaveAtomic(t *testing.T) {
 			}
 			return SaveSVG(path, m, &SVGOptions{Cell: c, Log: true})
 		}},
+		{"png", func(path string, bad bool) error {
+			opt := &PictureOptions{Width: 300}
+			if bad {
+				opt.HalfWidth = math.NaN()
+			}
+			return SavePNG(path, m, opt)
+		}},
 	} {
 		path := filepath.Join(dir, "m."+tc.name)
 		if err := tc.save(path, false); err != nil {
@@ -55,11 +62,11 @@ func TestSaveAtomic(t *testing.T) {
 		}
 	}
 	entries, _ := os.ReadDir(dir)
-	if len(entries) != 3 {
+	if len(entries) != 4 {
 		names := []string{}
 		for _, e := range entries {
 			names = append(names, e.Name())
 		}
-		t.Errorf("folder holds %v, want the three files only", names)
+		t.Errorf("folder holds %v, want the four files only", names)
 	}
 }

@@ -45,11 +45,15 @@ const (
 
 // WriteSVG draws m as an SVG picture: every triangle as a polygon, with the
 // y axis pointing up, and the boundary edges twice as thick as the others.
-// With opt.Cell the triangles are coloured by the field on this package's
-// own colour ramp (dark blue for the smallest value through teal and green
-// to yellow for the largest; a constant field is drawn in the middle
-// colour), and a vertical colour bar with five tick labels and the caption
-// opt.Label is drawn at the right. opt may be nil.
+// With opt.Cell the triangles are coloured by the field on the Lichen
+// scale (dark rust red for the smallest value through olive to pale mint
+// for the largest; a constant field is drawn in the middle colour), and a
+// vertical colour bar with five tick labels and the caption opt.Label is
+// drawn at the right. opt may be nil.
+//
+// The file holds one polygon per triangle, so its size grows with the
+// mesh (77 bytes per triangle on a graded mesh of 2.6e5 triangles): WriteSVG suits meshes of up to some
+// thousands of triangles, WritePNG pictures of any size.
 //
 // Coordinates are written with two decimals, so that the output is compact
 // and deterministic. WriteSVG checks its arguments before writing anything:
@@ -201,8 +205,9 @@ func checkSVGOptions(m *Mesh, o *SVGOptions) error {
 // ticks and its caption.
 func colourBar(t *textWriter, sc scale, x, y, h float64, label string) {
 	t.str("<defs><linearGradient id=\"mesh-colour-ramp\" x1=\"0\" y1=\"1\" x2=\"0\" y2=\"0\">")
-	for _, st := range ramp {
-		t.printf("<stop offset=\"%g\" stop-color=\"%s\"/>", st.at, hexColour(st.r, st.g, st.b))
+	for i := range svgStops {
+		f := float64(i) / (svgStops - 1)
+		t.printf("<stop offset=\"%g\" stop-color=\"%s\"/>", f, colourAt(f))
 	}
 	t.str("</linearGradient></defs>\n")
 	t.printf("<rect x=\"%.2f\" y=\"%.2f\" width=\"%d\" height=\"%.2f\" fill=\"url(#mesh-colour-ramp)\" stroke=\"#000\" stroke-width=\"0.5\"/>\n", x, y, svgBarWidth, h)
@@ -237,43 +242,16 @@ func escape(s string) string {
 	return b.String()
 }
 
-// colourStop is a point of the colour ramp: an sRGB colour at position at
-// in [0, 1].
-type colourStop struct {
-	at      float64
-	r, g, b float64
-}
+// svgStops is the number of stops of the colour bar's gradient, at
+// equal steps of the scale; between stops an SVG gradient interpolates
+// the sRGB components linearly.
+const svgStops = 17
 
-// ramp is this package's own colour map, hand-picked for these pictures:
-// five sRGB stops from dark blue through a steel blue, teal and green to
-// yellow, so that lightness grows along the ramp and small and large values
-// stay apart in grey-scale print too. Between stops the sRGB components are
-// interpolated linearly, which is also how an SVG gradient through the same
-// stops is drawn, so the colour bar matches the triangles.
-var ramp = [...]colourStop{
-	{0.00, 24, 28, 96},
-	{0.25, 30, 92, 150},
-	{0.50, 22, 148, 140},
-	{0.75, 110, 190, 70},
-	{1.00, 248, 226, 60},
-}
-
-// colourAt returns the colour of the ramp at t as "#rrggbb". t is clamped
-// to [0, 1]; NaN gives the colour at 0.
+// colourAt returns the colour of the Lichen scale at t as "#rrggbb".
+// t is clamped to [0, 1]; NaN gives the colour at 0.
 func colourAt(t float64) string {
-	if !(t > 0) {
-		t = 0
-	}
-	if t > 1 {
-		t = 1
-	}
-	i := 0
-	for i < len(ramp)-2 && t > ramp[i+1].at {
-		i++
-	}
-	a, b := ramp[i], ramp[i+1]
-	f := (t - a.at) / (b.at - a.at)
-	return hexColour(a.r+f*(b.r-a.r), a.g+f*(b.g-a.g), a.b+f*(b.b-a.b))
+	c := Lichen(t)
+	return hexColour(float64(c.R), float64(c.G), float64(c.B))
 }
 
 // hexColour formats an sRGB colour with components in [0, 255].

@@ -158,18 +158,3 @@ func TestWriteSVGRejects(t *testing.T) {
 		t.Errorf("failing writer: error %v", err)
 	}
 }
-
-func TestColourRamp(t *testing.T) {
-	if got := colourAt(0); got != "#181c60" {
-		t.Errorf("colourAt(0) = %s", got)
-	}
-	if got := colourAt(1); got != "#f8e23c" {
-		t.Errorf("colourAt(1) = %s", got)
-	}
-	if colourAt(-1) != colourAt(0) || colourAt(2) != colourAt(1) || colourAt(math.NaN()) != colourAt(0) {
-		t.Error("colourAt does not clamp")
-	}
-	if got, want := colourAt(0.125), hexColour(27, 60, 123); got != want {
-		t.Errorf("colourAt(0.125) = %s, want %s", got, want)
-	}
-}

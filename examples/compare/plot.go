@@ -117,6 +117,9 @@ func writePlot(w io.Writer, sums []study.Summary, which string) error {
 			one.Dashes = []vg.Length{vg.Points(1), vg.Points(2)}
 			p.Add(one)
 		}
+		// Round the y range out to ticks, so that the labels reach past
+		// the highest and lowest curves.
+		p.Y.Min, p.Y.Max = factorRange(p.Y.Min, p.Y.Max)
 		grid[k/cols][k%cols] = p
 	}
 
@@ -155,16 +158,23 @@ func writePlot(w io.Writer, sums []study.Summary, which string) error {
 // the range is wide.
 type factorTicks struct{}
 
+// factorStep returns the exponent step of the ticks between 2^k0 and
+// 2^k1: 1, 2, 4, … so that at most 8 steps span the range.
+func factorStep(k0, k1 int) int {
+	step := 1
+	for (k1-k0)/step > 8 {
+		step *= 2
+	}
+	return step
+}
+
 // Ticks implements plot.Ticker.
 func (factorTicks) Ticks(lo, hi float64) []plot.Tick {
 	if !(lo > 0 && hi >= lo) {
 		return nil
 	}
 	k0, k1 := int(math.Floor(math.Log2(lo))), int(math.Ceil(math.Log2(hi)))
-	step := 1
-	for (k1-k0)/step > 8 {
-		step *= 2
-	}
+	step := factorStep(k0, k1)
 	var ts []plot.Tick
 	for k := k0 - k0%step; k <= k1; k += step {
 		v := math.Ldexp(1, k)
@@ -173,4 +183,24 @@ func (factorTicks) Ticks(lo, hi float64) []plot.Tick {
 		}
 	}
 	return ts
+}
+
+// factorRange returns the range [lo, hi] of a log axis widened to the
+// nearest ticks of factorTicks outside it, so that the axis is labelled
+// at both ends of the data. A range that is not positive is returned as
+// it is.
+func factorRange(lo, hi float64) (float64, float64) {
+	if !(lo > 0 && hi >= lo) || math.IsInf(hi, 0) {
+		return lo, hi
+	}
+	k0, k1 := int(math.Floor(math.Log2(lo))), int(math.Ceil(math.Log2(hi)))
+	for {
+		step := factorStep(k0, k1)
+		a := k0 - ((k0%step)+step)%step // down to a multiple of step
+		b := k1 + ((step-k1%step)%step+step)%step
+		if a == k0 && b == k1 {
+			return math.Ldexp(1, k0), math.Ldexp(1, k1)
+		}
+		k0, k1 = a, b
+	}
 }

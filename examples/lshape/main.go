@@ -13,7 +13,9 @@
 //	                 values), triangle fields eta and err (mesh.ReadJSON reads it)
 //	mesh.vtu         the same for viewers (VTK XML, zlib-compressed binary;
 //	                 quadratic cells with -p 2; mesh.ReadVTU reads it)
-//	mesh.svg         the final mesh coloured by η_T on a log scale
+//	mesh.png         the final mesh coloured by η_T on a log scale (800 pixels wide)
+//	mesh-zoom.png    the same around the re-entrant corner, in the square
+//	                 that holds half of the triangles
 //	convergence.svg  true error and estimate against DOFs, adaptive and uniform
 //
 // The corner limits uniform refinement to error ≈ N^{-1/3}; adaptive

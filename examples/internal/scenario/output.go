@@ -1,10 +1,12 @@
 package scenario
 
 import (
+	"bytes"
 	"encoding/csv"
 	"encoding/xml"
 	"errors"
 	"fmt"
+	"image/png"
 	"io"
 	"math"
 	"os"
@@ -25,9 +27,13 @@ const (
 	HistoryFile     = "history.csv"
 	MeshJSONFile    = "mesh.json"
 	MeshVTUFile     = "mesh.vtu"
-	MeshSVGFile     = "mesh.svg"
+	MeshPNGFile     = "mesh.png"      // the whole final mesh
+	MeshZoomFile    = "mesh-zoom.png" // around the singular point, if the problem has one
 	ConvergenceFile = "convergence.svg"
 )
+
+// PictureWidth is the width in pixels of the mesh pictures.
+const PictureWidth = 800
 
 func (sc *Scenario) write(o Options, r run, adaptive, uniform []adapt.Step) error {
 	u := r.res.Solution
@@ -68,13 +74,39 @@ func (sc *Scenario) write(o Options, r run, adaptive, uniform []adapt.Step) erro
 	for i, v := range eta {
 		shade[i] = max(v, floor)
 	}
-	opt := &mesh.SVGOptions{Cell: shade, Log: true, Label: "η_T", Title: fmt.Sprintf("%s: final mesh, %d triangles", sc.Name, m.NumTriangles()), EdgeWidth: 0.3}
-	if err := mesh.SaveSVG(path(MeshSVGFile), m, opt); err != nil {
+	opt := &mesh.PictureOptions{Width: PictureWidth, Cell: shade, Log: true, Label: "η_T",
+		Title: fmt.Sprintf("%s: final mesh, %d triangles", sc.Name, m.NumTriangles())}
+	if err := mesh.SavePNG(path(MeshPNGFile), m, opt); err != nil {
 		return err
+	}
+	if len(sc.Exact.Singular) > 0 {
+		c := sc.Exact.Singular[0]
+		opt.Center, opt.HalfWidth = c, zoomHalfWidth(m, c)
+		opt.Title = fmt.Sprintf("%s: near the singular point (%.3g, %.3g)", sc.Name, c[0], c[1])
+		if err := mesh.SavePNG(path(MeshZoomFile), m, opt); err != nil {
+			return err
+		}
 	}
 	return mesh.WriteFile(path(ConvergenceFile), func(w io.Writer) error {
 		return sc.convergence(w, o, adaptive, uniform)
 	})
+}
+
+// zoomHalfWidth returns the half-width of the zoomed picture around c:
+// the smallest square around c that holds the centroids of half of the
+// triangles, so that the picture shows the refined zone at the scale of
+// its own triangles (adaptive meshes grade towards the singular point, and
+// on them half of the triangles lie within a small fraction of the domain).
+func zoomHalfWidth(m *mesh.Mesh, c [2]float64) float64 {
+	d := make([]float64, m.NumTriangles())
+	for k := range d {
+		t := m.Tri[3*k : 3*k+3]
+		x := (m.X[2*t[0]] + m.X[2*t[1]] + m.X[2*t[2]]) / 3
+		y := (m.X[2*t[0]+1] + m.X[2*t[1]+1] + m.X[2*t[2]+1]) / 3
+		d[k] = max(math.Abs(x-c[0]), math.Abs(y-c[1]))
+	}
+	slices.Sort(d)
+	return d[len(d)/2]
 }
 
 // convergence draws error and estimate against DOFs on log-log axes for
@@ -167,8 +199,9 @@ func (sc *Scenario) convergence(w io.Writer, o Options, adaptive, uniform []adap
 // Verify checks the files of a run in dir: the CSV has the documented
 // header and one row per step, the JSON arrays match the mesh, the VTU
 // file reads back to the same mesh and fields as the JSON file (the
-// solution with its edge values for P2), and the SVG files are well-formed
-// XML. It is used by the examples' tests.
+// solution with its edge values for P2), the SVG files are well-formed
+// XML, and the mesh pictures are PNG images PictureWidth wide and under
+// 5 MB. It is used by the examples' tests.
 func Verify(dir string) (steps int, err error) {
 	f, err := os.Open(filepath.Join(dir, HistoryFile))
 	if err != nil {
@@ -219,12 +252,34 @@ func Verify(dir string) (steps int, err error) {
 	if !sameMesh(m, mv) || !sameData(d, dv) {
 		return 0, fmt.Errorf("%s and %s hold different meshes or fields", MeshVTUFile, MeshJSONFile)
 	}
-	for _, name := range []string{MeshSVGFile, ConvergenceFile} {
-		if err := wellFormed(filepath.Join(dir, name), "", nil); err != nil {
+	if err := wellFormed(filepath.Join(dir, ConvergenceFile), "", nil); err != nil {
+		return 0, err
+	}
+	for _, name := range []string{MeshPNGFile, MeshZoomFile} {
+		if err := checkPNG(filepath.Join(dir, name)); err != nil {
 			return 0, err
 		}
 	}
 	return len(recs), nil
+}
+
+// checkPNG reads a mesh picture whole and checks its width and size.
+func checkPNG(path string) error {
+	b, err := os.ReadFile(path)
+	if err != nil {
+		return err
+	}
+	if len(b) >= 5e6 { // the bound of the pictures: mesh.WritePNG's doc
+		return fmt.Errorf("%s: %d bytes", path, len(b))
+	}
+	img, err := png.Decode(bytes.NewReader(b))
+	if err != nil {
+		return fmt.Errorf("%s: %w", path, err)
+	}
+	if w := img.Bounds().Dx(); w != PictureWidth {
+		return fmt.Errorf("%s: %d pixels wide, want %d", path, w, PictureWidth)
+	}
+	return nil
 }
 
 // wellFormed reads an XML file to its end; if elem is not empty, the first

@@ -12,6 +12,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"time"
 
@@ -216,7 +217,11 @@ func (sc *Scenario) Run(o Options, w io.Writer) error {
 	if err := sc.write(o, main, adaptive.res.Steps, uniform.res.Steps); err != nil {
 		return err
 	}
-	fmt.Fprintf(w, "wrote %s (final mesh: %d triangles, %d DOFs)\n", filepath.Join(o.Out, "{history.csv,mesh.json,mesh.vtu,mesh.svg,convergence.svg}"), last.Triangles, last.DOFs)
+	files := []string{HistoryFile, MeshJSONFile, MeshVTUFile, MeshPNGFile, ConvergenceFile}
+	if len(sc.Exact.Singular) > 0 {
+		files = slices.Insert(files, 4, MeshZoomFile)
+	}
+	fmt.Fprintf(w, "wrote %s (final mesh: %d triangles, %d DOFs)\n", filepath.Join(o.Out, "{"+strings.Join(files, ",")+"}"), last.Triangles, last.DOFs)
 	return nil
 }
 
