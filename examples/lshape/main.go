@@ -31,7 +31,7 @@
 //
 //	go run ./examples/lshape [-p 1|2] [-estimator residual|averaging|spr|equilibrated|flux]
 //	    [-theta 0.5] [-max-dofs 40000] [-tol 0] [-out out/lshape] [-uniform]
-//	    [-goal box:X0,Y0,X1,Y1 | region:TAG | flux:TAG]
+//	    [-goal box:X0,Y0,X1,Y1 | region:TAG | flux:TAG] [-picture 800] [-zoom X,Y,R]
 //
 // The estimate measures discretization error only, not modelling error;
 // engineering use follows local codes and licensed practice.

@@ -35,7 +35,7 @@ func CheckCommand(t TB, run Command) {
 	for _, args := range [][]string{
 		{"-max-dofs", "400"},
 		{"-max-dofs", "400", "-p", "2", "-estimator", "spr"},
-		{"-max-dofs", "300", "-uniform", "-estimator", "averaging"},
+		{"-max-dofs", "300", "-uniform", "-estimator", "averaging", "-picture", "300", "-zoom", "0.1,0.2,0.05"},
 	} {
 		dir := filepath.Join(t.TempDir(), "out")
 		var out, errs bytes.Buffer
@@ -61,6 +61,7 @@ func CheckCommand(t TB, run Command) {
 	for _, args := range [][]string{
 		{"-p", "3"}, {"-estimator", "guess"}, {"-theta", "0"}, {"-theta", "1.5"}, {"-theta", "NaN"},
 		{"-max-dofs", "10"}, {"-tol", "-1"}, {"-bogus"}, {"extra"}, {"-out", " "},
+		{"-picture", "100"}, {"-zoom", "1,2"}, {"-zoom", "0,0,-1"}, {"-zoom", "0,x,1"},
 	} {
 		dir := filepath.Join(t.TempDir(), "out")
 		full := append(append([]string{}, args...), "-out", dir)
@@ -89,7 +90,7 @@ func CheckCommand(t TB, run Command) {
 		strings.Count(strings.TrimRight(errs.String(), "\n"), "\n") != 0 {
 		t.Errorf("-out under a file: exit %d, stdout %q, stderr %q; want 2, nothing, one line", code, out.String(), errs.String())
 	}
-	CheckHelp(t, run, "p", "estimator", "theta", "max-dofs", "tol", "out", "uniform", "goal")
+	CheckHelp(t, run, "p", "estimator", "theta", "max-dofs", "tol", "out", "uniform", "goal", "picture", "zoom")
 }
 
 // CheckHelp checks that -h, -help and --help print a usage that lists

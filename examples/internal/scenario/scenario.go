@@ -13,6 +13,7 @@ import (
 	"os"
 	"path/filepath"
 	"slices"
+	"strconv"
 	"strings"
 	"time"
 
@@ -51,7 +52,9 @@ type Options struct {
 	Tol       float64
 	Out       string
 	Uniform   bool
-	Goal      fem.Goal // from -goal; nil without it
+	Goal      fem.Goal  // from -goal; nil without it
+	Picture   int       // width of the mesh pictures in pixels
+	Zoom      []float64 // X, Y, R of the zoomed picture; nil: around the singular point
 }
 
 // Estimators maps the -estimator flag's values to estimators: the names
@@ -92,6 +95,8 @@ func (sc *Scenario) Parse(args []string, stdout io.Writer) (Options, error) {
 	fs.Float64Var(&o.Tol, "tol", 0, "stop when the estimate is at most this, a finite value ≥ 0 (0: no tolerance)")
 	fs.StringVar(&o.Out, "out", sc.DefaultOut, "folder for the output files (created if missing)")
 	fs.BoolVar(&o.Uniform, "uniform", false, "refine uniformly instead of adaptively")
+	fs.IntVar(&o.Picture, "picture", PictureWidth, "width of the mesh pictures in pixels, 200 to 2000")
+	zoom := fs.String("zoom", "", "zoomed picture: X,Y,R, the square of half-width R around (X, Y) (default: around the singular point)")
 	goal := fs.String("goal", "", "goal functional, marked by: box:X0,Y0,X1,Y1, region:TAG or flux:TAG")
 	bad := func(format string, a ...any) (Options, error) {
 		return o, fmt.Errorf("%w: %s: %s", errUsage, sc.Name, fmt.Sprintf(format, a...))
@@ -106,6 +111,18 @@ func (sc *Scenario) Parse(args []string, stdout io.Writer) (Options, error) {
 		return bad("%v", err)
 	}
 	budget := cli.Budget(o.MaxDOFs)
+	if *zoom != "" {
+		for _, f := range strings.Split(*zoom, ",") {
+			v, err := strconv.ParseFloat(strings.TrimSpace(f), 64)
+			if err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
+				return bad("-zoom %q: want three finite numbers X,Y,R", *zoom)
+			}
+			o.Zoom = append(o.Zoom, v)
+		}
+		if len(o.Zoom) != 3 || !(o.Zoom[2] > 0) {
+			return bad("-zoom %q: want X,Y,R with R > 0", *zoom)
+		}
+	}
 	var err error
 	if o.Goal, err = parseGoal(*goal); err != nil {
 		return bad("%v", err)
@@ -119,6 +136,8 @@ func (sc *Scenario) Parse(args []string, stdout io.Writer) (Options, error) {
 		return bad("-theta %g: want a value in (0, 1]", o.Theta)
 	case budget != nil:
 		return bad("%v", budget)
+	case o.Picture < 200 || o.Picture > 2000:
+		return bad("-picture %d: want 200 to 2000", o.Picture)
 	case !(o.Tol >= 0) || math.IsInf(o.Tol, 0):
 		return bad("-tol %g: want a finite value ≥ 0", o.Tol)
 	}
