@@ -192,8 +192,12 @@ func (c *cdt) cut() {
 		}
 	}
 	for v := range c.vt {
-		if t := c.vt[v]; t >= 0 && c.state[t] != live {
-			c.vt[v] = -1
+		c.vt[v] = -1
+	}
+	for t := range int32(len(c.state)) {
+		if c.state[t] == live {
+			c.vt[c.tri[3*t]], c.vt[c.tri[3*t+1]], c.vt[c.tri[3*t+2]] = t, t, t
 		}
 	}
+	c.last = c.anyLive()
 }
