@@ -56,7 +56,9 @@ func TestIncircleNearDegenerate(t *testing.T) {
 		add := func(p, q *big.Float) *big.Float { return new(big.Float).SetPrec(1024).Add(p, q) }
 		adx, ady, bdx, bdy, cdx, cdy := sub(ax, dx), sub(ay, dy), sub(bx, dx), sub(by, dy), sub(cx, dx), sub(cy, dy)
 		la, lb, lc := add(mul(adx, adx), mul(ady, ady)), add(mul(bdx, bdx), mul(bdy, bdy)), add(mul(cdx, cdx), mul(cdy, cdy))
-		m := func(px, py, qx, qy *big.Float) *big.Float { return new(big.Float).SetPrec(1024).Sub(mul(px, qy), mul(qx, py)) }
+		m := func(px, py, qx, qy *big.Float) *big.Float {
+			return new(big.Float).SetPrec(1024).Sub(mul(px, qy), mul(qx, py))
+		}
 		det := add(add(mul(la, m(bdx, bdy, cdx, cdy)), mul(lb, m(cdx, cdy, adx, ady))), mul(lc, m(adx, ady, bdx, bdy)))
 		return det.Sign()
 	}
