@@ -398,8 +398,31 @@ func (c *cdt) local(t, v int32) int {
 }
 
 // findSide returns a triangle with the edge a–b and the side of it that
-// the edge is, or -1.
+// the edge is, or -1. It turns around a, then around b; where the domain
+// touches itself at both (their triangles form several fans, which around
+// cannot pass between), it scans the live triangles.
 func (c *cdt) findSide(a, b int32) (int32, int) {
+	if t, i := c.findSideFrom(a, b); t >= 0 {
+		return t, i
+	}
+	if t, i := c.findSideFrom(b, a); t >= 0 {
+		return t, i
+	}
+	for t := range int32(len(c.state)) {
+		if c.state[t] != live {
+			continue
+		}
+		for i := range 3 {
+			p, q := c.tri[3*t+int32(next3(i))], c.tri[3*t+int32(prev3(i))]
+			if (p == a && q == b) || (p == b && q == a) {
+				return t, i
+			}
+		}
+	}
+	return -1, 0
+}
+
+func (c *cdt) findSideFrom(a, b int32) (int32, int) {
 	ft, fi := int32(-1), 0
 	c.around(a, func(t int32, i int) bool {
 		switch b {

@@ -36,7 +36,14 @@ type subseg struct {
 type badTri struct {
 	t       int32
 	a, b, d int32 // its vertices when queued, to skip stale entries
+	tries   int32 // how often it was put back behind subsegment splits
 }
+
+// maxTries bounds how often a triangle is put back behind the splits of
+// the subsegments its circumcenter encroaches: each split makes progress
+// unless float64 has no room for the new vertex, and then the triangle is
+// left as it is.
+const maxTries = 64
 
 func newDelaunayRefiner(c *cdt, d *Domain, pv []int32, o *Options) *delaunayRefiner {
 	r := &delaunayRefiner{c: c, d: d, pv: pv, h: o.H, size: o.Size, maxV: o.MaxVertices}
@@ -218,7 +225,7 @@ func angleAt(x []float64, a, b, c int32) float64 { return angle(x, a, b, c) }
 func (r *delaunayRefiner) queueTri(t int32) {
 	if bad, sheltered := r.bad(t); bad && !sheltered {
 		c := r.c
-		r.triQ = append(r.triQ, badTri{t, c.tri[3*t], c.tri[3*t+1], c.tri[3*t+2]})
+		r.triQ = append(r.triQ, badTri{t, c.tri[3*t], c.tri[3*t+1], c.tri[3*t+2], 0})
 	}
 }
 
@@ -260,7 +267,7 @@ func (r *delaunayRefiner) run() error {
 		if c.state[b.t] != live || c.tri[3*b.t] != b.a || c.tri[3*b.t+1] != b.b || c.tri[3*b.t+2] != b.d {
 			continue
 		}
-		r.splitTri(b.t)
+		r.splitTri(b)
 	}
 	return r.err
 }
@@ -306,8 +313,9 @@ func (r *delaunayRefiner) splitSeg(s subseg) {
 
 // splitTri inserts the circumcenter of t, or splits the subsegments it
 // would encroach.
-func (r *delaunayRefiner) splitTri(t int32) {
+func (r *delaunayRefiner) splitTri(bt badTri) {
 	c := r.c
+	t := bt.t
 	a, b, d := c.tri[3*t], c.tri[3*t+1], c.tri[3*t+2]
 	ax, ay := r.xy(a)
 	bx, by := r.xy(b)
@@ -352,7 +360,7 @@ func (r *delaunayRefiner) splitTri(t int32) {
 		if c.seg[3*cur+int32(exit)] >= 0 || u < 0 {
 			p, q := c.tri[3*cur+int32(next3(exit))], c.tri[3*cur+int32(prev3(exit))]
 			r.segQ = append(r.segQ, subseg{p, q, true})
-			r.requeue(t)
+			r.requeue(bt)
 			return
 		}
 		cur = u
@@ -397,7 +405,7 @@ func (r *delaunayRefiner) splitTri(t int32) {
 	if found {
 		c.x = c.x[:len(c.x)-2]
 		c.vt = c.vt[:len(c.vt)-1]
-		r.requeue(t)
+		r.requeue(bt)
 		return
 	}
 	r.onSeg = append(r.onSeg, -1)
@@ -409,7 +417,9 @@ func (r *delaunayRefiner) splitTri(t int32) {
 	r.after(v)
 }
 
-func (r *delaunayRefiner) requeue(t int32) {
-	c := r.c
-	r.triQ = append(r.triQ, badTri{t, c.tri[3*t], c.tri[3*t+1], c.tri[3*t+2]})
+func (r *delaunayRefiner) requeue(b badTri) {
+	if b.tries < maxTries {
+		b.tries++
+		r.triQ = append(r.triQ, b)
+	}
 }

@@ -31,21 +31,24 @@ import (
 // size bound, gets a vertex at its circumcenter (Chew 1989, Ruppert 1995),
 // unless that point would encroach a subsegment, which is then split
 // instead. A subsegment with one end at an input point is split at a
-// power of two from that point (concentric shells, Ruppert 1995; Shewchuk
-// 2002, §5), so that splits on segments meeting at a small angle stay in
+// power of two from that point (concentric shells: Ruppert 1995; Shewchuk
+// 2002), so that splits on segments meeting at a small angle stay in
 // step.
 //
 // # Guarantee
 //
 // With no input angle below 60° (the angle between two segments at a
 // point they share), and θ ≤ 20.7°, the refinement ends (Shewchuk 2002,
-// Theorem on termination with concentric shells) and every triangle has
+// for Ruppert's algorithm with concentric shells) and every triangle has
 // all angles ≥ θ; θ defaults to 20°. Where two segments meet at an input
 // angle below 60° the bound cannot hold in general. There, a triangle is
 // left as it is when its shortest edge joins two points on the two
 // segments at equal distance (to 1e-6 relative) from the point where they
 // meet: the triangle is sheltered by the small angle, and Report.Sheltered
-// counts it. Every triangle outside the shelter still has all angles ≥ θ.
+// counts it. Every triangle outside the shelter still has all angles ≥ θ
+// (Report.ShelterMin), unless float64 leaves no room for a vertex between
+// two others, which the refinement then leaves as they are (features
+// some 1e-16 of the coordinates apart).
 // When the refinement would need more than MaxVertices vertices it stops
 // with ErrVertexLimit and returns no mesh.
 //

@@ -13,7 +13,7 @@ func BenchmarkTriangulate(b *testing.B) {
 	for _, n := range []int{1e3, 1e4, 1e5} {
 		b.Run("n="+strconv.Itoa(n), func(b *testing.B) {
 			d := plateDomain()
-			o := Options{H: math.Sqrt(7.4 * plateArea / float64(n))}
+			o := Options{H: math.Sqrt(4.8 * plateArea / float64(n))}
 			var sink *Mesh
 			for b.Loop() {
 				m, _, err := Triangulate(d, o)
