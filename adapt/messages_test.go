@@ -88,6 +88,11 @@ func TestMessagesSayContextOnce(t *testing.T) {
 			_, _, err := mesh.New(mesh.Arrays{X: []float64{0, 0, 1, 0, 1, 1, 0, 1, 1, 0, 2, 0, 2, 1, 1, 1}, Tri: []int32{0, 1, 2, 0, 2, 3, 4, 5, 6, 4, 6, 7}})
 			return err
 		}(), "mesh", "vertex 4"},
+		{"domain", func() error {
+			_, _, err := mesh.Triangulate(&mesh.Domain{Points: []float64{0, 0, 1, 0, 0, 1, 1, 1}, Segments: []int32{0, 1, 1, 2, 2, 3, 3, 0}}, mesh.Options{})
+			return err
+		}(), "mesh", "segment 3"},
+		{"domain relabel", func() error { _, _, err := (&mesh.Mesh{}).Relabel(); return err }(), "mesh", "Relabel"},
 		{"solver iteration limit", func() error {
 			sys, _ := fem.Assemble(s1, &fem.Problem{F: one, Dirichlet: dir})
 			_, _, err := sys.Solve(fem.SolveSettings{MaxIter: 1, Preconditioner: fem.Diagonal})
@@ -148,6 +153,7 @@ func TestSentinelsHaveNoPrefix(t *testing.T) {
 		mesh.ErrLength, mesh.ErrEmpty, mesh.ErrIndex, mesh.ErrRepeatedVertex, mesh.ErrNotFinite, mesh.ErrZeroArea,
 		mesh.ErrNonManifold, mesh.ErrOverlap, mesh.ErrNotAnEdge, mesh.ErrNotBoundary, mesh.ErrDuplicateEdge, mesh.ErrNegativeTag,
 		mesh.ErrUnusedVertex, mesh.ErrCoincident, mesh.ErrArgument, mesh.ErrFormat, mesh.ErrTooLarge,
+		mesh.ErrZeroLength, mesh.ErrUnclosed, mesh.ErrIntersect, mesh.ErrOutside, mesh.ErrSeedConflict, mesh.ErrVertexLimit,
 		fem.ErrArgument, fem.ErrDegree, fem.ErrDiffusion, fem.ErrReaction, fem.ErrNotFinite, fem.ErrIllPosed, fem.ErrBoundaryCondition,
 		fem.ErrRegion, fem.ErrNotConverged, fem.ErrOutside,
 		estimate.ErrArgument, estimate.ErrNotFinite, estimate.ErrLength, estimate.ErrTooFew,

@@ -1,10 +1,11 @@
 // Package mesh holds conforming triangle meshes: vertices, triangles,
 // region and boundary tags, and the topology derived from them (edges,
 // triangle-to-edge and edge-to-triangle maps), with generators for the
-// standard test domains, validation, refinement, quality figures,
-// reading and writing of meshes and fields, and pictures (WritePNG, whose
-// size does not grow with the mesh, on this package's Lichen colour
-// scale).
+// standard test domains, a mesher for polygonal domains with holes and
+// materials (Triangulate), validation, refinement, relabelling for
+// bisection (Relabel), quality figures, reading and writing of meshes and
+// fields, and pictures (WritePNG, whose size does not grow with the mesh,
+// on this package's Lichen colour scale).
 //
 // Package mesh knows nothing of finite elements: it is the ground that
 // package fem builds spaces on.
