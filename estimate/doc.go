@@ -30,11 +30,38 @@
 // Equilibrated is the equilibrated-flux estimator (Prager–Synge): its
 // total is a guaranteed upper bound of the energy error, with no unknown
 // constant, for any contrast of a piecewise-constant diffusion, and it
-// includes the error of an inexactly solved u_h. Use it when the number
-// itself matters (a certified error, a stopping test); it costs one small
-// linear solve per vertex. Residual and Recovery are cheaper and
-// good at locating the error, but their totals are off by an unknown
-// factor (see examples/compare).
+// includes the error of an inexactly solved u_h. FluxRecovery projects the
+// flux −a∇u_h onto Raviart–Thomas fields (Cai and Zhang): cheaper than
+// Equilibrated, robust at material interfaces, not a bound.
+//
+// # Which estimator
+//
+// Effectivity η/error in the effectivity study (adapt/study, command
+// examples/compare with its defaults: six model problems, P1 and P2,
+// Dörfler θ = 0.5 to 2e4 DOFs, nested-iteration solves; 60 runs): the range
+// at the last step, and in brackets over every step after the first three.
+//
+//	estimator     P1 last          P2 last          every step
+//	Equilibrated  1.04–1.41        1.02–1.35        ≥ 1.016 on all 624 steps (a theorem: ≥ 1)
+//	FluxRecovery  0.56–1.21        0.41–0.86        (0.22–1.22)
+//	Residual      1.38–5.83        2.91–9.36        (1.38–20.4)
+//	Averaging     0.38–1.00        0.29–0.85        (0.22–1.18)
+//	SPR           0.43–1.02        0.40–1.09        (0.26–1.88)
+//
+// The lowest values of the recovery estimators are on the Kellogg
+// checkerboard (Averaging 0.38, SPR 0.43, FluxRecovery 0.56 for P1) and in
+// the first steps of the peak and layer problems; Equilibrated's highest
+// (1.35–1.41) is on Kellogg, 1.02–1.08 on the other five.
+//
+// Use Equilibrated when the number itself matters: a certified error, a
+// stopping test, a report. It costs the most: per triangle, about 10 to 20
+// times the residual estimator for P1 and 100 times more again for P2 (see
+// its doc for the measured figures). Use Residual to steer refinement
+// cheaply: it is reliable (an upper bound up to an unknown constant) and
+// its rates follow the error's, but its total is off by the factor in the
+// table. Use FluxRecovery or the gradient recoveries for a cheap total
+// near the error on smooth problems, knowing that they can under-estimate
+// by a factor of two or more (P2, interfaces, singular points).
 //
 // # Conventions
 //
