@@ -54,8 +54,10 @@
 // (1.35–1.41) is on Kellogg, 1.02–1.08 on the other five.
 //
 // Use Equilibrated when the number itself matters: a certified error, a
-// stopping test, a report. It costs the most: per triangle, about 10 to 20
-// times the residual estimator for P1 and 100 times more again for P2 (see
+// stopping test, a report. It costs the most: per triangle of a P1
+// solution, 3 to 5 times the residual estimator (three runs of
+// BenchmarkEstimate and BenchmarkEquilibrated side by side, 1e5 triangles,
+// on a shared machine), and a P2 solution about 100 times more again (see
 // its doc for the measured figures). Use Residual to steer refinement
 // cheaply: it is reliable (an upper bound up to an unknown constant) and
 // its rates follow the error's, but its total is off by the factor in the
