@@ -127,20 +127,31 @@ var _ TargetSolver = FEMSolver{}
 // error is at most energyTol (fem.SolveSettings.EnergyTol; 0 leaves the
 // settings' own value), and returns the solver's stats.
 func (f FEMSolver) SolveTo(s *fem.Space, p *fem.Problem, guess []float64, energyTol float64) ([]float64, fem.SolveStats, error) {
+	u, stats, _, err := f.solve(s, p, guess, energyTol)
+	return u, stats, err
+}
+
+// solve is SolveTo, also returning the system with its preconditioner,
+// from which the loop solves a goal's dual problem (goalState.step).
+func (f FEMSolver) solve(s *fem.Space, p *fem.Problem, guess []float64, energyTol float64) ([]float64, fem.SolveStats, *fem.Prepared, error) {
 	sys, err := fem.Assemble(s, p)
 	if err != nil {
-		return nil, fem.SolveStats{}, err
+		return nil, fem.SolveStats{}, nil, err
+	}
+	ps, err := sys.Prepare(f.Settings.Preconditioner)
+	if err != nil {
+		return nil, fem.SolveStats{}, nil, err
 	}
 	st := f.Settings
 	st.X0 = guess
 	if energyTol > 0 {
 		st.EnergyTol = energyTol
 	}
-	u, stats, err := sys.Solve(st)
+	u, stats, err := ps.Solve(st)
 	if err != nil {
-		return nil, stats, err
+		return nil, stats, nil, err
 	}
-	return u.U, stats, nil
+	return u.U, stats, ps, nil
 }
 
 // Solve assembles and solves p on s, starting from guess.
@@ -290,7 +301,10 @@ func Run(ctx context.Context, p Problem, s Settings, meth Method) (*Result, erro
 		}
 		var uv []float64
 		var st fem.SolveStats
-		if ts, ok := meth.Solver.(TargetSolver); ok {
+		if fs, ok := meth.Solver.(FEMSolver); ok && gs != nil {
+			// The library's solver keeps the system for the dual solve.
+			uv, st, gs.primal, err = fs.solve(sp, p.Data, g, 0)
+		} else if ts, ok := meth.Solver.(TargetSolver); ok {
 			etol := 0.0
 			if frac > 0 && step > 0 && meth.Goal == nil {
 				prev := res.Steps[step-1]

@@ -79,6 +79,8 @@ import (
 //     49 (2011) 2451–2469 (from memory).
 type DualWeighted struct {
 	Goal fem.Goal
+
+	general bool // test hook: the general path for every input
 }
 
 // GoalIndicators holds the goal-oriented estimate per triangle.
@@ -148,6 +150,15 @@ func (d DualWeighted) Estimate(dst *GoalIndicators, u, z *fem.Function, p *fem.P
 	line, err := quadrature.ForLine(2*deg + 2)
 	if err != nil {
 		return nil, err
+	}
+	// Fast path for piecewise-constant a (goalFast, goal_fast.go); the
+	// general path, for AFunc, evaluates every term at its quadrature
+	// points on each side of each edge.
+	if p.PiecewiseConstant() && !d.general {
+		if err := goalFast(dst, u, y, p, rec, rule, line); err != nil {
+			return nil, err
+		}
+		return dst, nil
 	}
 	w := goalWeights{deg: deg, rec: rec}
 	err = parallel.For(nt, 512, func(lo, hi int) error {
