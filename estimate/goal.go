@@ -99,7 +99,10 @@ func (g *GoalIndicators) Total() float64 { return sum(g.Rho) }
 // solution z (of the same space) for the problem p, into dst (a nil dst
 // allocates). It is linear in the size of the mesh; the triangles are
 // split over GOMAXPROCS goroutines, each writing its own ρ_T, so the result
-// does not depend on GOMAXPROCS.
+// does not depend on GOMAXPROCS. For piecewise-constant a it takes the fast
+// path goalFast (goal_fast.go: ζ from tables at the rules' points, each
+// edge once); for AFunc the general path, every term at its quadrature
+// points from each side of each edge.
 func (d DualWeighted) Estimate(dst *GoalIndicators, u, z *fem.Function, p *fem.Problem) (*GoalIndicators, error) {
 	if d.Goal == nil {
 		return nil, fmt.Errorf("estimate: DualWeighted: nil goal: %w", ErrArgument)
@@ -151,9 +154,8 @@ func (d DualWeighted) Estimate(dst *GoalIndicators, u, z *fem.Function, p *fem.P
 	if err != nil {
 		return nil, err
 	}
-	// Fast path for piecewise-constant a (goalFast, goal_fast.go); the
-	// general path, for AFunc, evaluates every term at its quadrature
-	// points on each side of each edge.
+	// Fast path for piecewise-constant a; if it does not apply, the
+	// general path.
 	if p.PiecewiseConstant() && !d.general {
 		if err := goalFast(dst, u, y, p, rec, rule, line); err != nil {
 			return nil, err

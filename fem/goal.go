@@ -317,7 +317,8 @@ func addGoalLoad(s *Space, p *Problem, b []float64) error {
 // as a Problem: p's diffusion, reaction and boundary tags, homogeneous
 // Dirichlet data on p's Dirichlet tags, no source, no Neumann data, and
 // g's load (Problem.Goal). The bilinear form is symmetric, so its matrix
-// is that of p; any solver of p solves it.
+// is that of p; any solver of p solves it, and System.Dual builds its
+// system from p's without assembling the matrix again.
 func Dual(p *Problem, g Goal) *Problem {
 	d := &Problem{A: p.A, AFunc: p.AFunc, C: p.C, PureNeumann: p.PureNeumann, Goal: g}
 	if len(p.Dirichlet) > 0 {
