@@ -14,8 +14,11 @@ import (
 type goalState struct {
 	goal fem.Goal
 	dual *fem.Problem
-	z    *fem.Function
-	in   *estimate.GoalIndicators
+	// primal is the step's primal system with its preconditioner when the
+	// method's solver is a FEMSolver, else nil.
+	primal *fem.Prepared
+	z      *fem.Function
+	in     *estimate.GoalIndicators
 }
 
 // checkGoal verifies the method's goal settings and the goal on the initial
@@ -46,9 +49,17 @@ func (g *goalState) step(rec *Step, meth Method, sp *fem.Space, u *fem.Function,
 	t := time.Now()
 	var zv []float64
 	var err error
-	if ts, ok := meth.Solver.(TargetSolver); ok {
+	switch ts, ok := meth.Solver.(TargetSolver); {
+	case g.primal != nil:
+		// Fast path: the library's own solver; the dual system shares the
+		// primal matrix and multigrid hierarchy (fem.Prepared.Dual) and is
+		// solved with the settings of FEMSolver.SolveTo, giving the same
+		// values as the general path below.
+		zv, err = g.dualSolve(meth.Solver.(FEMSolver), guess)
+		g.primal = nil
+	case ok:
 		zv, _, err = ts.SolveTo(sp, g.dual, guess, 0)
-	} else {
+	default:
 		zv, _, err = meth.Solver.Solve(sp, g.dual, guess)
 	}
 	rec.SolveTime += time.Since(t)
@@ -83,4 +94,20 @@ func (g *goalState) step(rec *Step, meth Method, sp *fem.Space, u *fem.Function,
 	}
 	rec.ErrorTime += time.Since(t)
 	return "", nil
+}
+
+// dualSolve solves the dual problem on the matrix and preconditioner of
+// the primal system g.primal, from guess.
+func (g *goalState) dualSolve(f FEMSolver, guess []float64) ([]float64, error) {
+	ds, err := g.primal.Dual(g.goal)
+	if err != nil {
+		return nil, err
+	}
+	st := f.Settings
+	st.X0 = guess
+	z, _, err := ds.Solve(st)
+	if err != nil {
+		return nil, err
+	}
+	return z.U, nil
 }

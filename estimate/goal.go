@@ -79,6 +79,8 @@ import (
 //     49 (2011) 2451–2469 (from memory).
 type DualWeighted struct {
 	Goal fem.Goal
+
+	general bool // test hook: the general path for every input
 }
 
 // GoalIndicators holds the goal-oriented estimate per triangle.
@@ -97,7 +99,10 @@ func (g *GoalIndicators) Total() float64 { return sum(g.Rho) }
 // solution z (of the same space) for the problem p, into dst (a nil dst
 // allocates). It is linear in the size of the mesh; the triangles are
 // split over GOMAXPROCS goroutines, each writing its own ρ_T, so the result
-// does not depend on GOMAXPROCS.
+// does not depend on GOMAXPROCS. For piecewise-constant a it takes the fast
+// path goalFast (goal_fast.go: ζ from tables at the rules' points, each
+// edge once); for AFunc the general path, every term at its quadrature
+// points from each side of each edge.
 func (d DualWeighted) Estimate(dst *GoalIndicators, u, z *fem.Function, p *fem.Problem) (*GoalIndicators, error) {
 	if d.Goal == nil {
 		return nil, fmt.Errorf("estimate: DualWeighted: nil goal: %w", ErrArgument)
@@ -148,6 +153,14 @@ func (d DualWeighted) Estimate(dst *GoalIndicators, u, z *fem.Function, p *fem.P
 	line, err := quadrature.ForLine(2*deg + 2)
 	if err != nil {
 		return nil, err
+	}
+	// Fast path for piecewise-constant a; if it does not apply, the
+	// general path.
+	if p.PiecewiseConstant() && !d.general {
+		if err := goalFast(dst, u, y, p, rec, rule, line); err != nil {
+			return nil, err
+		}
+		return dst, nil
 	}
 	w := goalWeights{deg: deg, rec: rec}
 	err = parallel.For(nt, 512, func(lo, hi int) error {

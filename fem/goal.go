@@ -317,7 +317,8 @@ func addGoalLoad(s *Space, p *Problem, b []float64) error {
 // as a Problem: p's diffusion, reaction and boundary tags, homogeneous
 // Dirichlet data on p's Dirichlet tags, no source, no Neumann data, and
 // g's load (Problem.Goal). The bilinear form is symmetric, so its matrix
-// is that of p; any solver of p solves it.
+// is that of p; any solver of p solves it, and System.Dual builds its
+// system from p's without assembling the matrix again.
 func Dual(p *Problem, g Goal) *Problem {
 	d := &Problem{A: p.A, AFunc: p.AFunc, C: p.C, PureNeumann: p.PureNeumann, Goal: g}
 	if len(p.Dirichlet) > 0 {
@@ -327,4 +328,48 @@ func Dual(p *Problem, g Goal) *Problem {
 		}
 	}
 	return d
+}
+
+// Dual returns the system of the dual problem Dual(sys.Problem, g) on
+// sys.Space, as Assemble would build it, without assembling the matrix
+// again: the bilinear form is symmetric and the Dirichlet DOFs are the
+// same, so A is sys.A (shared, not copied), and B is g's load with zeros
+// at the Dirichlet DOFs (the dual's Dirichlet data are homogeneous), shifted
+// to zero mean for a pure Neumann problem. Its cost is that of g.Load.
+func (sys *System) Dual(g Goal) (*System, error) {
+	if g == nil {
+		return nil, fmt.Errorf("fem: Dual: nil goal: %w", ErrArgument)
+	}
+	dp := Dual(sys.Problem, g)
+	b, err := g.Load(nil, sys.Space, dp)
+	if err != nil {
+		return nil, err
+	}
+	if len(b) != sys.Space.NumDOF() {
+		return nil, fmt.Errorf("fem: goal load has %d values for %d DOFs: %w", len(b), sys.Space.NumDOF(), ErrLength)
+	}
+	for _, d := range sys.Dirichlet {
+		b[d] = 0
+	}
+	if dp.pureNeumann() {
+		mean := 0.0
+		for _, v := range b {
+			mean += v
+		}
+		mean /= float64(len(b))
+		for i := range b {
+			b[i] -= mean
+		}
+	}
+	return &System{Space: sys.Space, Problem: dp, A: sys.A, B: b, Dirichlet: sys.Dirichlet}, nil
+}
+
+// Dual returns the prepared system of the dual problem of g (see
+// System.Dual), which shares the matrix and the preconditioner of ps.
+func (ps *Prepared) Dual(g Goal) (*Prepared, error) {
+	d, err := ps.System.Dual(g)
+	if err != nil {
+		return nil, err
+	}
+	return &Prepared{System: d, pre: ps.pre}, nil
 }

@@ -200,3 +200,80 @@ func TestGoalBadInput(t *testing.T) {
 		}
 	}
 }
+
+// TestSystemDual checks that System.Dual gives the system that Assemble
+// builds for the dual problem (the same matrix, the same right-hand side,
+// bit for bit), and that a Prepared dual solves it as System.Solve does:
+// P1 and P2, Dirichlet and Neumann data, a reaction term, a pure Neumann
+// problem, a mean and a flux goal (an arithmetic identity: the same
+// operations in the same order; common practice, no source).
+func TestSystemDual(t *testing.T) {
+	t.Parallel()
+	ex, pL := known.LShape()
+	withC := &fem.Problem{
+		C: 2, F: func(x, y float64) float64 { return 1 + x*y },
+		Dirichlet: map[int32]fem.Func{1: ex.U, 2: nil, 3: nil},
+		Neumann:   map[int32]fem.Func{4: func(x, y float64) float64 { return x }},
+	}
+	neumann := &fem.Problem{PureNeumann: true, Neumann: map[int32]fem.Func{5: func(x, y float64) float64 { return 1 }, 2: func(x, y float64) float64 { return -1 }}}
+	for _, c := range []struct {
+		name string
+		p    *fem.Problem
+		g    fem.Goal
+	}{
+		{"lshape box", pL, fem.BoxMean{X0: 0.5, Y0: 0.5, X1: 1, Y1: 1}},
+		{"lshape flux", pL, fem.Flux{Tag: 5}},
+		{"reaction mean", withC, fem.Mean{W: func(x, y float64) float64 { return 1 + x*x }}},
+		{"pure Neumann box", neumann, fem.BoxMean{X0: -0.5, Y0: -0.5, X1: 0.5, Y1: 0.5}},
+	} {
+		for _, deg := range []int{1, 2} {
+			m := randomlyRefined(t, 4)
+			s, err := fem.NewSpace(m, deg)
+			if err != nil {
+				t.Fatal(err)
+			}
+			sys, err := fem.Assemble(s, c.p)
+			if err != nil {
+				t.Fatal(err)
+			}
+			want, err := fem.Assemble(s, fem.Dual(c.p, c.g))
+			if err != nil {
+				t.Fatal(err)
+			}
+			ps, err := sys.Prepare(fem.Multigrid)
+			if err != nil {
+				t.Fatal(err)
+			}
+			got, err := ps.Dual(c.g)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if got.A != sys.A {
+				t.Errorf("%s P%d: the dual system does not share the matrix", c.name, deg)
+			}
+			for i, v := range want.A.Val {
+				if got.A.Val[i] != v {
+					t.Fatalf("%s P%d: matrix entry %d: %g, assembled %g", c.name, deg, i, got.A.Val[i], v)
+				}
+			}
+			for i, v := range want.B {
+				if got.B[i] != v {
+					t.Fatalf("%s P%d: B[%d] = %g, assembled %g", c.name, deg, i, got.B[i], v)
+				}
+			}
+			zw, _, err := want.Solve(fem.SolveSettings{})
+			if err != nil {
+				t.Fatal(err)
+			}
+			zg, _, err := got.Solve(fem.SolveSettings{})
+			if err != nil {
+				t.Fatal(err)
+			}
+			for i, v := range zw.U {
+				if zg.U[i] != v {
+					t.Fatalf("%s P%d: z[%d] = %g, from the assembled dual %g", c.name, deg, i, zg.U[i], v)
+				}
+			}
+		}
+	}
+}

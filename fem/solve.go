@@ -81,22 +81,32 @@ type SolveStats struct {
 // returns an error wrapping ErrNotConverged, with the stats of the last
 // iterate, when MaxIter iterations pass or the residual stagnates above the
 // rounding floor, and an error naming the breakdown when the matrix or the
-// preconditioner proves not positive definite.
+// preconditioner proves not positive definite. It builds the
+// preconditioner on each call; Prepare builds it once for several solves.
 func (sys *System) Solve(s SolveSettings) (*Function, SolveStats, error) {
-	n := sys.Space.NumDOF()
-	x := make([]float64, n)
-	if s.X0 != nil {
-		if len(s.X0) != n {
-			return nil, SolveStats{}, fmt.Errorf("fem: Solve: initial guess has length %d, want %d: %w", len(s.X0), n, ErrArgument)
-		}
-		copy(x, s.X0)
+	p, err := sys.Prepare(s.Preconditioner)
+	if err != nil {
+		return nil, SolveStats{}, err
 	}
-	for _, d := range sys.Dirichlet {
-		x[d] = sys.B[d]
-	}
+	return p.Solve(s)
+}
+
+// Prepared is a System with its preconditioner built, for several solves
+// with the same matrix: Solve solves A u = B as System.Solve does, and Dual
+// gives the system of a goal's dual problem, which has the same matrix
+// (see Dual), with the same preconditioner. The preconditioner is not safe
+// for concurrent use: neither is a Prepared, nor two that share it.
+type Prepared struct {
+	*System
+	pre sparse.Preconditioner
+}
+
+// Prepare builds the preconditioner of the given kind for sys.A (the
+// multigrid hierarchy, whose setup costs about as much as a solve).
+func (sys *System) Prepare(kind Preconditioner) (*Prepared, error) {
 	var pre sparse.Preconditioner
 	var err error
-	switch s.Preconditioner {
+	switch kind {
 	case Multigrid:
 		var st amg.Settings
 		if sys.Space.Degree == 2 {
@@ -110,12 +120,30 @@ func (sys *System) Solve(s SolveSettings) (*Function, SolveStats, error) {
 	case Diagonal:
 		pre, err = sparse.NewJacobi(sys.A.csr())
 	default:
-		err = fmt.Errorf("preconditioner %d: %w", s.Preconditioner, ErrArgument)
+		err = fmt.Errorf("preconditioner %d: %w", kind, ErrArgument)
 	}
 	if err != nil {
-		return nil, SolveStats{}, fmt.Errorf("fem: Solve: %w", err)
+		return nil, fmt.Errorf("fem: Solve: %w", err)
 	}
-	res, err := sparse.CG(sys.A.csr(), sys.B, x, pre, sparse.CGSettings{Tol: s.Tol, MaxIter: s.MaxIter, EnergyTol: s.EnergyTol})
+	return &Prepared{System: sys, pre: pre}, nil
+}
+
+// Solve solves A u = B as System.Solve does, with the kept preconditioner
+// (s.Preconditioner is not read).
+func (ps *Prepared) Solve(s SolveSettings) (*Function, SolveStats, error) {
+	sys := ps.System
+	n := sys.Space.NumDOF()
+	x := make([]float64, n)
+	if s.X0 != nil {
+		if len(s.X0) != n {
+			return nil, SolveStats{}, fmt.Errorf("fem: Solve: initial guess has length %d, want %d: %w", len(s.X0), n, ErrArgument)
+		}
+		copy(x, s.X0)
+	}
+	for _, d := range sys.Dirichlet {
+		x[d] = sys.B[d]
+	}
+	res, err := sparse.CG(sys.A.csr(), sys.B, x, ps.pre, sparse.CGSettings{Tol: s.Tol, MaxIter: s.MaxIter, EnergyTol: s.EnergyTol})
 	stats := SolveStats{Iterations: res.Iterations, Residual: res.Residual, EnergyError: res.EnergyError, AtFloor: res.AtFloor, Floor: res.Floor}
 	if err != nil {
 		return nil, stats, fmt.Errorf("fem: Solve: %w", err)
