@@ -405,7 +405,7 @@ func (eq *equilibration) triangleData() error {
 			for q := range nq {
 				l := [3]float64{rule.Bary[3*q], rule.Bary[3*q+1], rule.Bary[3*q+2]}
 				x, y := ev.Point(l)
-				f := p.Source(x, y)
+				f := p.Source(x, y, ev.Region())
 				if math.IsNaN(f) || math.IsInf(f, 0) {
 					return fmt.Errorf("estimate: Equilibrated: triangle %d at (%g, %g): source f = %g: %w", t, x, y, f, ErrNotFinite)
 				}

@@ -308,13 +308,13 @@ func (pr *projection) elements(dst *Indicators) error {
 			}
 			lapack64.Potrs(blas64.Triangular{Uplo: blas.Upper, Diag: blas.NonUnit, N: nl, Stride: nl, Data: fac[:nl*nl]},
 				blas64.General{Rows: nl, Cols: 1, Stride: 1, Data: loc[nl*nl:]})
-			if p.F == nil {
+			if !p.HasSource() {
 				zero(dst.Osc2, t)
 				continue
 			}
 			for q := range orule.Len() {
 				x, y := ev.Point([3]float64{orule.Bary[3*q], orule.Bary[3*q+1], orule.Bary[3*q+2]})
-				fq[q] = p.Source(x, y)
+				fq[q] = p.Source(x, y, ev.Region())
 				if math.IsNaN(fq[q]) || math.IsInf(fq[q], 0) {
 					return fmt.Errorf("estimate: FluxRecovery: triangle %d at (%g, %g): source f = %g: %w", t, x, y, fq[q], ErrNotFinite)
 				}
@@ -338,7 +338,7 @@ func (pr *projection) elements(dst *Indicators) error {
 func (pr *projection) elementsP1(dst *Indicators) error {
 	m, p := pr.m, pr.p
 	var orule *quadrature.Triangle
-	if p.F != nil {
+	if p.HasSource() {
 		var err error
 		if orule, err = quadrature.ForTriangle(4); err != nil {
 			return err
@@ -385,7 +385,7 @@ func (pr *projection) elementsP1(dst *Indicators) error {
 			for q := range orule.Len() {
 				l0, l1, l2 := orule.Bary[3*q], orule.Bary[3*q+1], orule.Bary[3*q+2]
 				px, py := l0*xs[0]+l1*xs[1]+l2*xs[2], l0*ys[0]+l1*ys[1]+l2*ys[2]
-				fq[q] = p.F(px, py)
+				fq[q] = p.Source(px, py, m.Region[t])
 				if math.IsNaN(fq[q]) || math.IsInf(fq[q], 0) {
 					return fmt.Errorf("estimate: FluxRecovery: triangle %d at (%g, %g): source f = %g: %w", t, px, py, fq[q], ErrNotFinite)
 				}

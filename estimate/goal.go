@@ -226,7 +226,7 @@ func goalElement(m *mesh.Mesh, ev, nb, yev *fem.Evaluator, p *fem.Problem, rule 
 	for q := range rule.Len() {
 		l := [3]float64{rule.Bary[3*q], rule.Bary[3*q+1], rule.Bary[3*q+2]}
 		x, y := ev.Point(l)
-		f := p.Source(x, y)
+		f := p.Source(x, y, region)
 		if math.IsNaN(f) || math.IsInf(f, 0) {
 			return 0, 0, fmt.Errorf("estimate: DualWeighted: triangle %d at (%g, %g): source f = %g: %w", k, x, y, f, ErrNotFinite)
 		}

@@ -121,7 +121,7 @@ func elementPass(dst *Indicators, u *fem.Function, p *fem.Problem, rule *quadrat
 	m := u.Space.Mesh
 	// For P1 with piecewise-constant a and no f and c, the element residual
 	// and the oscillation vanish.
-	zero := u.Space.Degree == 1 && p.F == nil && p.C == 0 && p.PiecewiseConstant()
+	zero := u.Space.Degree == 1 && !p.HasSource() && p.C == 0 && p.PiecewiseConstant()
 	return parallel.For(m.NumTriangles(), 512, func(lo, hi int) error {
 		ev := fem.NewEvaluator(u)
 		for k := lo; k < hi; k++ {
@@ -201,7 +201,7 @@ func elementResidual(ev *fem.Evaluator, p *fem.Problem, rule *quadrature.Triangl
 	for q := range rule.Len() {
 		l := [3]float64{rule.Bary[3*q], rule.Bary[3*q+1], rule.Bary[3*q+2]}
 		x, y := ev.Point(l)
-		f := p.Source(x, y)
+		f := p.Source(x, y, region)
 		if math.IsNaN(f) || math.IsInf(f, 0) {
 			return 0, 0, fmt.Errorf("estimate: triangle %d at (%g, %g): source f = %g: %w", k, x, y, f, ErrNotFinite)
 		}

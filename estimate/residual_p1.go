@@ -30,7 +30,7 @@ func residualP1(dst *Indicators, u *fem.Function, p *fem.Problem) error {
 	m := u.Space.Mesh
 	nt, ne := m.NumTriangles(), m.NumEdges()
 	var rule *quadrature.Triangle
-	if p.F != nil {
+	if p.HasSource() {
 		var err error
 		if rule, err = quadrature.ForTriangle(4); err != nil {
 			return err
@@ -65,7 +65,7 @@ func residualP1(dst *Indicators, u *fem.Function, p *fem.Problem) error {
 				zero(dst.Osc2, k) // Eta2 is written by pass 3
 				continue
 			}
-			res2, osc2, err := elementP1(p, rule, k, x, t, d, w, uu)
+			res2, osc2, err := elementP1(p, rule, k, region[k], x, t, d, w, uu)
 			if err != nil {
 				return err
 			}
@@ -131,10 +131,10 @@ func residualP1(dst *Indicators, u *fem.Function, p *fem.Problem) error {
 }
 
 // elementP1 returns h_T²/a_T ‖f − c u_h‖²_T and h_T² ‖f − Π_0 f‖²_T for
-// triangle k with vertices t (d twice its area, w = a_T): with the degree-4
+// triangle k of the given region with vertices t (d twice its area, w = a_T): with the degree-4
 // rule where f is given (rule not nil), else in closed form from
 // ∫_T u_h² = |T|/12 (Σ u_i² + (Σ u_i)²).
-func elementP1(p *fem.Problem, rule *quadrature.Triangle, k int, x []float64, t []int32, d, w float64, uu []float64) (res2, osc2 float64, err error) {
+func elementP1(p *fem.Problem, rule *quadrature.Triangle, k int, region int32, x []float64, t []int32, d, w float64, uu []float64) (res2, osc2 float64, err error) {
 	xs, ys := corners(x, t)
 	area := 0.5 * d
 	h := diameter(&xs, &ys)
@@ -148,7 +148,7 @@ func elementP1(p *fem.Problem, rule *quadrature.Triangle, k int, x []float64, t 
 	for q := range rule.Len() {
 		l0, l1, l2 := rule.Bary[3*q], rule.Bary[3*q+1], rule.Bary[3*q+2]
 		px, py := l0*xs[0]+l1*xs[1]+l2*xs[2], l0*ys[0]+l1*ys[1]+l2*ys[2]
-		f := p.F(px, py)
+		f := p.Source(px, py, region)
 		if math.IsNaN(f) || math.IsInf(f, 0) {
 			return 0, 0, fmt.Errorf("estimate: triangle %d at (%g, %g): source f = %g: %w", k, px, py, f, ErrNotFinite)
 		}
