@@ -53,7 +53,9 @@ import (
 // −Π_k g_N, the L² projection of the data onto P_k of the edge, as in the
 // space of Cai and Zhang 2009 (from memory): the recovered flux then
 // satisfies the boundary condition of the exact flux, and η sees where u_h
-// does not. On the Dirichlet edges σ·n is free.
+// does not. On the Robin edges it is fixed likewise to −Π_k(g_R − α u_h),
+// the flux that the Robin condition gives for u_h. On the Dirichlet edges
+// σ·n is free.
 //
 // Solver: the projection is a weighted mass matrix system in RT_k (one
 // unknown per edge for P1, two per edge and two per triangle for P2),
@@ -397,9 +399,9 @@ func (pr *projection) elementsP1(dst *Indicators) error {
 	})
 }
 
-// neumann sets the fixed normal moments of the Neumann edges into x:
-// −s ∫_E g_N L_j ds, with s = ±1 the orientation of n_E against the outward
-// normal.
+// neumann sets the fixed normal moments of the Neumann and Robin edges into
+// x: −s ∫_E g L_j ds, with g the prescribed flux (g_N, or g_R − α u_h) and
+// s = ±1 the orientation of n_E against the outward normal.
 func (pr *projection) neumann() error {
 	m, k := pr.m, pr.k
 	line, err := quadrature.ForLine(2*k + 4)
@@ -412,8 +414,8 @@ func (pr *projection) neumann() error {
 		}
 		xe := pr.x[e*(k+1) : (e+1)*(k+1)]
 		clear(xe)
-		gn := pr.p.Neumann[m.EdgeTag[e]]
-		if gn == nil {
+		tag := m.EdgeTag[e]
+		if !pr.p.HasBoundaryData(tag) {
 			continue
 		}
 		t := int(m.EdgeTri[2*e])
@@ -423,9 +425,9 @@ func (pr *projection) neumann() error {
 		le := math.Hypot(bx-ax, by-ay)
 		for g, tq := range line.X {
 			x, y := ax+tq*(bx-ax), ay+tq*(by-ay)
-			v := gn(x, y)
-			if math.IsNaN(v) || math.IsInf(v, 0) {
-				return fmt.Errorf("estimate: FluxRecovery: boundary tag %d at (%g, %g): Neumann data %g: %w", m.EdgeTag[e], x, y, v, ErrNotFinite)
+			v, _, err := pr.p.BoundaryFlux(tag, x, y, pr.u.EdgeValue(e, tq))
+			if err != nil {
+				return fmt.Errorf("estimate: FluxRecovery: %w", err)
 			}
 			for j := range k + 1 {
 				xe[j] -= s * line.W[g] * le * v * quadrature.Legendre01(j, tq)

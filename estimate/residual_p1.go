@@ -7,7 +7,6 @@ import (
 	"github.com/posteriori-fem/posteriori/fem"
 	"github.com/posteriori-fem/posteriori/internal/parallel"
 	"github.com/posteriori-fem/posteriori/internal/quadrature"
-	"github.com/posteriori-fem/posteriori/mesh"
 )
 
 // residualP1 is Residual.Estimate for P1 and piecewise-constant diffusion,
@@ -97,7 +96,7 @@ func residualP1(dst *Indicators, u *fem.Function, p *fem.Problem) error {
 					j := fx*ty - fy*tx
 					jump[e] = j * j / w
 				case edgeNeumann:
-					v, err := neumannP1(m, p, line, e, k1, fx, fy, w)
+					v, err := neumannP1(u, p, line, e, k1, fx, fy, w)
 					if err != nil {
 						return err
 					}
@@ -163,12 +162,13 @@ func elementP1(p *fem.Problem, rule *quadrature.Triangle, k int, region int32, x
 	return res2, oscP0(rule, fq[:rule.Len()]) * area * h * h, nil
 }
 
-// neumannP1 returns h_E ‖g_N − a∇u_h·n‖²_E / a_T for the Neumann boundary
-// edge e of triangle k, with a∇u_h = (fx, fy) on k and w = a_T, by the
+// neumannP1 returns h_E ‖g − a∇u_h·n‖²_E / a_T for the Neumann or Robin
+// boundary edge e of triangle k, g the prescribed flux (g_N, or
+// g_R − α u_h), with a∇u_h = (fx, fy) on k and w = a_T, by the
 // Gauss–Legendre rule line.
-func neumannP1(m *mesh.Mesh, p *fem.Problem, line *quadrature.Line, e, k int, fx, fy, w float64) (float64, error) {
+func neumannP1(u *fem.Function, p *fem.Problem, line *quadrature.Line, e, k int, fx, fy, w float64) (float64, error) {
+	m := u.Space.Mesh
 	tag := m.EdgeTag[e]
-	gn := p.Neumann[tag]
 	i := localEdge(m, k, e)
 	a, b := m.Tri[3*k+(i+1)%3], m.Tri[3*k+(i+2)%3] // counter-clockwise around k
 	tx, ty := m.X[2*b]-m.X[2*a], m.X[2*b+1]-m.X[2*a+1]
@@ -179,9 +179,9 @@ func neumannP1(m *mesh.Mesh, p *fem.Problem, line *quadrature.Line, e, k int, fx
 	sum := 0.0
 	for q, s := range line.X {
 		px, py := ax+s*(bx-ax), ay+s*(by-ay)
-		g := gn(px, py)
-		if math.IsNaN(g) || math.IsInf(g, 0) {
-			return 0, fmt.Errorf("estimate: boundary tag %d at (%g, %g): Neumann data %g: %w", tag, px, py, g, ErrNotFinite)
+		g, _, err := p.BoundaryFlux(tag, px, py, u.EdgeValue(e, s))
+		if err != nil {
+			return 0, fmt.Errorf("estimate: %w", err)
 		}
 		j := g - fn
 		sum += line.W[q] * j * j

@@ -191,7 +191,7 @@ func TestRobinEnergyErrorBoundaryTerm(t *testing.T) {
 	}
 }
 
-// A source per region: −u” = 1 for x < 0 (regions 2 and 3 of Quadrants),
+// A source per region: −u_xx = 1 for x < 0 (regions 2 and 3 of Quadrants),
 // 0 for x > 0, u(±1) = 0, natural condition on the top and bottom. Closed
 // form (derived here): u = −x²/2 − x/4 + 1/4 for x ≤ 0, u = (1 − x)/4 for
 // x ≥ 0, continuous with continuous flux at x = 0. It is piecewise quadratic
