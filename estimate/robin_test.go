@@ -3,6 +3,7 @@ package estimate
 import (
 	"errors"
 	"math"
+	"math/rand/v2"
 	"testing"
 
 	"github.com/posteriori-fem/posteriori/fem"
@@ -209,6 +210,57 @@ func TestRobinEstimatorErrors(t *testing.T) {
 		}
 		if !errors.Is(err, ErrNotFinite) {
 			t.Errorf("%T: %v, want ErrNotFinite", est, err)
+		}
+	}
+}
+
+// The P2 fast path of Residual gives the indicators of the general path on
+// Robin edges too (to rounding, 1e-12 relative as TestFastPathsMatchGeneral).
+func TestRobinResidualP2MatchesGeneral(t *testing.T) {
+	t.Parallel()
+	_, p := sinExp(map[int32]float64{mesh.SideRight: 3, mesh.SideTop: 0.5}, mesh.SideLeft)
+	p.Robin[mesh.SideBottom] = fem.RobinData{AlphaFunc: func(x, y float64) float64 { return 2 + x }}
+	m, _ := mesh.Rectangle(0, 0, 1, 1, 6, 5)
+	r := rand.New(rand.NewPCG(7, 1))
+	u := noisy(t, jiggled(t, m, 1.0/6, r), 2, r)
+	if err := agree(estimateTotal(t, Residual{}, u, p), general(t, Residual{}, u, p), 1e-12); err != nil {
+		t.Error(err)
+	}
+}
+
+// The dual weighted residual with Robin edges: the dual problem carries α
+// (fem.Dual) and the residual the Robin term, so the goal effectivity on
+// uniform meshes of a smooth problem lies in the band of
+// TestDualWeightedUniform, [0.8, 1.25] (asymptotic exactness: Becker and
+// Rannacher 2001, §3; band common practice), for a box mean and for the
+// mean over the domain.
+func TestRobinDualWeighted(t *testing.T) {
+	t.Parallel()
+	ex, p := sinExp(map[int32]float64{mesh.SideRight: 3, mesh.SideTop: 0.5}, mesh.SideLeft, mesh.SideBottom)
+	goals := []fem.ExactGoal{fem.BoxMean{X0: 0.3, Y0: 0.1, X1: 0.8, Y1: 0.45}, fem.Mean{}}
+	for _, g := range goals {
+		for _, deg := range []int{1, 2} {
+			m, _ := mesh.Rectangle(0, 0, 1, 1, 16, 16)
+			s, _ := fem.NewSpace(m, deg)
+			u := solveTol(t, m, deg, p, 1e-13)
+			z := solveTol(t, m, deg, fem.Dual(p, g), 1e-13)
+			gi, err := DualWeighted{Goal: g}.Estimate(nil, u, z, p)
+			if err != nil {
+				t.Fatal(err)
+			}
+			ju, err := g.ExactValue(s, ex, p)
+			if err != nil {
+				t.Fatal(err)
+			}
+			jh, err := g.Value(u, p)
+			if err != nil {
+				t.Fatal(err)
+			}
+			eff := gi.Total() / (ju - jh)
+			t.Logf("%T P%d: J(u) − J(u_h) = %.4g, estimate %.4g, effectivity %.3f", g, deg, ju-jh, gi.Total(), eff)
+			if !(eff >= 0.8 && eff <= 1.25) {
+				t.Errorf("%T P%d: goal effectivity %.3f outside [0.8, 1.25]", g, deg, eff)
+			}
 		}
 	}
 }
