@@ -442,20 +442,19 @@ func (eq *equilibration) triangleData() error {
 
 // neumannEdge returns the prescribed flux of edge e as a function of the
 // parameter t from A = Edge[2e] to B = Edge[2e+1] (g_N on a Neumann edge,
-// g_R − α u_h on a Robin edge: fem.Problem.BoundaryFlux), its ends A and B
-// and its length, or a nil function if e is not a Neumann edge with data or
-// a Robin edge.
-func (eq *equilibration) neumannEdge(e int) (gn func(t float64) (float64, error), ax, ay, bx, by, le float64) {
+// g_R − α u_h on a Robin edge: fem.Problem.BoundaryFlux) and its length,
+// or a nil function if e is not a Neumann edge with data or a Robin edge.
+func (eq *equilibration) neumannEdge(e int) (gn func(t float64) (float64, error), le float64) {
 	m := eq.m
 	if !m.IsBoundary(e) || eq.dirE[e] {
-		return nil, 0, 0, 0, 0, 0
+		return nil, 0
 	}
 	tag := m.EdgeTag[e]
 	if !eq.p.HasBoundaryData(tag) {
-		return nil, 0, 0, 0, 0, 0
+		return nil, 0
 	}
-	ax, ay = m.Vertex(int(m.Edge[2*e]))
-	bx, by = m.Vertex(int(m.Edge[2*e+1]))
+	ax, ay := m.Vertex(int(m.Edge[2*e]))
+	bx, by := m.Vertex(int(m.Edge[2*e+1]))
 	gn = func(t float64) (float64, error) {
 		x, y := ax+t*(bx-ax), ay+t*(by-ay)
 		v, _, err := eq.p.BoundaryFlux(tag, x, y, eq.u.EdgeValue(e, t))
@@ -464,7 +463,7 @@ func (eq *equilibration) neumannEdge(e int) (gn func(t float64) (float64, error)
 		}
 		return v, nil
 	}
-	return gn, ax, ay, bx, by, math.Hypot(bx-ax, by-ay)
+	return gn, math.Hypot(bx-ax, by-ay)
 }
 
 // neumannData integrates ∫_E ψ g_N L_j ds for the two end vertices of each
@@ -474,7 +473,7 @@ func (eq *equilibration) neumannData() error {
 	eq.neu = eq.take(2 * (k + 1) * m.NumEdges())
 	clear(eq.neu)
 	for e := range m.NumEdges() {
-		gn, _, _, _, _, le := eq.neumannEdge(e)
+		gn, le := eq.neumannEdge(e)
 		if gn == nil {
 			continue
 		}

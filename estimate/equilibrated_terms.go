@@ -268,7 +268,7 @@ func (tw *termWork) neumann(t int, h, at, area float64) (float64, error) {
 	sum := 0.0
 	for i := range 3 {
 		e := int(m.TriEdge[3*t+i])
-		gn, _, _, _, _, le := eq.neumannEdge(e)
+		gn, le := eq.neumannEdge(e)
 		if gn == nil {
 			continue
 		}
