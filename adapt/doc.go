@@ -3,14 +3,16 @@
 // or their own.
 //
 // Run takes a Problem (initial mesh, degree, data, optional exact
-// solution), Settings (stop rules: a tolerance on the estimate, a DOF
-// budget, a step limit, and cancellation by context; an observer OnStep)
+// solution), Settings (stop rules: a tolerance on the estimate, absolute or
+// relative to the energy norm of u_h, a DOF budget, a step limit, and
+// cancellation by context; observers OnStep, of the step's record, and
+// OnStepData, of the record with the step's mesh, solution and indicators)
 // and a Method (a Solver, an estimate.Estimator and a Marker, each
 // replaceable). Each step
 //
 //	solve on the current mesh, starting from the previous solution carried to it
 //	  (by default until the algebraic error is a tenth of the previous estimate),
-//	estimate η_T² per triangle,
+//	estimate η_T² per triangle, and the energy norm |||u_h|||,
 //	measure the true error (when an exact solution is given),
 //	record the step,
 //	mark with the Marker and refine by newest-vertex bisection (mesh.Refine).

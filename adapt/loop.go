@@ -22,12 +22,19 @@ type Problem struct {
 	Exact  *fem.Exact   // exact solution, or nil
 }
 
-// Settings are the stop rules and the observer of the loop. A zero limit
-// means "no limit"; at least one of Tol, MaxDOFs and MaxSteps must be set.
-// Cancelling the context also stops the loop.
+// Settings are the stop rules and the observers of the loop. A zero limit
+// means "no limit"; at least one of Tol, RelTol, MaxDOFs and MaxSteps must
+// be set. Cancelling the context also stops the loop.
 type Settings struct {
 	// Tol stops the loop at the first step whose total estimate η ≤ Tol.
 	Tol float64
+	// RelTol stops the loop at the first step whose estimate is at most
+	// RelTol times the energy norm of the solution, η ≤ RelTol |||u_h|||
+	// (Step.EnergyNorm: fem.Function.EnergyNorm, the norm in which the
+	// estimators measure the error). It must lie in [0, 1); zero means no
+	// relative tolerance. With Tol also set, the first of the two rules
+	// met stops the loop.
+	RelTol float64
 	// MaxDOFs is the DOF budget: the loop never solves on a mesh with more
 	// DOFs; it stops when the next refined mesh would exceed it.
 	MaxDOFs int
@@ -36,6 +43,13 @@ type Settings struct {
 	// OnStep, if not nil, sees each step's record as the step ends. It must
 	// not keep or modify the Step; an error it returns stops the loop.
 	OnStep func(Step) error
+	// OnStepData, if not nil, sees each step's record with its mesh,
+	// solution and indicators (StepData), after OnStep. The data belong to
+	// the loop and are read-only: OnStepData must not modify them, nor keep
+	// them past the call unless it copies them (the indicators' arrays are
+	// reused by the next step; the mesh and the solution are dropped). An
+	// error it returns stops the loop, as OnStep's does.
+	OnStepData func(StepData) error
 	// AlgebraicFraction is the nested-iteration rule for a TargetSolver
 	// (such as the default FEMSolver): each solve after the first, warm
 	// started from the previous solution, stops once the solver's estimate
@@ -55,6 +69,20 @@ type Settings struct {
 	// the floor: about u κ(A) in relative residual, u = 2⁻⁵³), whichever
 	// it reaches first; Step.AtFloor records the floor.
 	AlgebraicFraction float64
+}
+
+// StepData is what Settings.OnStepData sees of a step: its record, and the
+// step's mesh, solution u_h and indicators (and, for a goal-oriented loop,
+// the dual solution and the goal indicators; nil otherwise). Mesh, Solution
+// and Indicators are those that Result holds when the loop stops after the
+// step. All are read-only (see Settings.OnStepData).
+type StepData struct {
+	Step       Step
+	Mesh       *mesh.Mesh
+	Solution   *fem.Function
+	Indicators *estimate.Indicators
+	Dual       *fem.Function
+	Goal       *estimate.GoalIndicators
 }
 
 // DefaultAlgebraicFraction is the nested-iteration fraction that
@@ -169,7 +197,7 @@ type Status int
 
 const (
 	Running         Status = iota // not stopped (only in an error's result)
-	Converged                     // the estimate met Settings.Tol
+	Converged                     // the estimate met Settings.Tol or Settings.RelTol
 	DOFLimit                      // the next mesh would exceed Settings.MaxDOFs
 	StepLimit                     // Settings.MaxSteps steps were solved
 	NothingToRefine               // the marker marked no triangle
@@ -244,8 +272,10 @@ func (e *StepError) Unwrap() error { return e.Err }
 
 // Run drives the solve–estimate–mark–refine loop from p.Mesh until a stop
 // rule holds. Each step solves (from the previous solution carried to the
-// new mesh), estimates, measures the true error if p.Exact is set, records
-// the step, then marks and refines. On an error it returns the result so
+// new mesh), estimates, computes the energy norm of u_h
+// (fem.Function.EnergyNorm: one pass over the triangles, counted in
+// Step.EstimateTime), measures the true error if p.Exact is set, records the step (OnStep,
+// then OnStepData), then marks and refines. On an error it returns the result so
 // far (completed steps, last good mesh and solution) with a *StepError;
 // after cancellation the error wraps ctx.Err(). A nil ctx is an error
 // wrapping ErrArgument; bad settings wrap ErrSettings; a caller's method
@@ -344,6 +374,11 @@ func Run(ctx context.Context, p Problem, s Settings, meth Method) (*Result, erro
 		if math.IsNaN(rec.Algebraic) || rec.Algebraic < 0 || rec.Algebraic > rec.Estimate {
 			return fail(StageEstimate, fmt.Errorf("%w: estimator returned an algebraic part %g outside [0, η = %g]", ErrMethod, rec.Algebraic, rec.Estimate))
 		}
+		t = time.Now()
+		if rec.EnergyNorm, err = u.EnergyNorm(p.Data); err != nil {
+			return fail(StageEstimate, err)
+		}
+		rec.EstimateTime += time.Since(t)
 		if p.Exact != nil {
 			t = time.Now()
 			var e float64
@@ -366,6 +401,8 @@ func Run(ctx context.Context, p Problem, s Settings, meth Method) (*Result, erro
 		status := Running
 		switch {
 		case s.Tol > 0 && rec.Estimate <= s.Tol:
+			status = Converged
+		case s.RelTol > 0 && rec.Estimate <= s.RelTol*rec.EnergyNorm:
 			status = Converged
 		case s.MaxSteps > 0 && step+1 >= s.MaxSteps:
 			status = StepLimit
@@ -418,6 +455,15 @@ func Run(ctx context.Context, p Problem, s Settings, meth Method) (*Result, erro
 				return fail(StageRecord, err)
 			}
 		}
+		if s.OnStepData != nil {
+			sd := StepData{Step: rec, Mesh: m, Solution: u, Indicators: in}
+			if gs != nil {
+				sd.Dual, sd.Goal = gs.z, gs.in
+			}
+			if err := s.OnStepData(sd); err != nil {
+				return fail(StageRecord, err)
+			}
+		}
 		if status != Running {
 			res.Status = status
 			return res, nil
@@ -455,12 +501,14 @@ func check(p Problem, s Settings) error {
 		return fmt.Errorf("adapt: Run: %w: Degree = %d, want 1 or 2", ErrSettings, p.Degree)
 	case s.Tol < 0 || s.Tol != s.Tol:
 		return fmt.Errorf("adapt: Run: %w: Tol = %g, want ≥ 0", ErrSettings, s.Tol)
+	case !(s.RelTol >= 0 && s.RelTol < 1):
+		return fmt.Errorf("adapt: Run: %w: RelTol = %g, want 0 ≤ RelTol < 1", ErrSettings, s.RelTol)
 	case math.IsNaN(s.AlgebraicFraction) || math.IsInf(s.AlgebraicFraction, 0):
 		return fmt.Errorf("adapt: Run: %w: AlgebraicFraction = %g, want a finite value (0: default, negative: off)", ErrSettings, s.AlgebraicFraction)
 	case s.MaxDOFs < 0 || s.MaxSteps < 0:
 		return fmt.Errorf("adapt: Run: %w: MaxDOFs = %d, MaxSteps = %d, want ≥ 0", ErrSettings, s.MaxDOFs, s.MaxSteps)
-	case s.Tol == 0 && s.MaxDOFs == 0 && s.MaxSteps == 0:
-		return fmt.Errorf("adapt: Run: %w: no stop rule: set Tol, MaxDOFs or MaxSteps", ErrSettings)
+	case s.Tol == 0 && s.RelTol == 0 && s.MaxDOFs == 0 && s.MaxSteps == 0:
+		return fmt.Errorf("adapt: Run: %w: no stop rule: set Tol, RelTol, MaxDOFs or MaxSteps", ErrSettings)
 	case s.MaxDOFs > 0 && dofs(p.Mesh, p.Degree) > s.MaxDOFs:
 		return fmt.Errorf("adapt: Run: %w: the initial mesh has %d DOFs, more than MaxDOFs = %d", ErrSettings, dofs(p.Mesh, p.Degree), s.MaxDOFs)
 	}

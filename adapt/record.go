@@ -38,6 +38,10 @@ type Step struct {
 	GoalError       float64 // J(u) − J(u_h), signed
 	GoalEffectivity float64 // GoalEstimate / GoalError
 
+	// EnergyNorm is |||u_h|||, the energy norm of the step's solution
+	// (fem.Function.EnergyNorm), against which Settings.RelTol sets η.
+	EnergyNorm float64
+
 	SolveTime, EstimateTime, ErrorTime, MarkTime, RefineTime time.Duration
 }
 
@@ -46,11 +50,12 @@ type Step struct {
 // they were not measured; at_floor is true or false. The goal fields are
 // goal (Goal) and goal_estimate (GoalEstimate), empty without a goal, and
 // goal_error (GoalError), empty when it was not measured; HasGoal,
-// HasGoalError and GoalEffectivity follow from them when read.
+// HasGoalError and GoalEffectivity follow from them when read. The last,
+// energy_norm, is EnergyNorm.
 var CSVHeader = []string{
 	"step", "triangles", "dofs", "free_dofs", "estimate", "oscillation", "error", "effectivity",
 	"marked", "iterations", "solve_s", "estimate_s", "error_s", "mark_s", "refine_s", "at_floor",
-	"algebraic", "goal", "goal_estimate", "goal_error",
+	"algebraic", "goal", "goal_estimate", "goal_error", "energy_norm",
 }
 
 // csvFirstColumns is the number of columns of the first version of the
@@ -76,7 +81,7 @@ func WriteCSV(w io.Writer, steps []Step) error {
 			strconv.Itoa(s.Step), strconv.Itoa(s.Triangles), strconv.Itoa(s.DOFs), strconv.Itoa(s.FreeDOFs),
 			f(s.Estimate), f(s.Oscillation), e, eff, strconv.Itoa(s.Marked), strconv.Itoa(s.Iterations),
 			sec(s.SolveTime), sec(s.EstimateTime), sec(s.ErrorTime), sec(s.MarkTime), sec(s.RefineTime),
-			strconv.FormatBool(s.AtFloor), f(s.Algebraic), "", "", "",
+			strconv.FormatBool(s.AtFloor), f(s.Algebraic), "", "", "", f(s.EnergyNorm),
 		}
 		if s.HasGoal {
 			row[17], row[18] = f(s.Goal), f(s.GoalEstimate)
@@ -194,6 +199,9 @@ func ReadCSV(r io.Reader) ([]Step, error) {
 		s.HasGoal = okG || okE
 		if s.GoalError, s.HasGoalError = optional(); s.HasGoalError && s.GoalError != 0 {
 			s.GoalEffectivity = s.GoalEstimate / s.GoalError
+		}
+		if col < len(row) {
+			s.EnergyNorm = floatAt()
 		}
 		if bad != nil {
 			return nil, bad

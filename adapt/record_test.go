@@ -21,7 +21,8 @@ func TestCSVRoundTrip(t *testing.T) {
 			Error: 0.05, Effectivity: 2.469135780246, Marked: 3, Iterations: 7, SolveTime: 1500 * time.Microsecond},
 		{Step: 1, Triangles: 30, DOFs: 25, FreeDOFs: 9, Estimate: 1e-300, Oscillation: 3.5e-7, Marked: 0, Iterations: 0,
 			EstimateTime: time.Second, ErrorTime: 0, MarkTime: 3 * time.Nanosecond, RefineTime: time.Hour},
-		{Step: 2, Triangles: 44, DOFs: 31, FreeDOFs: 15, Estimate: 0.01, Iterations: 27, AtFloor: true, Algebraic: 1.25e-3},
+		{Step: 2, Triangles: 44, DOFs: 31, FreeDOFs: 15, Estimate: 0.01, Iterations: 27, AtFloor: true, Algebraic: 1.25e-3,
+			EnergyNorm: 2.718281828459045},
 	}
 	var b bytes.Buffer
 	if err := WriteCSV(&b, steps); err != nil {
@@ -78,6 +79,25 @@ func TestCSVEarlierVersion(t *testing.T) {
 		Marked: 3, Iterations: 7, SolveTime: 1500 * time.Microsecond, AtFloor: true}
 	if len(got) != 1 || got[0] != want {
 		t.Fatalf("got %+v, want %+v", got, want)
+	}
+}
+
+// A file of the version before energy_norm (up to goal_error) reads with
+// EnergyNorm zero.
+func TestCSVBeforeEnergyNorm(t *testing.T) {
+	t.Parallel()
+	old := strings.Join(CSVHeader[:20], ",") + "\n0,24,21,5,0.5,0,,,3,7,0,0,0,0,0,false,0,1.5,0.25,\n"
+	got, err := ReadCSV(strings.NewReader(old))
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := Step{Triangles: 24, DOFs: 21, FreeDOFs: 5, Estimate: 0.5, Marked: 3, Iterations: 7,
+		HasGoal: true, Goal: 1.5, GoalEstimate: 0.25}
+	if len(got) != 1 || got[0] != want {
+		t.Fatalf("got %+v, want %+v", got, want)
+	}
+	if CSVHeader[len(CSVHeader)-1] != "energy_norm" {
+		t.Errorf("last column %q, want energy_norm", CSVHeader[len(CSVHeader)-1])
 	}
 }
 

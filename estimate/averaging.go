@@ -72,7 +72,7 @@ func averagingP1(dst *Indicators, u *fem.Function, p *fem.Problem) error {
 	m := u.Space.Mesh
 	nt, nv := m.NumTriangles(), m.NumVertices()
 	var orule *quadrature.Triangle
-	if p.F != nil {
+	if p.HasSource() {
 		var err error
 		if orule, err = quadrature.ForTriangle(4); err != nil {
 			return err
@@ -163,7 +163,7 @@ func averagingP1(dst *Indicators, u *fem.Function, p *fem.Problem) error {
 			for q := range orule.Len() {
 				l0, l1, l2 := orule.Bary[3*q], orule.Bary[3*q+1], orule.Bary[3*q+2]
 				px, py := l0*xs[0]+l1*xs[1]+l2*xs[2], l0*ys[0]+l1*ys[1]+l2*ys[2]
-				fq[q] = p.F(px, py)
+				fq[q] = p.Source(px, py, m.Region[k])
 				if math.IsNaN(fq[q]) || math.IsInf(fq[q], 0) {
 					return fmt.Errorf("estimate: triangle %d at (%g, %g): source f = %g: %w", k, px, py, fq[q], ErrNotFinite)
 				}

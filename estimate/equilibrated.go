@@ -13,11 +13,13 @@ import (
 // Equilibrated is the equilibrated-flux estimator: a guaranteed upper bound
 // of the energy error of a P1 or P2 solution u_h of
 //
-//	−∇·(a∇u) + c u = f,  u = g_D on Γ_D,  a∇u·n = g_N on Γ_N,
+//	−∇·(a∇u) + c u = f,  u = g_D on Γ_D,  a∇u·n = g_N on Γ_N,  a∇u·n + α u = g_R on Γ_R,
 //
 // with no unknown constant, for piecewise-constant a (Problem.A, any
 // contrast) and c ≥ 0 (untagged boundary edges count as Neumann edges with
-// g_N = 0).
+// g_N = 0). A Robin edge is treated as a Neumann edge with the data
+// g_N = g_R − α u_h, which are known once u_h is: below, Γ_N includes the
+// Robin edges with these data.
 //
 // The flux σ_h ∈ RT_p (p the degree of u_h) approximates −a∇u. It is the sum
 // over the vertices a of the solutions of independent mixed problems on the
@@ -53,8 +55,10 @@ import (
 // described below. Then (Σ Eta2)^½ = ((η_res + η_alg)² + |||w|||²)^½.
 //
 // Theorem (Prager and Synge 1947, in the patchwise form of Braess and
-// Schöberl 2008 and Ern and Vohralík 2015; the Dirichlet split and the
-// trace constant are derived here, as sketched below). Let e = u − u_h and |||v|||² = ‖a^½∇v‖² + c‖v‖². Then
+// Schöberl 2008 and Ern and Vohralík 2015; the Dirichlet split, the Robin
+// terms and the trace constant are derived here, as sketched below). Let
+// e = u − u_h and |||v|||² = ‖a^½∇v‖² + c‖v‖² + ‖α^½ v‖²_{Γ_R}, the energy
+// norm of the problem. Then
 //
 //	|||e|||² ≤ (η_res + η_alg)² + |||w|||²
 //
@@ -65,7 +69,14 @@ import (
 //
 //	|||φ|||² = (f − Π_p f + ρ, φ) − (σ_h + a∇u_h, ∇φ) + (g_N − Π_p g_N, φ)_{Γ_N},
 //
-// where f − Π_p f has mean zero on T, so (f − Π_p f, φ)_T ≤ m_T ‖f − Π_p f‖_T
+// where on a Robin edge g_N = g_R − α u_h: the boundary term α(e, φ)_{Γ_R}
+// of the energy product of e and φ is α(u, φ) − α(u_h, φ), and α(u, φ) =
+// (g_R − a∇u·n, φ), so the Robin condition enters as a Neumann condition
+// with these data, and σ_h·n = −Π_p(g_R − α u_h) there. Each term is bounded
+// by a multiple of the part ‖a^½∇φ‖ (or c^½‖φ‖) of |||φ|||, which the
+// boundary term only enlarges; the lifting w below vanishes on every edge
+// but the Dirichlet edges, so ‖α^½ w‖_{Γ_R} = 0. The data term
+// f − Π_p f has mean zero on T, so (f − Π_p f, φ)_T ≤ m_T ‖f − Π_p f‖_T
 // |||φ|||_T by the Poincaré inequality ‖φ − φ_T‖_T ≤ (h_T/π) ‖∇φ‖_T on
 // convex sets (Payne and Weinberger 1960; Bebendorf 2003) or by ‖φ‖_T ≤
 // c^{−½} |||φ|||_T; g_N − Π_p g_N has mean zero on E, and the trace
@@ -97,9 +108,13 @@ import (
 // residual of rounding size on the tiny patches at a strong singularity
 // makes it useless (on the adaptive Kellogg loop it exceeded η_res by
 // 10⁶); the second grows like |r_a| times the length of the path to
-// Γ_D. The tree exists whenever every piece of the mesh has a Dirichlet
-// edge, which Problem.Check requires when c = 0; when c > 0 the first
-// bound exists. This tree construction is in the spirit of the algebraic
+// Γ_D. On a piece of the mesh without Dirichlet edges the tree sends the
+// mass out through Robin edges of constant α > 0, at the cost
+// ‖α^{−½}σ_ρ·n‖_{Γ_R} (see treeBound). The tree exists whenever every
+// piece of the mesh has a Dirichlet edge or such a Robin edge, which
+// Problem.Check requires when c = 0 (unless the only α > 0 is an
+// AlphaFunc: then, when ρ ≠ 0, there is no bound and the estimate returns
+// ErrUnsupported); when c > 0 the first bound exists. This tree construction is in the spirit of the algebraic
 // error fluxes of Papež, Rüde, Vohralík and Wohlmuth (2020), which use a
 // hierarchy of meshes instead of a tree.
 //
@@ -169,8 +184,9 @@ import (
 // arXiv:1812.06678) show that weighted patch problems are
 // needed for robustness there; they are not implemented.
 //
-// Diffusion given by AFunc and pure Neumann problems without reaction are
-// not supported and return an error wrapping ErrUnsupported.
+// Diffusion given by AFunc and pure Neumann problems without reaction (no
+// Dirichlet edge, no Robin edge with α > 0, c = 0; fem.Problem.IsPureNeumann)
+// are not supported and return an error wrapping ErrUnsupported.
 //
 // Osc2 holds the data oscillation h_T² ‖f − Π_{p−1} f‖²_T of the package
 // convention.
@@ -300,7 +316,7 @@ func (q Equilibrated) equilibrate(u *fem.Function, p *fem.Problem, dst *Indicato
 	if !p.PiecewiseConstant() {
 		return nil, fmt.Errorf("estimate: Equilibrated: diffusion given by AFunc: %w", ErrUnsupported)
 	}
-	if len(p.Dirichlet) == 0 && p.C == 0 {
+	if p.IsPureNeumann() {
 		return nil, fmt.Errorf("estimate: Equilibrated: pure Neumann problem without reaction: %w", ErrUnsupported)
 	}
 	if math.IsNaN(q.Friedrichs) || math.IsInf(q.Friedrichs, 0) || q.Friedrichs < 0 {
@@ -415,7 +431,7 @@ func (eq *equilibration) triangleData() error {
 			for q := range nq {
 				l := [3]float64{rule.Bary[3*q], rule.Bary[3*q+1], rule.Bary[3*q+2]}
 				x, y := ev.Point(l)
-				f := p.Source(x, y)
+				f := p.Source(x, y, ev.Region())
 				if math.IsNaN(f) || math.IsInf(f, 0) {
 					return fmt.Errorf("estimate: Equilibrated: triangle %d at (%g, %g): source f = %g: %w", t, x, y, f, ErrNotFinite)
 				}
@@ -434,37 +450,47 @@ func (eq *equilibration) triangleData() error {
 	})
 }
 
-// neumannEdge returns the Neumann data of edge e, its ends A and B and its
-// length, or a nil function if e is not a Neumann edge with data.
-func (eq *equilibration) neumannEdge(e int) (gn fem.Func, ax, ay, bx, by, le float64) {
+// neumannEdge returns the prescribed flux of edge e as a function of the
+// parameter t from A = Edge[2e] to B = Edge[2e+1] (g_N on a Neumann edge,
+// g_R − α u_h on a Robin edge: fem.Problem.BoundaryFlux) and its length,
+// or a nil function if e is not a Neumann edge with data or a Robin edge.
+func (eq *equilibration) neumannEdge(e int) (gn func(t float64) (float64, error), le float64) {
 	m := eq.m
 	if !m.IsBoundary(e) || eq.dirE[e] {
-		return nil, 0, 0, 0, 0, 0
+		return nil, 0
 	}
-	if gn = eq.p.Neumann[m.EdgeTag[e]]; gn == nil {
-		return nil, 0, 0, 0, 0, 0
+	tag := m.EdgeTag[e]
+	if !eq.p.HasBoundaryData(tag) {
+		return nil, 0
 	}
-	ax, ay = m.Vertex(int(m.Edge[2*e]))
-	bx, by = m.Vertex(int(m.Edge[2*e+1]))
-	return gn, ax, ay, bx, by, math.Hypot(bx-ax, by-ay)
+	ax, ay := m.Vertex(int(m.Edge[2*e]))
+	bx, by := m.Vertex(int(m.Edge[2*e+1]))
+	gn = func(t float64) (float64, error) {
+		x, y := ax+t*(bx-ax), ay+t*(by-ay)
+		v, _, err := eq.p.BoundaryFlux(tag, x, y, eq.u.EdgeValue(e, t))
+		if err != nil {
+			return 0, fmt.Errorf("estimate: Equilibrated: %w", err)
+		}
+		return v, nil
+	}
+	return gn, math.Hypot(bx-ax, by-ay)
 }
 
 // neumannData integrates ∫_E ψ g_N L_j ds for the two end vertices of each
-// Neumann edge.
+// Neumann edge, and ∫_E ψ (g_R − α u_h) L_j ds on each Robin edge.
 func (eq *equilibration) neumannData() error {
 	m, k := eq.m, eq.k
 	eq.neu = eq.take(2 * (k + 1) * m.NumEdges())
 	clear(eq.neu)
 	for e := range m.NumEdges() {
-		gn, ax, ay, bx, by, le := eq.neumannEdge(e)
+		gn, le := eq.neumannEdge(e)
 		if gn == nil {
 			continue
 		}
 		for g, t := range eq.line.X {
-			x, y := ax+t*(bx-ax), ay+t*(by-ay)
-			v := gn(x, y)
-			if math.IsNaN(v) || math.IsInf(v, 0) {
-				return fmt.Errorf("estimate: Equilibrated: boundary tag %d at (%g, %g): Neumann data %g: %w", m.EdgeTag[e], x, y, v, ErrNotFinite)
+			v, err := gn(t)
+			if err != nil {
+				return err
 			}
 			w := eq.line.W[g] * le * v
 			for j := range k + 1 {

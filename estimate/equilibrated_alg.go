@@ -12,8 +12,8 @@ import (
 // RT_0 field σ_ρ along a spanning tree of the triangles (see Equilibrated).
 // It returns η_tree, writes each triangle's share of η_tree² into share
 // (summing to 1; all zero when η_tree = 0), and reports false when the
-// mesh has no Dirichlet edge or some triangle cannot reach one through
-// interior edges.
+// mesh has no Dirichlet edge and no Robin edge of constant α > 0, or some
+// triangle cannot reach one through interior edges.
 //
 // With ρ_T = (ρ, 1)_T/|T| the mean of ρ on T, (ρ, φ) = (ρ_T, φ) + (ρ − ρ_T, φ)
 // summed over the triangles. The tree starts at the triangles with a
@@ -27,6 +27,13 @@ import (
 // m_T ‖ρ − ρ_T‖_T |||φ|||_T. Hence
 //
 //	η_tree = ‖a^{−½}σ_ρ‖ + (Σ_T m_T² ‖ρ − ρ_T‖²_T)^½.
+//
+// Triangles without a path to a Dirichlet edge are reached from Robin
+// edges of constant α > 0 (roots after the Dirichlet ones): the mass
+// leaves through such an edge, φ does not vanish there, and Green's formula
+// adds (σ_ρ·n, φ)_{Γ_R} ≤ ‖α^{−½}σ_ρ·n‖_{Γ_R} ‖α^½φ‖_{Γ_R}, so that
+// ‖a^{−½}σ_ρ‖² above becomes ‖a^{−½}σ_ρ‖² + ‖α^{−½}σ_ρ·n‖²_{Γ_R}, both
+// parts of |||φ|||² (derived here).
 //
 // Unlike C_alg ‖ρ‖, this bound does not grow as a residual of rounding
 // size sits on a patch of tiny area: moving a mass μ across an edge costs
@@ -44,6 +51,20 @@ func (eq *equilibration) treeBound(share []float64) (float64, bool) {
 	for t := range nt {
 		for i := range 3 {
 			if eq.dirE[m.TriEdge[3*t+i]] {
+				parent[t] = int8(i)
+				order = append(order, int32(t))
+				break
+			}
+		}
+	}
+	// Then the triangles with a Robin edge of constant α > 0 and no
+	// Dirichlet edge.
+	for t := range nt {
+		if parent[t] >= 0 {
+			continue
+		}
+		for i := range 3 {
+			if _, ok := eq.robinRoot(int(m.TriEdge[3*t+i])); ok {
 				parent[t] = int8(i)
 				order = append(order, int32(t))
 				break
@@ -118,6 +139,13 @@ func (eq *equilibration) treeBound(share []float64) (float64, bool) {
 	tree := 0.0
 	for t := range nt {
 		f2 := rt0Energy(eq.m.Tri[3*t:3*t+3], eq.m.X, m.Area(t), flux[3*t:3*t+3], eq.co.At(m.Region[t]))
+		// A root on a Robin edge E: σ_ρ·n = μ/|E| there, μ the mass it
+		// sends out, and ‖α^{−½} σ_ρ·n‖²_E = μ²/(|E| α).
+		e := int(m.TriEdge[3*t+int(parent[t])])
+		if alpha, ok := eq.robinRoot(e); ok {
+			mu := flux[3*t+int(parent[t])]
+			f2 += mu * mu / (m.EdgeLength(e) * alpha)
+		}
 		tree += f2
 		share[t] += f2
 	}
@@ -128,6 +156,21 @@ func (eq *equilibration) treeBound(share []float64) (float64, bool) {
 		}
 	}
 	return eta, true
+}
+
+// robinRoot returns α and true if edge e is a Robin edge whose tag has a
+// constant α > 0 (RobinData.Alpha, no AlphaFunc): an edge through which the
+// tree of treeBound may send mass out of the domain.
+func (eq *equilibration) robinRoot(e int) (float64, bool) {
+	m := eq.m
+	if !m.IsBoundary(e) || eq.dirE[e] {
+		return 0, false
+	}
+	r, ok := eq.p.Robin[m.EdgeTag[e]]
+	if !ok || r.AlphaFunc != nil || !(r.Alpha > 0) {
+		return 0, false
+	}
+	return r.Alpha, true
 }
 
 // meanWeight returns m_T², the square of the factor of the Poincaré bound

@@ -12,8 +12,8 @@ import (
 // equilibratedCases returns the cases of fastCases (noisy interpolants:
 // r_a ≠ 0, so ρ and the algebraic term are exercised) and discrete
 // solutions of the bound's model problems, on uniform, adaptively graded,
-// jiggled and permuted meshes, Kellogg's contrast 161, Dirichlet, Neumann
-// and untagged edges, c > 0.
+// jiggled and permuted meshes, Kellogg's contrast 161, Dirichlet, Neumann,
+// Robin and untagged edges, c > 0.
 func equilibratedCases(t *testing.T, deg int) []fastCase {
 	t.Helper()
 	var cases []fastCase
@@ -38,6 +38,14 @@ func equilibratedCases(t *testing.T, deg int) []fastCase {
 		Dirichlet: map[int32]fem.Func{mesh.SideLeft: g, mesh.SideBottom: nil},
 		Neumann:   map[int32]fem.Func{mesh.SideRight: g}}
 	cases = append(cases, fastCase{"jiggled, c > 0, mixed, solved", solveTol(t, jig, deg, p, 1e-12), p})
+	pr := &fem.Problem{F: func(x, y float64) float64 { return math.Exp(x) - y },
+		Dirichlet: map[int32]fem.Func{mesh.SideBottom: g},
+		Robin: map[int32]fem.RobinData{mesh.SideRight: {Alpha: 2, G: g},
+			mesh.SideTop: {AlphaFunc: func(x, y float64) float64 { return 1 + x }, G: g}}}
+	cases = append(cases, fastCase{"jiggled, Robin, solved", solveTol(t, jig, deg, pr, 1e-12), pr})
+	po := &fem.Problem{F: func(x, y float64) float64 { return math.Exp(x) - y },
+		Robin: map[int32]fem.RobinData{mesh.SideRight: {Alpha: 2, G: g}, mesh.SideLeft: {Alpha: 0.5}}}
+	cases = append(cases, fastCase{"jiggled, Robin only, solved loosely", solveTol(t, jig, deg, po, 1e-4), po})
 	return cases
 }
 

@@ -200,7 +200,7 @@ func (eq *equilibration) trianglesP1() error {
 				l := rule.Bary[3*q : 3*q+3 : 3*q+3]
 				x := l[0]*xs[0] + l[1]*xs[1] + l[2]*xs[2]
 				y := l[0]*ys[0] + l[1]*ys[1] + l[2]*ys[2]
-				f := p.Source(x, y)
+				f := p.Source(x, y, m.Region[t])
 				if math.IsNaN(f) || math.IsInf(f, 0) {
 					return fmt.Errorf("estimate: Equilibrated: triangle %d at (%g, %g): source f = %g: %w", t, x, y, f, ErrNotFinite)
 				}

@@ -78,7 +78,7 @@ func (eq *equilibration) indicators(dst *Indicators) (EquilibratedParts, error) 
 			best, tshare = et, sh
 		}
 		if math.IsInf(best, 1) {
-			return EquilibratedParts{}, fmt.Errorf("estimate: Equilibrated: the solution is not the exact discrete solution (‖ρ‖ = %.3g), no triangle path reaches a Dirichlet edge, there is no reaction and no Friedrichs constant is known: %w", math.Sqrt(rho2), ErrUnsupported)
+			return EquilibratedParts{}, fmt.Errorf("estimate: Equilibrated: the solution is not the exact discrete solution (‖ρ‖ = %.3g), no triangle path reaches a Dirichlet edge or a Robin edge of constant α > 0, there is no reaction and no Friedrichs constant is known: %w", math.Sqrt(rho2), ErrUnsupported)
 		}
 		parts.Algebraic = best
 	}
@@ -260,15 +260,15 @@ func (tw *termWork) projectionError(f []float64, d int, area float64) float64 {
 	return s * area
 }
 
-// neumann returns Σ_E C_{T,E} ‖g_N − Π_p g_N‖_E over the Neumann edges of
-// triangle t with data.
+// neumann returns Σ_E C_{T,E} ‖g − Π_p g‖_E over the Neumann edges of
+// triangle t with data (g = g_N) and its Robin edges (g = g_R − α u_h).
 func (tw *termWork) neumann(t int, h, at, area float64) (float64, error) {
 	eq := tw.eq
 	m, k, line := eq.m, eq.k, eq.line
 	sum := 0.0
 	for i := range 3 {
 		e := int(m.TriEdge[3*t+i])
-		gn, ax, ay, bx, by, le := eq.neumannEdge(e)
+		gn, le := eq.neumannEdge(e)
 		if gn == nil {
 			continue
 		}
@@ -278,7 +278,10 @@ func (tw *termWork) neumann(t int, h, at, area float64) (float64, error) {
 		}
 		s := 0.0
 		for g, tt := range line.X {
-			v := gn(ax+tt*(bx-ax), ay+tt*(by-ay))
+			v, err := gn(tt)
+			if err != nil {
+				return 0, err
+			}
 			for j := range k + 1 {
 				v -= c[j] * quadrature.Legendre01(j, tt)
 			}

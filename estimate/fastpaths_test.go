@@ -60,7 +60,7 @@ func refinedAtRandom(t *testing.T, m *mesh.Mesh, steps int, r *rand.Rand) *mesh.
 // fastCases returns the test cases of the fast paths: uniform, adaptively
 // numbered, jiggled and permuted meshes; the Kellogg regions (contrast
 // 161) and anisotropic tensors with contrast; Dirichlet, Neumann (with data
-// and homogeneous) and untagged edges; c > 0 with and without f; regions
+// and homogeneous), Robin and untagged edges; a source per region; c > 0 with and without f; regions
 // of equal a but different tags; region tags too far apart for a table.
 func fastCases(t *testing.T) []fastCase {
 	t.Helper()
@@ -119,6 +119,11 @@ func fastCases(t *testing.T) []fastCase {
 		{"two tags, contrast, wide range, f", noisy(t, wide, 1, r), &fem.Problem{F: f,
 			A:         map[int32]fem.Tensor{0: fem.Scalar(1), 70000: {XX: 30, XY: 3, YY: 10}},
 			Dirichlet: map[int32]fem.Func{mesh.SideBottom: nil, mesh.SideRight: nil}}},
+		{"jiggled, contrast, Robin, source per region", noisy(t, wide, 1, r), &fem.Problem{
+			FRegion: func(x, y float64, r int32) float64 { return f(x, y) * float64(1+r/70000) },
+			A:       map[int32]fem.Tensor{0: fem.Scalar(1), 70000: {XX: 30, XY: 3, YY: 10}},
+			Robin: map[int32]fem.RobinData{mesh.SideRight: {Alpha: 2, G: g},
+				mesh.SideTop: {AlphaFunc: func(x, y float64) float64 { return 1 + x }}}}},
 	}
 }
 

@@ -53,7 +53,9 @@ import (
 // −Π_k g_N, the L² projection of the data onto P_k of the edge, as in the
 // space of Cai and Zhang 2009 (from memory): the recovered flux then
 // satisfies the boundary condition of the exact flux, and η sees where u_h
-// does not. On the Dirichlet edges σ·n is free.
+// does not. On the Robin edges it is fixed likewise to −Π_k(g_R − α u_h),
+// the flux that the Robin condition gives for u_h. On the Dirichlet edges
+// σ·n is free.
 //
 // Solver: the projection is a weighted mass matrix system in RT_k (one
 // unknown per edge for P1, two per edge and two per triangle for P2),
@@ -308,13 +310,13 @@ func (pr *projection) elements(dst *Indicators) error {
 			}
 			lapack64.Potrs(blas64.Triangular{Uplo: blas.Upper, Diag: blas.NonUnit, N: nl, Stride: nl, Data: fac[:nl*nl]},
 				blas64.General{Rows: nl, Cols: 1, Stride: 1, Data: loc[nl*nl:]})
-			if p.F == nil {
+			if !p.HasSource() {
 				zero(dst.Osc2, t)
 				continue
 			}
 			for q := range orule.Len() {
 				x, y := ev.Point([3]float64{orule.Bary[3*q], orule.Bary[3*q+1], orule.Bary[3*q+2]})
-				fq[q] = p.Source(x, y)
+				fq[q] = p.Source(x, y, ev.Region())
 				if math.IsNaN(fq[q]) || math.IsInf(fq[q], 0) {
 					return fmt.Errorf("estimate: FluxRecovery: triangle %d at (%g, %g): source f = %g: %w", t, x, y, fq[q], ErrNotFinite)
 				}
@@ -338,7 +340,7 @@ func (pr *projection) elements(dst *Indicators) error {
 func (pr *projection) elementsP1(dst *Indicators) error {
 	m, p := pr.m, pr.p
 	var orule *quadrature.Triangle
-	if p.F != nil {
+	if p.HasSource() {
 		var err error
 		if orule, err = quadrature.ForTriangle(4); err != nil {
 			return err
@@ -385,7 +387,7 @@ func (pr *projection) elementsP1(dst *Indicators) error {
 			for q := range orule.Len() {
 				l0, l1, l2 := orule.Bary[3*q], orule.Bary[3*q+1], orule.Bary[3*q+2]
 				px, py := l0*xs[0]+l1*xs[1]+l2*xs[2], l0*ys[0]+l1*ys[1]+l2*ys[2]
-				fq[q] = p.F(px, py)
+				fq[q] = p.Source(px, py, m.Region[t])
 				if math.IsNaN(fq[q]) || math.IsInf(fq[q], 0) {
 					return fmt.Errorf("estimate: FluxRecovery: triangle %d at (%g, %g): source f = %g: %w", t, px, py, fq[q], ErrNotFinite)
 				}
@@ -397,9 +399,9 @@ func (pr *projection) elementsP1(dst *Indicators) error {
 	})
 }
 
-// neumann sets the fixed normal moments of the Neumann edges into x:
-// −s ∫_E g_N L_j ds, with s = ±1 the orientation of n_E against the outward
-// normal.
+// neumann sets the fixed normal moments of the Neumann and Robin edges into
+// x: −s ∫_E g L_j ds, with g the prescribed flux (g_N, or g_R − α u_h) and
+// s = ±1 the orientation of n_E against the outward normal.
 func (pr *projection) neumann() error {
 	m, k := pr.m, pr.k
 	line, err := quadrature.ForLine(2*k + 4)
@@ -412,8 +414,8 @@ func (pr *projection) neumann() error {
 		}
 		xe := pr.x[e*(k+1) : (e+1)*(k+1)]
 		clear(xe)
-		gn := pr.p.Neumann[m.EdgeTag[e]]
-		if gn == nil {
+		tag := m.EdgeTag[e]
+		if !pr.p.HasBoundaryData(tag) {
 			continue
 		}
 		t := int(m.EdgeTri[2*e])
@@ -423,9 +425,9 @@ func (pr *projection) neumann() error {
 		le := math.Hypot(bx-ax, by-ay)
 		for g, tq := range line.X {
 			x, y := ax+tq*(bx-ax), ay+tq*(by-ay)
-			v := gn(x, y)
-			if math.IsNaN(v) || math.IsInf(v, 0) {
-				return fmt.Errorf("estimate: FluxRecovery: boundary tag %d at (%g, %g): Neumann data %g: %w", m.EdgeTag[e], x, y, v, ErrNotFinite)
+			v, _, err := pr.p.BoundaryFlux(tag, x, y, pr.u.EdgeValue(e, tq))
+			if err != nil {
+				return fmt.Errorf("estimate: FluxRecovery: %w", err)
 			}
 			for j := range k + 1 {
 				xe[j] -= s * line.W[g] * le * v * quadrature.Legendre01(j, tq)

@@ -15,11 +15,12 @@ import (
 //
 //	J(u) − J(u_h) ≈ Σ_T ρ_T,
 //	ρ_T = (f + ∇·(a∇u_h) − c u_h, ζ)_T − ½ Σ_{interior E ⊂ ∂T} ([[a∇u_h·n]], ζ)_E
-//	      + Σ_{Neumann E ⊂ ∂T} (g_N − a∇u_h·n, ζ)_E,
+//	      + Σ_{Neumann E ⊂ ∂T} (g_N − a∇u_h·n, ζ)_E + Σ_{Robin E ⊂ ∂T} (g_R − α u_h − a∇u_h·n, ζ)_E,
 //	ζ = z⁺ − I_h z⁺,
 //
 // the primal residual ρ(u_h)(v) = (f, v) − a(u_h, v) − (c u_h, v) + (g_N, v)
-// split by element and tested with the dual weight ζ. z_h is the discrete
+// + (g_R − α u_h, v)_{Γ_R} split by element and tested with the dual weight
+// ζ (the dual problem, fem.Dual, carries the Robin α). z_h is the discrete
 // dual solution, a(v_h, z_h) = J₀(v_h) for every v_h of the space with
 // homogeneous Dirichlet data (J₀ the linear part of J); z⁺ is its
 // reconstruction of degree p + 1 (Reconstruct: Becker and Rannacher's
@@ -239,7 +240,7 @@ func goalElement(m *mesh.Mesh, ev, nb, yev *fem.Evaluator, p *fem.Problem, rule 
 	for q := range rule.Len() {
 		l := [3]float64{rule.Bary[3*q], rule.Bary[3*q+1], rule.Bary[3*q+2]}
 		x, y := ev.Point(l)
-		f := p.Source(x, y)
+		f := p.Source(x, y, region)
 		if math.IsNaN(f) || math.IsInf(f, 0) {
 			return 0, 0, fmt.Errorf("estimate: DualWeighted: triangle %d at (%g, %g): source f = %g: %w", k, x, y, f, ErrNotFinite)
 		}
@@ -286,10 +287,6 @@ func goalElement(m *mesh.Mesh, ev, nb, yev *fem.Evaluator, p *fem.Problem, rule 
 			}
 			nb.Load(other)
 		}
-		var gn fem.Func
-		if boundary {
-			gn = p.Neumann[tag]
-		}
 		c := 1.0
 		if !boundary {
 			c = 0.5
@@ -299,7 +296,7 @@ func goalElement(m *mesh.Mesh, ev, nb, yev *fem.Evaluator, p *fem.Problem, rule 
 			var l [3]float64
 			l[j], l[jj] = 1-t, t
 			x, y := ev.Point(l)
-			_, gx, gy := ev.Eval(l)
+			v, gx, gy := ev.Eval(l)
 			ta := a
 			if !p.PiecewiseConstant() {
 				ta = p.Diffusion(x, y, region)
@@ -307,12 +304,9 @@ func goalElement(m *mesh.Mesh, ev, nb, yev *fem.Evaluator, p *fem.Problem, rule 
 			fx, fy := ta.Apply(gx, gy)
 			var r float64
 			if boundary {
-				g := 0.0
-				if gn != nil {
-					g = gn(x, y)
-					if math.IsNaN(g) || math.IsInf(g, 0) {
-						return 0, 0, fmt.Errorf("estimate: DualWeighted: boundary tag %d at (%g, %g): Neumann data %g: %w", tag, x, y, g, ErrNotFinite)
-					}
+				g, _, err := p.BoundaryFlux(tag, x, y, v) // g_N, or g_R − α u_h
+				if err != nil {
+					return 0, 0, fmt.Errorf("estimate: DualWeighted: %w", err)
 				}
 				r = g - (fx*nx + fy*ny)
 			} else {

@@ -127,7 +127,7 @@ func goalFast(dst *GoalIndicators, u, y *fem.Function, p *fem.Problem, rec *Enri
 			for q := range rule.Len() {
 				l := [3]float64{rule.Bary[3*q], rule.Bary[3*q+1], rule.Bary[3*q+2]}
 				x, yy := ev.Point(l)
-				f := p.Source(x, yy)
+				f := p.Source(x, yy, region)
 				if math.IsNaN(f) || math.IsInf(f, 0) {
 					return fmt.Errorf("estimate: DualWeighted: triangle %d at (%g, %g): source f = %g: %w", k, x, yy, f, ErrNotFinite)
 				}
@@ -175,9 +175,8 @@ func goalFast(dst *GoalIndicators, u, y *fem.Function, p *fem.Problem, rec *Enri
 			}
 			// The other triangle's local positions of the edge's ends.
 			other, oj, ojj := -1, 0, 0
-			var gn fem.Func
 			if boundary {
-				gn = p.Neumann[tag]
+				ev.Load(k)
 			} else {
 				other = int(m.EdgeTri[2*e+1])
 				oj, ojj = localVertex(m, other, tv[j]), localVertex(m, other, tv[jj])
@@ -188,13 +187,13 @@ func goalFast(dst *GoalIndicators, u, y *fem.Function, p *fem.Problem, rec *Enri
 				fx, fy := fluxAt(flux, deg, k, j, jj, t)
 				var r float64
 				if boundary {
-					g := 0.0
-					if gn != nil {
-						x, yy := (1-t)*ax+t*bx, (1-t)*ay+t*by
-						g = gn(x, yy)
-						if math.IsNaN(g) || math.IsInf(g, 0) {
-							return fmt.Errorf("estimate: DualWeighted: boundary tag %d at (%g, %g): Neumann data %g: %w", tag, x, yy, g, ErrNotFinite)
-						}
+					var l [3]float64
+					l[j], l[jj] = 1-t, t
+					x, yy := ev.Point(l)
+					v, _, _ := ev.Eval(l)
+					g, _, err := p.BoundaryFlux(tag, x, yy, v) // g_N, or g_R − α u_h
+					if err != nil {
+						return fmt.Errorf("estimate: DualWeighted: %w", err)
 					}
 					r = g - (fx*nx + fy*ny)
 				} else {

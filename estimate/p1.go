@@ -20,7 +20,8 @@ import (
 //
 // the diffusion of each region is resolved once (fem.RegionTable), and every integral whose
 // integrand is a polynomial is taken in closed form. Only f and g_N are
-// integrated by quadrature, with the rules of the general path. The results
+// integrated by quadrature, with the rules of the general path, and so are
+// the Robin data g_R − α u_h. The results
 // agree with the general path to rounding (its gradient Σ u_i ∇λ_i loses
 // more to cancellation than the differences above).
 
@@ -28,7 +29,7 @@ import (
 const (
 	edgeNatural   uint8 = iota // no Dirichlet tag and no Neumann data: a∇u·n = 0
 	edgeDirichlet              // Dirichlet: no contribution
-	edgeNeumann                // Neumann data g_N, integrated by quadrature
+	edgeNeumann                // Neumann data g_N or a Robin condition, integrated by quadrature
 )
 
 // tagKinds classifies boundary tags, from a table for the small tags.
@@ -56,7 +57,7 @@ func edgeKind(p *fem.Problem, tag int32) uint8 {
 	if _, ok := p.Dirichlet[tag]; ok {
 		return edgeDirichlet
 	}
-	if p.Neumann[tag] != nil {
+	if p.HasBoundaryData(tag) {
 		return edgeNeumann
 	}
 	return edgeNatural

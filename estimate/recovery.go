@@ -219,13 +219,13 @@ func (r Recovery) general(dst *Indicators, u *fem.Function, p *fem.Problem) erro
 				}
 				dst.Eta2[k] = eta2
 			}
-			if p.F == nil {
+			if !p.HasSource() {
 				dst.Osc2[k] = 0
 				continue
 			}
 			for q := range orule.Len() {
 				x, y := ev.Point([3]float64{orule.Bary[3*q], orule.Bary[3*q+1], orule.Bary[3*q+2]})
-				fq[q] = p.Source(x, y)
+				fq[q] = p.Source(x, y, ev.Region())
 				if math.IsNaN(fq[q]) || math.IsInf(fq[q], 0) {
 					return fmt.Errorf("estimate: triangle %d at (%g, %g): source f = %g: %w", k, x, y, fq[q], ErrNotFinite)
 				}

@@ -16,6 +16,7 @@ import (
 //	η_T² = h_T²/a_T ‖f + ∇·(a∇u_h) − c u_h‖²_T
 //	       + ½ Σ_{interior E ⊂ ∂T} h_E/a_E ‖[[a∇u_h·n]]‖²_E
 //	       + Σ_{Neumann E ⊂ ∂T} h_E/a_T ‖g_N − a∇u_h·n‖²_E
+//	       + Σ_{Robin E ⊂ ∂T} h_E/a_T ‖g_R − α u_h − a∇u_h·n‖²_E
 //
 // with h_T the diameter of T, h_E the length of E, a_T the smallest
 // eigenvalue of the diffusion at the centroid of T and a_E the larger of
@@ -23,8 +24,13 @@ import (
 // estimator of the library's conventions; the weights make its
 // effectivity independent of the size of a and of the contrast across
 // interfaces (Bernardi and Verfürth 2000). Boundary edges with
-// no Dirichlet or Neumann tag count as Neumann edges with g_N = 0; Dirichlet
-// edges contribute nothing (the Dirichlet data are taken as resolved).
+// no Dirichlet, Neumann or Robin tag count as Neumann edges with g_N = 0;
+// Dirichlet edges contribute nothing (the Dirichlet data are taken as
+// resolved). A Robin edge is a Neumann edge whose data g_R − α u_h depend
+// on u_h (fem.Problem.BoundaryFlux gives both); the estimate then bounds the
+// energy norm with the boundary term, |||v|||² = ‖a^½∇v‖² + c‖v‖² +
+// ‖α^½ v‖²_{Γ_R}, as the Neumann argument carries over with the residual
+// of the Robin condition in place of that of the Neumann one.
 // ∇·(a∇u_h) is a : ∇²u_h for piecewise-constant a (zero for P1); for a given
 // by AFunc the derivatives of a are taken by central differences with step
 // 1e-6 h_T.
@@ -34,7 +40,7 @@ import (
 // integrated in closed form, which that rule integrates exactly too); the
 // flux jumps for piecewise-constant a are integrated exactly (they are
 // polynomials of degree p − 1 on each edge); for AFunc and for the Neumann
-// terms a Gauss–Legendre rule of degree 2p + 2 is used.
+// and Robin terms a Gauss–Legendre rule of degree 2p + 2 is used.
 //
 // The zero value is ready to use.
 //
@@ -121,7 +127,7 @@ func elementPass(dst *Indicators, u *fem.Function, p *fem.Problem, rule *quadrat
 	m := u.Space.Mesh
 	// For P1 with piecewise-constant a and no f and c, the element residual
 	// and the oscillation vanish.
-	zero := u.Space.Degree == 1 && p.F == nil && p.C == 0 && p.PiecewiseConstant()
+	zero := u.Space.Degree == 1 && !p.HasSource() && p.C == 0 && p.PiecewiseConstant()
 	return parallel.For(m.NumTriangles(), 512, func(lo, hi int) error {
 		ev := fem.NewEvaluator(u)
 		for k := lo; k < hi; k++ {
@@ -201,7 +207,7 @@ func elementResidual(ev *fem.Evaluator, p *fem.Problem, rule *quadrature.Triangl
 	for q := range rule.Len() {
 		l := [3]float64{rule.Bary[3*q], rule.Bary[3*q+1], rule.Bary[3*q+2]}
 		x, y := ev.Point(l)
-		f := p.Source(x, y)
+		f := p.Source(x, y, region)
 		if math.IsNaN(f) || math.IsInf(f, 0) {
 			return 0, 0, fmt.Errorf("estimate: triangle %d at (%g, %g): source f = %g: %w", k, x, y, f, ErrNotFinite)
 		}
@@ -268,8 +274,9 @@ func divAFunc(p *fem.Problem, x, y float64, region int32, h, gx, gy float64, hes
 }
 
 // edgeTerm returns h_E ‖[[a∇u_h·n]]‖²_E for an interior edge,
-// h_E ‖g_N − a∇u_h·n‖²_E for a Neumann or untagged boundary edge, and 0 for
-// a Dirichlet edge, by the Gauss–Legendre rule line. With plain (the test
+// h_E ‖g_N − a∇u_h·n‖²_E for a Neumann or untagged boundary edge,
+// h_E ‖g_R − α u_h − a∇u_h·n‖²_E for a Robin edge, and 0 for a Dirichlet
+// edge, by the Gauss–Legendre rule line. With plain (the test
 // hook of Residual) the flux is ∇u_h·n and the weight 1.
 func edgeTerm(e1, e2 *fem.Evaluator, m *mesh.Mesh, p *fem.Problem, line *quadrature.Line, e int, plain bool) (float64, error) {
 	tag := m.EdgeTag[e]
@@ -296,30 +303,29 @@ func edgeTerm(e1, e2 *fem.Evaluator, m *mesh.Mesh, p *fem.Problem, line *quadrat
 	}
 	ax, ay := m.Vertex(int(va))
 	bx, by := m.Vertex(int(vb))
-	// flux returns a∇u_h·n on T1 minus (interior) the same on T2, or
-	// g_N minus a∇u_h·n (boundary), at parameter t from va to vb.
+	// flux returns a∇u_h·n on T1 minus (interior) the same on T2, or the
+	// prescribed flux (g_N, or g_R − α u_h) minus a∇u_h·n (boundary), at
+	// parameter t from va to vb.
 	flux := func(t float64) (float64, error) {
 		x, y := ax+t*(bx-ax), ay+t*(by-ay)
-		side := func(ev *fem.Evaluator, la, lb int) float64 {
+		side := func(ev *fem.Evaluator, la, lb int) (v, fn float64) {
 			var l [3]float64
 			l[la], l[lb] = 1-t, t
-			_, gx, gy := ev.Eval(l)
+			v, gx, gy := ev.Eval(l)
 			if plain {
-				return gx*nx + gy*ny
+				return v, gx*nx + gy*ny
 			}
 			fx, fy := p.Diffusion(x, y, ev.Region()).Apply(gx, gy)
-			return fx*nx + fy*ny
+			return v, fx*nx + fy*ny
 		}
-		f1 := side(e1, la1, lb1)
+		v1, f1 := side(e1, la1, lb1)
 		if !boundary {
-			return f1 - side(e2, la2, lb2), nil
+			_, f2 := side(e2, la2, lb2)
+			return f1 - f2, nil
 		}
-		g := 0.0
-		if gn := p.Neumann[tag]; gn != nil {
-			g = gn(x, y)
-			if math.IsNaN(g) || math.IsInf(g, 0) {
-				return 0, fmt.Errorf("estimate: boundary tag %d at (%g, %g): Neumann data %g: %w", tag, x, y, g, ErrNotFinite)
-			}
+		g, _, err := p.BoundaryFlux(tag, x, y, v1)
+		if err != nil {
+			return 0, fmt.Errorf("estimate: %w", err)
 		}
 		return g - f1, nil
 	}

@@ -7,7 +7,6 @@ import (
 	"github.com/posteriori-fem/posteriori/fem"
 	"github.com/posteriori-fem/posteriori/internal/parallel"
 	"github.com/posteriori-fem/posteriori/internal/quadrature"
-	"github.com/posteriori-fem/posteriori/mesh"
 )
 
 // residualP1 is Residual.Estimate for P1 and piecewise-constant diffusion,
@@ -30,7 +29,7 @@ func residualP1(dst *Indicators, u *fem.Function, p *fem.Problem) error {
 	m := u.Space.Mesh
 	nt, ne := m.NumTriangles(), m.NumEdges()
 	var rule *quadrature.Triangle
-	if p.F != nil {
+	if p.HasSource() {
 		var err error
 		if rule, err = quadrature.ForTriangle(4); err != nil {
 			return err
@@ -65,7 +64,7 @@ func residualP1(dst *Indicators, u *fem.Function, p *fem.Problem) error {
 				zero(dst.Osc2, k) // Eta2 is written by pass 3
 				continue
 			}
-			res2, osc2, err := elementP1(p, rule, k, x, t, d, w, uu)
+			res2, osc2, err := elementP1(p, rule, k, region[k], x, t, d, w, uu)
 			if err != nil {
 				return err
 			}
@@ -97,7 +96,7 @@ func residualP1(dst *Indicators, u *fem.Function, p *fem.Problem) error {
 					j := fx*ty - fy*tx
 					jump[e] = j * j / w
 				case edgeNeumann:
-					v, err := neumannP1(m, p, line, e, k1, fx, fy, w)
+					v, err := neumannP1(u, p, line, e, k1, fx, fy, w)
 					if err != nil {
 						return err
 					}
@@ -131,10 +130,10 @@ func residualP1(dst *Indicators, u *fem.Function, p *fem.Problem) error {
 }
 
 // elementP1 returns h_T²/a_T ‖f − c u_h‖²_T and h_T² ‖f − Π_0 f‖²_T for
-// triangle k with vertices t (d twice its area, w = a_T): with the degree-4
+// triangle k of the given region with vertices t (d twice its area, w = a_T): with the degree-4
 // rule where f is given (rule not nil), else in closed form from
 // ∫_T u_h² = |T|/12 (Σ u_i² + (Σ u_i)²).
-func elementP1(p *fem.Problem, rule *quadrature.Triangle, k int, x []float64, t []int32, d, w float64, uu []float64) (res2, osc2 float64, err error) {
+func elementP1(p *fem.Problem, rule *quadrature.Triangle, k int, region int32, x []float64, t []int32, d, w float64, uu []float64) (res2, osc2 float64, err error) {
 	xs, ys := corners(x, t)
 	area := 0.5 * d
 	h := diameter(&xs, &ys)
@@ -148,7 +147,7 @@ func elementP1(p *fem.Problem, rule *quadrature.Triangle, k int, x []float64, t 
 	for q := range rule.Len() {
 		l0, l1, l2 := rule.Bary[3*q], rule.Bary[3*q+1], rule.Bary[3*q+2]
 		px, py := l0*xs[0]+l1*xs[1]+l2*xs[2], l0*ys[0]+l1*ys[1]+l2*ys[2]
-		f := p.F(px, py)
+		f := p.Source(px, py, region)
 		if math.IsNaN(f) || math.IsInf(f, 0) {
 			return 0, 0, fmt.Errorf("estimate: triangle %d at (%g, %g): source f = %g: %w", k, px, py, f, ErrNotFinite)
 		}
@@ -163,12 +162,13 @@ func elementP1(p *fem.Problem, rule *quadrature.Triangle, k int, x []float64, t 
 	return res2, oscP0(rule, fq[:rule.Len()]) * area * h * h, nil
 }
 
-// neumannP1 returns h_E ‖g_N − a∇u_h·n‖²_E / a_T for the Neumann boundary
-// edge e of triangle k, with a∇u_h = (fx, fy) on k and w = a_T, by the
+// neumannP1 returns h_E ‖g − a∇u_h·n‖²_E / a_T for the Neumann or Robin
+// boundary edge e of triangle k, g the prescribed flux (g_N, or
+// g_R − α u_h), with a∇u_h = (fx, fy) on k and w = a_T, by the
 // Gauss–Legendre rule line.
-func neumannP1(m *mesh.Mesh, p *fem.Problem, line *quadrature.Line, e, k int, fx, fy, w float64) (float64, error) {
+func neumannP1(u *fem.Function, p *fem.Problem, line *quadrature.Line, e, k int, fx, fy, w float64) (float64, error) {
+	m := u.Space.Mesh
 	tag := m.EdgeTag[e]
-	gn := p.Neumann[tag]
 	i := localEdge(m, k, e)
 	a, b := m.Tri[3*k+(i+1)%3], m.Tri[3*k+(i+2)%3] // counter-clockwise around k
 	tx, ty := m.X[2*b]-m.X[2*a], m.X[2*b+1]-m.X[2*a+1]
@@ -179,9 +179,9 @@ func neumannP1(m *mesh.Mesh, p *fem.Problem, line *quadrature.Line, e, k int, fx
 	sum := 0.0
 	for q, s := range line.X {
 		px, py := ax+s*(bx-ax), ay+s*(by-ay)
-		g := gn(px, py)
-		if math.IsNaN(g) || math.IsInf(g, 0) {
-			return 0, fmt.Errorf("estimate: boundary tag %d at (%g, %g): Neumann data %g: %w", tag, px, py, g, ErrNotFinite)
+		g, _, err := p.BoundaryFlux(tag, px, py, u.EdgeValue(e, s))
+		if err != nil {
+			return 0, fmt.Errorf("estimate: %w", err)
 		}
 		j := g - fn
 		sum += line.W[q] * j * j

@@ -16,7 +16,8 @@ import (
 //     triangle and its weight a_T are stored;
 //  2. over the edges: the edge term of each edge from the stored fluxes in
 //     closed form (the flux is linear along the edge), except on boundary
-//     edges with Neumann data, which are integrated as by the general path;
+//     edges with Neumann data and on Robin edges, which are integrated as
+//     by the general path;
 //  3. over the triangles: the terms of the three edges are added.
 func residualP2(dst *Indicators, u *fem.Function, p *fem.Problem) error {
 	m := u.Space.Mesh
@@ -36,9 +37,9 @@ func residualP2(dst *Indicators, u *fem.Function, p *fem.Problem) error {
 	if err != nil {
 		return err
 	}
-	// Closed form except on boundary edges with Neumann data.
+	// Closed form except on boundary edges with Neumann or Robin data.
 	jump, err := edgePass(u, p, line, false, func(e int) (float64, bool) {
-		if m.IsBoundary(e) && p.Neumann[m.EdgeTag[e]] != nil {
+		if m.IsBoundary(e) && p.HasBoundaryData(m.EdgeTag[e]) {
 			return 0, false
 		}
 		return fluxEdge(m, p, flux, wt, e), true

@@ -27,7 +27,8 @@ type System struct {
 // degrees): the stiffness with piecewise-constant diffusion is integrated
 // exactly (degree 2p − 2); diffusion given by AFunc uses degree 2p; the
 // reaction term is exact (degree 2p); the load and the Neumann data use
-// degree p + LoadExtraDegree.
+// degree p + LoadExtraDegree; the Robin terms α ∫_E u v and ∫_E g_R v use
+// degree 2p + LoadExtraDegree (the first exact for constant α).
 const LoadExtraDegree = 2
 
 // Assemble builds the linear system of p on s. Every pass is split over
@@ -44,6 +45,9 @@ const LoadExtraDegree = 2
 // triangle are written directly, those of an edge through slots, and the
 // vertex diagonals are minus the row sums. Assemble is linear in the
 // number of triangles.
+//
+// The Robin terms are added edge by edge in ascending edge order, after
+// the element terms (see assembleRobin).
 //
 // It returns an error wrapping ErrNotFinite, with the triangle and point,
 // when the source, the diffusion or the boundary data evaluate to NaN or
@@ -80,6 +84,9 @@ func Assemble(s *Space, p *Problem) (*System, error) {
 	}
 	bnd := boundaryEdges(s.Mesh)
 	if err := assembleNeumann(s, p, bnd, b); err != nil {
+		return nil, err
+	}
+	if err := assembleRobin(s, p, bnd, a, b); err != nil {
 		return nil, err
 	}
 	fixed, g, err := dirichletValues(s, p, bnd)
@@ -286,11 +293,11 @@ func element(s *Space, p *Problem, r rules, w *elementWork, k int, ke, fe []floa
 			ke[i*ld+j] = ke[j*ld+i]
 		}
 	}
-	if p.F != nil {
+	if p.HasSource() {
 		for q := range r.load.Len() {
 			l := [3]float64{r.load.Bary[3*q], r.load.Bary[3*q+1], r.load.Bary[3*q+2]}
 			x, y := g.point(l)
-			f := p.F(x, y)
+			f := p.Source(x, y, g.region)
 			if math.IsNaN(f) || math.IsInf(f, 0) {
 				return atTriangle(k, x, y, fmt.Errorf("%w: source f = %g", ErrNotFinite, f))
 			}
@@ -372,7 +379,7 @@ func elementP1(p *Problem, r rules, g *geometry, t Tensor, k int, ke, fe []float
 			ke[3*i+j], ke[3*j+i] = v, v
 		}
 	}
-	if p.F == nil {
+	if !p.HasSource() {
 		return nil
 	}
 	f, err := loadP1(p, r, g, k)

@@ -99,7 +99,7 @@ func assembleP1(s *Space, p *Problem, r rules) (*Matrix, []float64, error) {
 	if p.C != 0 {
 		ea = make([]float64, 2*ne)
 	}
-	if p.F != nil {
+	if p.HasSource() {
 		eb = make([]float64, 4*ne)
 	}
 	rt := NewRegionTable(p)
@@ -223,7 +223,7 @@ func loadP1(p *Problem, r rules, g *geometry, k int) ([3]float64, error) {
 	for q := range r.load.Len() {
 		l := [3]float64{r.load.Bary[3*q], r.load.Bary[3*q+1], r.load.Bary[3*q+2]}
 		x, y := g.point(l)
-		f := p.F(x, y)
+		f := p.Source(x, y, g.region)
 		if math.IsNaN(f) || math.IsInf(f, 0) {
 			return fe, atTriangle(k, x, y, fmt.Errorf("%w: source f = %g", ErrNotFinite, f))
 		}

@@ -113,7 +113,7 @@ func assembleP2(s *Space, p *Problem, r rules, a *Matrix, b []float64) error {
 	})
 	// Loads: each goroutine adds those of the DOFs it owns, in triangle
 	// order.
-	if p.F != nil {
+	if p.HasSource() {
 		_ = parallel.For(a.Rows, 1<<14, func(lo, hi int) error {
 			l, h := int32(lo), int32(hi)
 			dofs := make([]int32, 0, 6)

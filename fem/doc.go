@@ -1,6 +1,7 @@
 // Package fem discretizes the elliptic problem
 //
-//	−∇·(a ∇u) + c u = f  in Ω,   u = g_D on Γ_D,   a ∇u·n = g_N on Γ_N
+//	−∇·(a ∇u) + c u = f  in Ω,   u = g_D on Γ_D,   a ∇u·n = g_N on Γ_N,
+//	a ∇u·n + α u = g_R on Γ_R
 //
 // with continuous Lagrange elements of degree 1 or 2 on a mesh.Mesh: spaces,
 // problem data, assembly into a sparse system, the linear solve, discrete
@@ -33,8 +34,14 @@
 // triangle's interior DOFs follow its edge DOFs (see RTSpace).
 //
 // Diffusion is a symmetric positive definite 2×2 tensor, constant on each
-// region (Problem.A) or a function of position (Problem.AFunc). The energy
-// norm of an error e is (∫ a∇e·∇e + c e²)^½.
+// region (Problem.A) or a function of position (Problem.AFunc). The source
+// is one function (Problem.F) or one per region (Problem.FRegion), read
+// through Problem.Source. The energy norm of a function v is
+//
+//	|||v||| = (∫ a∇v·∇v + c v² + Σ_{Robin E} ∫_E α v²)^½,
+//
+// the norm of the bilinear form; without Robin edges and reaction it is
+// ‖a^½∇v‖.
 //
 // Quadrature: Dunavant's symmetric rules on triangles and Gauss–Legendre
 // rules on edges (package internal/quadrature). The load uses degree

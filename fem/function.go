@@ -105,3 +105,17 @@ func (u *Function) Integral() float64 {
 	}
 	return sum
 }
+
+// EdgeValue returns the value of u at the point (1 − t) A + t B of edge e,
+// A = Edge[2e] and B = Edge[2e+1], from the DOFs of the edge alone (the
+// trace of u on an edge is a polynomial of the space's degree in t).
+func (u *Function) EdgeValue(e int, t float64) float64 {
+	var buf [3]float64
+	phi := edgeShape(u.Space.Degree, t, buf[:0])
+	m := u.Space.Mesh
+	v := u.U[m.Edge[2*e]]*phi[0] + u.U[m.Edge[2*e+1]]*phi[1]
+	if u.Space.Degree == 2 {
+		v += u.U[m.NumVertices()+e] * phi[2]
+	}
+	return v
+}

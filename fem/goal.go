@@ -315,16 +315,23 @@ func addGoalLoad(s *Space, p *Problem, b []float64) error {
 //	a(v, z) = J₀(v) for every v with v = 0 on the Dirichlet edges,
 //
 // as a Problem: p's diffusion, reaction and boundary tags, homogeneous
-// Dirichlet data on p's Dirichlet tags, no source, no Neumann data, and
-// g's load (Problem.Goal). The bilinear form is symmetric, so its matrix
-// is that of p; any solver of p solves it, and System.Dual builds its
-// system from p's without assembling the matrix again.
+// Dirichlet data on p's Dirichlet tags, p's Robin α with g_R = 0 on its
+// Robin tags, no source, no Neumann data, and g's load (Problem.Goal). The
+// bilinear form is symmetric, so its matrix is that of p; any solver of p
+// solves it, and System.Dual builds its system from p's without
+// assembling the matrix again.
 func Dual(p *Problem, g Goal) *Problem {
 	d := &Problem{A: p.A, AFunc: p.AFunc, C: p.C, PureNeumann: p.PureNeumann, Goal: g}
 	if len(p.Dirichlet) > 0 {
 		d.Dirichlet = make(map[int32]Func, len(p.Dirichlet))
 		for tag := range p.Dirichlet {
 			d.Dirichlet[tag] = nil
+		}
+	}
+	if len(p.Robin) > 0 {
+		d.Robin = make(map[int32]RobinData, len(p.Robin))
+		for tag, r := range p.Robin {
+			d.Robin[tag] = RobinData{Alpha: r.Alpha, AlphaFunc: r.AlphaFunc}
 		}
 	}
 	return d

@@ -19,9 +19,10 @@ import (
 // 1 at every node of Γ, 0 at every other node of the space), Green's
 // formula gives
 //
-//	J(u) = a(u, φ) + (c u, φ) − (f, φ) − ∫_{Γ_N∖Γ} g_N φ ds,
+//	J(u) = a(u, φ) + (c u, φ) + ∫_{Γ_R∖Γ} α u φ ds − (f, φ) − ∫_{Γ_N∖Γ} g_N φ ds − ∫_{Γ_R∖Γ} g_R φ ds,
 //
-// the negative of the residual (f, φ) − a(u, φ) − (c u, φ) + ∫ g_N φ, which
+// (Γ_R the Robin edges, where a∇u·n = g_R − α u), the negative of the
+// residual (f, φ) − a(u, φ) − (c u, φ) + ∫ g_N φ + ∫ (g_R − α u) φ, which
 // holds for the exact solution exactly, whatever the mesh, when the trace
 // of φ on the Dirichlet edges is the indicator of Γ: when no node of Γ
 // lies on a Dirichlet edge of another tag (Γ is closed, or its ends meet
@@ -35,10 +36,12 @@ import (
 // energy rate, where the energy-normal derivative at Γ converges at the
 // energy rate only.
 //
-// J₀(v) = a(v, φ) + (c v, φ) is the linear part (Load) and the data part
-// −(f, φ) − ∫_{Γ_N∖Γ} g_N φ is integrated by the scheme of Function.Error
-// for f and a 20-point Gauss–Legendre rule per Neumann edge. A tag that no
-// boundary edge carries gives ErrGoal.
+// J₀(v) = a(v, φ) + (c v, φ) + ∫_{Γ_R∖Γ} α v φ is the linear part (Load)
+// and the data part −(f, φ) − ∫_{Γ_N∖Γ} g_N φ − ∫_{Γ_R∖Γ} g_R φ is
+// integrated by the scheme of Function.Error for f, a 20-point
+// Gauss–Legendre rule per Neumann edge and the rule of the Robin terms of
+// Assemble per Robin edge (ExactValue integrates α u φ with the 20-point
+// rule). A tag that no boundary edge carries gives ErrGoal.
 //
 // References:
 //   - I. Babuška and A. Miller, The post-processing approach in the finite
@@ -82,8 +85,9 @@ func support(phi *Function) []bool {
 	return in
 }
 
-// Load writes a(φ_i, φ) + (c φ_i, φ), from the element matrices of the
-// triangles on which φ is not zero.
+// Load writes a(φ_i, φ) + (c φ_i, φ) + ∫_{Γ_R∖Γ} α φ_i φ, from the element
+// matrices of the triangles on which φ is not zero and the Robin edge
+// matrices of Assemble.
 func (g Flux) Load(dst []float64, s *Space, p *Problem) ([]float64, error) {
 	phi, err := g.Extension(s)
 	if err != nil {
@@ -93,14 +97,14 @@ func (g Flux) Load(dst []float64, s *Space, p *Problem) ([]float64, error) {
 	if p != nil {
 		q = *p
 	}
-	q.F, q.Goal = nil, nil
+	q.F, q.FRegion, q.Goal = nil, nil, nil
 	r, err := elementRules(s.Degree, &q)
 	if err != nil {
 		return nil, err
 	}
 	in := support(phi)
 	ld := s.LocalDOFs()
-	return elementLoads(dst, s, func(geo *geometry, k int, fe []float64) error {
+	dst, err = elementLoads(dst, s, func(geo *geometry, k int, fe []float64) error {
 		if !in[k] {
 			return nil
 		}
@@ -119,9 +123,55 @@ func (g Flux) Load(dst []float64, s *Space, p *Problem) ([]float64, error) {
 		}
 		return nil
 	})
+	if err != nil {
+		return nil, err
+	}
+	err = g.robinEdges(phi, p, func(ds []int32, me *[3][3]float64, _ *[3]float64) {
+		for i, di := range ds {
+			for j, dj := range ds {
+				dst[di] += me[i][j] * phi.U[dj]
+			}
+		}
+	})
+	return dst, err
 }
 
-// data returns the data part −(f, φ) − ∫_{Γ_N∖Γ} g_N φ ds.
+// robinEdges calls each with the DOFs, edge matrix and load of every Robin
+// edge not tagged Tag on which φ is not zero, in ascending edge order.
+func (g Flux) robinEdges(phi *Function, p *Problem, each func(ds []int32, me *[3][3]float64, be *[3]float64)) error {
+	if p == nil || len(p.Robin) == 0 {
+		return nil
+	}
+	s := phi.Space
+	m := s.Mesh
+	rule, err := robinRule(s.Degree)
+	if err != nil {
+		return err
+	}
+	var me [3][3]float64
+	var be [3]float64
+	for _, e := range boundaryEdges(m) {
+		r, ok := p.Robin[m.EdgeTag[e]]
+		if !ok || m.EdgeTag[e] == g.Tag {
+			continue
+		}
+		ds := edgeDOFs(s, int(e))
+		nonzero := false
+		for _, d := range ds {
+			nonzero = nonzero || phi.U[d] != 0
+		}
+		if !nonzero {
+			continue
+		}
+		if _, err := robinEdge(s, r, int(e), rule, &me, &be); err != nil {
+			return err
+		}
+		each(ds, &me, &be)
+	}
+	return nil
+}
+
+// data returns the data part −(f, φ) − ∫_{Γ_N∖Γ} g_N φ ds − ∫_{Γ_R∖Γ} g_R φ ds.
 func (g Flux) data(phi *Function, p *Problem) (float64, error) {
 	s := phi.Space
 	m := s.Mesh
@@ -129,7 +179,15 @@ func (g Flux) data(phi *Function, p *Problem) (float64, error) {
 	if p == nil {
 		return 0, nil
 	}
-	if p.F != nil {
+	err := g.robinEdges(phi, p, func(ds []int32, _ *[3][3]float64, be *[3]float64) {
+		for i, di := range ds {
+			d -= be[i] * phi.U[di]
+		}
+	})
+	if err != nil {
+		return 0, err
+	}
+	if p.HasSource() {
 		in := support(phi)
 		// The source has no exact solution to follow; its pieces are
 		// chosen by the rules of ErrorDegree (an Exact without singular
@@ -138,7 +196,7 @@ func (g Flux) data(phi *Function, p *Problem) (float64, error) {
 		v, err := goalIntegral(s, noSing, p, func(k int) bool { return in[k] }, nil, phi,
 			func(it *errorIntegrator, x, y float64, l [3]float64) float64 {
 				ph, _, _ := it.ev.Eval(l)
-				return p.Source(x, y) * ph
+				return p.Source(x, y, it.ev.g.region) * ph
 			})
 		if err != nil {
 			return 0, err
@@ -184,7 +242,8 @@ func (g Flux) data(phi *Function, p *Problem) (float64, error) {
 	return d, nil
 }
 
-// Value returns J(u_h) = a(u_h, φ) + (c u_h, φ) − (f, φ) − ∫_{Γ_N∖Γ} g_N φ.
+// Value returns J(u_h) = a(u_h, φ) + (c u_h, φ) + ∫_{Γ_R∖Γ} α u_h φ − (f, φ)
+// − ∫_{Γ_N∖Γ} g_N φ − ∫_{Γ_R∖Γ} g_R φ.
 func (g Flux) Value(u *Function, p *Problem) (float64, error) {
 	v, err := linearValue(g, u, p)
 	if err != nil {
@@ -200,7 +259,8 @@ func (g Flux) Value(u *Function, p *Problem) (float64, error) {
 
 // ExactValue returns J(u) for the exact solution: a(u, φ) + (c u, φ) by the
 // scheme of Function.Error (see goalIntegral) on the triangles where φ is
-// not zero, and the data part as Value takes it. For the cases stated in
+// not zero, ∫_{Γ_R∖Γ} α u φ by a 20-point Gauss–Legendre rule per edge,
+// and the data part as Value takes it. For the cases stated in
 // the type's doc, this is ∫_Γ a∇u·n ds itself.
 func (g Flux) ExactValue(s *Space, ex Exact, p *Problem) (float64, error) {
 	phi, err := g.Extension(s)
@@ -226,6 +286,54 @@ func (g Flux) ExactValue(s *Space, ex Exact, p *Problem) (float64, error) {
 	if err != nil {
 		return 0, err
 	}
+	rv, err := g.robinExact(phi, ex, p)
+	if err != nil {
+		return 0, err
+	}
 	d, err := g.data(phi, p)
-	return v + d, err
+	return v + rv + d, err
+}
+
+// robinExact returns ∫_{Γ_R∖Γ} α u φ ds for the exact solution, by a
+// 20-point Gauss–Legendre rule per edge.
+func (g Flux) robinExact(phi *Function, ex Exact, p *Problem) (float64, error) {
+	if len(p.Robin) == 0 {
+		return 0, nil
+	}
+	rule, err := quadrature.GaussLegendre(20)
+	if err != nil {
+		return 0, err
+	}
+	s := phi.Space
+	m := s.Mesh
+	v := 0.0
+	var sh []float64
+	for _, e := range boundaryEdges(m) {
+		tag := m.EdgeTag[e]
+		r, ok := p.Robin[tag]
+		if !ok || tag == g.Tag {
+			continue
+		}
+		ds := edgeDOFs(s, int(e))
+		ax, ay := m.Vertex(int(ds[0]))
+		bx, by := m.Vertex(int(ds[1]))
+		length := m.EdgeLength(int(e))
+		for q, t := range rule.X {
+			sh = edgeShape(s.Degree, t, sh)
+			ph := 0.0
+			for i, w := range sh {
+				ph += w * phi.U[ds[i]]
+			}
+			if ph == 0 {
+				continue
+			}
+			x, y := ax+t*(bx-ax), ay+t*(by-ay)
+			alpha, _, err := r.Values(tag, x, y)
+			if err != nil {
+				return 0, err
+			}
+			v += rule.W[q] * length * alpha * ex.U(x, y) * ph
+		}
+	}
+	return v, nil
 }

@@ -5,6 +5,7 @@ import (
 	"math"
 
 	"github.com/posteriori-fem/posteriori/internal/parallel"
+	"github.com/posteriori-fem/posteriori/internal/quadrature"
 )
 
 // Exact is a known solution for measuring true errors.
@@ -31,9 +32,12 @@ type Exact struct {
 
 // Errors holds the norms of the error e = u − u_h.
 type Errors struct {
-	L2     float64 // ‖e‖ in L²(Ω)
-	H1     float64 // |e|_H¹ = ‖∇e‖ in L²(Ω), the H¹ seminorm
-	Energy float64 // the energy norm (∫ a∇e·∇e + c e²)^½, equal to ‖a^½ ∇e‖ when c = 0
+	L2 float64 // ‖e‖ in L²(Ω)
+	H1 float64 // |e|_H¹ = ‖∇e‖ in L²(Ω), the H¹ seminorm
+	// Energy is the energy norm of the problem,
+	// (∫ a∇e·∇e + c e² + Σ_{Robin E} ∫_E α e²)^½, equal to ‖a^½ ∇e‖
+	// when c = 0 and there are no Robin edges.
+	Energy float64
 }
 
 // ErrorDegree is the degree of the rule Error uses on every triangle when
@@ -74,6 +78,11 @@ const ErrorDegree = 10
 //     degree ErrorDegree, exact for polynomial integrands of that degree
 //     and no more.
 //
+// On a problem with Robin edges the energy error includes the boundary
+// term Σ_E ∫_E α e² ds, integrated by a 20-point Gauss–Legendre rule per
+// edge (exact for polynomial integrands of degree 39) and added to the
+// triangle of the edge; the L² and H¹ norms are those of Ω alone.
+//
 // The triangles are split over GOMAXPROCS goroutines and the sums are
 // taken in triangle order, so the result does not depend on GOMAXPROCS.
 func (u *Function) Error(dst []float64, ex Exact, p *Problem) ([]float64, Errors, error) {
@@ -82,7 +91,8 @@ func (u *Function) Error(dst []float64, ex Exact, p *Problem) ([]float64, Errors
 
 // EnergyError returns the squared energy error of each triangle in dst
 // (resized; a nil dst allocates) and the total energy error
-// (∫ a∇e·∇e + c e²)^½ of e = u − u_h, with the accuracy stated for Error.
+// (∫ a∇e·∇e + c e² + Σ_{Robin E} ∫_E α e²)^½ of e = u − u_h, with the
+// accuracy stated for Error.
 // It skips the L² and H¹ norms: the rules are chosen for the energy alone,
 // and u itself is not evaluated when c = 0.
 func (u *Function) EnergyError(dst []float64, ex Exact, p *Problem) ([]float64, float64, error) {
@@ -134,6 +144,9 @@ func (u *Function) errors(dst []float64, ex Exact, p *Problem, energyOnly bool) 
 	if err != nil {
 		return dst, Errors{}, err
 	}
+	if err := u.robinError(dst, ex, p); err != nil {
+		return dst, Errors{}, err
+	}
 	var e Errors
 	for k := range nt {
 		e.Energy += dst[k]
@@ -146,6 +159,182 @@ func (u *Function) errors(dst []float64, ex Exact, p *Problem, energyOnly bool) 
 	}
 	e.L2, e.H1, e.Energy = math.Sqrt(e.L2), math.Sqrt(e.H1), math.Sqrt(e.Energy)
 	return dst, e, nil
+}
+
+// energyP1 writes the energy of u on the triangles [lo, hi) into part, for
+// P1 and piecewise-constant a, in closed form.
+func energyP1(u *Function, p *Problem, rt *RegionTable, lo, hi int, part []float64) {
+	m := u.Space.Mesh
+	x, uu := m.X, u.U
+	for k := lo; k < hi; k++ {
+		t := m.Tri[3*k : 3*k+3 : 3*k+3]
+		x0, y0 := x[2*t[0]], x[2*t[0]+1]
+		ax, ay := x[2*t[1]]-x0, x[2*t[1]+1]-y0
+		bx, by := x[2*t[2]]-x0, x[2*t[2]+1]-y0
+		d := ax*by - ay*bx // 2|T|
+		u0, u1, u2 := uu[t[0]], uu[t[1]], uu[t[2]]
+		du1, du2 := u1-u0, u2-u0
+		gx, gy := (by*du1-ay*du2)/d, (ax*du2-bx*du1)/d
+		fx, fy := rt.At(m.Region[k]).Apply(gx, gy)
+		v := 0.5 * d * (fx*gx + fy*gy)
+		if p.C != 0 {
+			s := u0 + u1 + u2
+			v += p.C * d / 24 * (u0*u0 + u1*u1 + u2*u2 + s*s)
+		}
+		part[k] = v
+	}
+}
+
+// robinError adds ∫_E α (u − u_h)² ds of each Robin edge E to e2 at the
+// triangle of E, in ascending edge order, by a 20-point Gauss–Legendre
+// rule.
+func (u *Function) robinError(e2 []float64, ex Exact, p *Problem) error {
+	if len(p.Robin) == 0 {
+		return nil
+	}
+	rule, err := quadrature.GaussLegendre(20)
+	if err != nil {
+		return err
+	}
+	m := u.Space.Mesh
+	for _, e := range boundaryEdges(m) {
+		tag := m.EdgeTag[e]
+		r, ok := p.Robin[tag]
+		if !ok {
+			continue
+		}
+		ax, ay := m.Vertex(int(m.Edge[2*e]))
+		bx, by := m.Vertex(int(m.Edge[2*e+1]))
+		length := m.EdgeLength(int(e))
+		s := 0.0
+		for q, t := range rule.X {
+			x, y := ax+t*(bx-ax), ay+t*(by-ay)
+			alpha, _, err := r.Values(tag, x, y)
+			if err != nil {
+				return err
+			}
+			d := ex.U(x, y) - u.EdgeValue(int(e), t)
+			if math.IsNaN(d) || math.IsInf(d, 0) {
+				return atTag(tag, fmt.Errorf("%w: exact solution at (%g, %g)", ErrNotFinite, x, y))
+			}
+			s += rule.W[q] * alpha * d * d
+		}
+		e2[m.EdgeTri[2*e]] += s * length
+	}
+	return nil
+}
+
+// EnergyNorm returns the energy norm of u for the problem p,
+//
+//	|||u|||² = ∫ a∇u·∇u + c u² + Σ_{Robin E} ∫_E α u²,
+//
+// the norm in which the estimators measure the error, by the quadrature of
+// Assemble (exact for piecewise-constant a and constant α; for AFunc and
+// AlphaFunc, the rules of degree 2p and 2p + LoadExtraDegree). It is how
+// package adapt's relative tolerance scales η. The value is integrated
+// rather than taken as uᵀAu from an assembled system, because the system's
+// rows at Dirichlet nodes are those of the identity and a caller's
+// solver has no system of this package; the cost is one pass over the
+// triangles, split over GOMAXPROCS goroutines and summed in triangle
+// order (then the Robin edges in ascending order), so the result does not
+// depend on GOMAXPROCS. Data that are NaN or infinite give an error
+// wrapping ErrNotFinite; a nil problem means a = 1, c = 0.
+//
+// Fast path for P1 with piecewise-constant a: each triangle's term in
+// closed form from the nodal values, |T| ∇u·a∇u + c|T|/12 (Σ u_i² +
+// (Σ u_i)²), with the diffusion from a RegionTable; otherwise the general
+// quadrature above.
+func (u *Function) EnergyNorm(p *Problem) (float64, error) {
+	return u.energyNorm(p, false)
+}
+
+// energyNorm is EnergyNorm; general skips the fast path (tests).
+func (u *Function) energyNorm(p *Problem, general bool) (float64, error) {
+	if u == nil || u.Space == nil || len(u.U) != u.Space.NumDOF() {
+		return 0, fmt.Errorf("fem: EnergyNorm: a function with one value per DOF is needed: %w", ErrArgument)
+	}
+	if p == nil {
+		p = &Problem{}
+	}
+	s := u.Space
+	m := s.Mesh
+	deg := s.Degree
+	r, err := elementRules(deg, p)
+	if err != nil {
+		return 0, err
+	}
+	nt := m.NumTriangles()
+	part := make([]float64, nt)
+	fast := deg == 1 && p.PiecewiseConstant() && !general
+	rt := NewRegionTable(p)
+	err = parallel.For(nt, 1024, func(lo, hi int) error {
+		if fast {
+			energyP1(u, p, rt, lo, hi, part)
+			return nil
+		}
+		ev := NewEvaluator(u)
+		for k := lo; k < hi; k++ {
+			ev.Load(k)
+			g := &ev.g
+			cx, cy := g.point([3]float64{1. / 3, 1. / 3, 1. / 3})
+			t := p.Diffusion(cx, cy, g.region)
+			v := 0.0
+			for q := range r.stiff.Len() {
+				l := [3]float64{r.stiff.Bary[3*q], r.stiff.Bary[3*q+1], r.stiff.Bary[3*q+2]}
+				_, gx, gy := ev.Eval(l)
+				if !p.PiecewiseConstant() {
+					x, y := g.point(l)
+					if t = p.Diffusion(x, y, g.region); !t.valid() {
+						return atTriangle(k, x, y, fmt.Errorf("%w: %+v", ErrDiffusion, t))
+					}
+				}
+				fx, fy := t.Apply(gx, gy)
+				v += r.stiff.W[q] * (fx*gx + fy*gy)
+			}
+			if p.C != 0 {
+				for q := range r.mass.Len() {
+					w, _, _ := ev.Eval([3]float64{r.mass.Bary[3*q], r.mass.Bary[3*q+1], r.mass.Bary[3*q+2]})
+					v += p.C * r.mass.W[q] * w * w
+				}
+			}
+			part[k] = v * g.area
+		}
+		return nil
+	})
+	if err != nil {
+		return 0, err
+	}
+	n2 := 0.0
+	for _, v := range part {
+		n2 += v
+	}
+	if len(p.Robin) > 0 {
+		rule, err := robinRule(deg)
+		if err != nil {
+			return 0, err
+		}
+		var me [3][3]float64
+		var be [3]float64
+		for _, e := range boundaryEdges(m) {
+			rd, ok := p.Robin[m.EdgeTag[e]]
+			if !ok {
+				continue
+			}
+			if _, err := robinEdge(s, rd, int(e), rule, &me, &be); err != nil {
+				return 0, err
+			}
+			ds := edgeDOFs(s, int(e))
+			for i, di := range ds {
+				for j, dj := range ds {
+					n2 += me[i][j] * u.U[di] * u.U[dj]
+				}
+			}
+		}
+	}
+	if math.IsNaN(n2) || math.IsInf(n2, 0) {
+		return 0, fmt.Errorf("fem: EnergyNorm: %w: the norm of u is %g", ErrNotFinite, n2)
+	}
+	return math.Sqrt(max(n2, 0)), nil
 }
 
 func resize(dst []float64, n int) []float64 {

@@ -34,9 +34,13 @@ type Func func(x, y float64) float64
 //	−∇·(a ∇u) + c u = f   in Ω,
 //	u = g_D               on the Dirichlet edges,
 //	a ∇u · n = g_N        on the Neumann edges,
+//	a ∇u · n + α u = g_R  on the Robin edges,
 //
-// with n the outward unit normal. Boundary edges whose tag is in neither map
-// carry the natural condition a ∇u · n = 0.
+// with n the outward unit normal. Boundary edges whose tag is in none of
+// the three maps carry the natural condition a ∇u · n = 0. The energy norm
+// of the problem is
+//
+//	|||v|||² = ‖a^½∇v‖² + c ‖v‖² + Σ_{Robin E} ‖α^½ v‖²_E.
 type Problem struct {
 	// A gives the diffusion tensor of each region. If A and AFunc are both
 	// nil, a = 1 everywhere. A region that occurs in the mesh but not in A is
@@ -49,12 +53,22 @@ type Problem struct {
 	C float64
 	// F is the source f; nil means 0.
 	F Func
+	// FRegion, if not nil, gives the source at a point of a region and
+	// takes precedence over F: a source that differs between materials
+	// needs no test of position. Every stage that reads the source
+	// (assembly, estimators, goal functionals) reads it through Source.
+	FRegion func(x, y float64, region int32) float64
 	// Dirichlet gives g_D by boundary tag; a nil Func means 0. Where edges of
 	// several Dirichlet tags meet, the smallest tag's data is used.
 	Dirichlet map[int32]Func
 	// Neumann gives g_N by boundary tag; a nil Func means 0.
 	Neumann map[int32]Func
-	// PureNeumann allows a problem with no Dirichlet edges and c = 0. Its
+	// Robin gives the condition a∇u·n + α u = g_R by boundary tag (see
+	// RobinData). A tag may be in only one of Dirichlet, Neumann and
+	// Robin.
+	Robin map[int32]RobinData
+	// PureNeumann allows a problem with no Dirichlet edges, no Robin edges
+	// with α > 0 and c = 0. Its
 	// solution is fixed by zero mean value; the load is made compatible by
 	// removing its component along the constants.
 	PureNeumann bool
@@ -82,20 +96,32 @@ func (p *Problem) Diffusion(x, y float64, region int32) Tensor {
 // region (given by A, or the default a = 1).
 func (p *Problem) PiecewiseConstant() bool { return p.AFunc == nil }
 
-// Source returns f(x, y), or 0 where F is nil.
-func (p *Problem) Source(x, y float64) float64 {
-	if p.F == nil {
-		return 0
+// Source returns the source at (x, y) in the given region: FRegion if set,
+// else F, else 0.
+func (p *Problem) Source(x, y float64, region int32) float64 {
+	switch {
+	case p.FRegion != nil:
+		return p.FRegion(x, y, region)
+	case p.F != nil:
+		return p.F(x, y)
 	}
-	return p.F(x, y)
+	return 0
 }
 
+// HasSource reports whether the problem has a source (F or FRegion set).
+func (p *Problem) HasSource() bool { return p.F != nil || p.FRegion != nil }
+
 // Check verifies the problem against a mesh: the diffusion of every region
-// in A is finite and positive definite, c is finite and ≥ 0, every Dirichlet
-// and Neumann tag is carried by some boundary edge and no tag is in both,
-// and the problem is well posed (a Dirichlet edge or c > 0, unless
-// PureNeumann). Values of F, AFunc and the boundary data are checked where
-// they are evaluated, during assembly.
+// in A is finite and positive definite, c is finite and ≥ 0, every
+// Dirichlet, Neumann and Robin tag is carried by some boundary edge and no
+// tag is in two of the maps, every constant Robin α is finite and ≥ 0, and
+// the problem is well posed: each connected piece of the mesh has a
+// Dirichlet edge or a Robin edge whose tag has α > 0 (Alpha > 0 or AlphaFunc
+// set), or c > 0, unless PureNeumann. Values of F, FRegion, AFunc,
+// AlphaFunc and the boundary data are checked where they are evaluated,
+// during assembly (which also rejects a problem whose only Robin α is an
+// AlphaFunc that vanishes on every Robin edge, when it is not otherwise
+// well posed).
 func (p *Problem) Check(m *mesh.Mesh) error {
 	if p == nil {
 		return fmt.Errorf("fem: Problem.Check: nil problem: %w", ErrArgument)
@@ -125,7 +151,20 @@ func (p *Problem) Check(m *mesh.Mesh) error {
 			return atTag(tag, fmt.Errorf("%w: a Neumann tag that no boundary edge carries", ErrBoundaryCondition))
 		}
 	}
-	if len(p.Dirichlet) == 0 && p.C == 0 && !p.PureNeumann {
+	for _, tag := range p.RobinTags() {
+		r := p.Robin[tag]
+		switch {
+		case !tags[tag]:
+			return atTag(tag, fmt.Errorf("%w: a Robin tag that no boundary edge carries", ErrBoundaryCondition))
+		case p.isDirichlet(tag):
+			return atTag(tag, fmt.Errorf("%w: given both as Dirichlet and as Robin", ErrBoundaryCondition))
+		case p.Neumann != nil && hasKey(p.Neumann, tag):
+			return atTag(tag, fmt.Errorf("%w: given both as Neumann and as Robin", ErrBoundaryCondition))
+		case math.IsNaN(r.Alpha) || math.IsInf(r.Alpha, 0) || r.Alpha < 0:
+			return atTag(tag, fmt.Errorf("%w: Robin α = %g, want a finite value ≥ 0", ErrBoundaryCondition, r.Alpha))
+		}
+	}
+	if p.pureNeumann() && !p.PureNeumann {
 		return fmt.Errorf("fem: %w (set PureNeumann to solve it up to a constant)", ErrIllPosed)
 	}
 	if p.C == 0 {
@@ -207,21 +246,42 @@ func (p *Problem) checkPieces(m *mesh.Mesh) error {
 		return nil
 	}
 	label, n := m.Components()
-	if len(p.Dirichlet) == 0 {
+	if p.pureNeumann() {
 		return fmt.Errorf("fem: %w: a pure Neumann problem on a mesh of %d disconnected pieces", ErrIllPosed, n)
 	}
 	fixed := make([]bool, n)
 	for e := range m.NumEdges() {
-		if _, ok := p.Dirichlet[m.EdgeTag[e]]; ok && m.IsBoundary(e) {
+		if m.IsBoundary(e) && p.fixesConstant(m.EdgeTag[e]) {
 			fixed[label[m.EdgeTri[2*e]]] = true
 		}
 	}
 	for k, l := range label {
 		if !fixed[l] {
-			return atPiece(k, fmt.Errorf("%w: the piece of the mesh that holds this triangle (%d pieces in all) has no Dirichlet edge", ErrIllPosed, n))
+			return atPiece(k, fmt.Errorf("%w: the piece of the mesh that holds this triangle (%d pieces in all) has no Dirichlet edge and no Robin edge with α > 0", ErrIllPosed, n))
 		}
 	}
 	return nil
+}
+
+// fixesConstant reports whether an edge of the tag fixes the constant of
+// a problem without reaction: a Dirichlet edge, or a Robin edge whose α
+// may be positive (Alpha > 0 or AlphaFunc set).
+func (p *Problem) fixesConstant(tag int32) bool {
+	if p.isDirichlet(tag) {
+		return true
+	}
+	r, ok := p.Robin[tag]
+	return ok && (r.Alpha > 0 || r.AlphaFunc != nil)
+}
+
+func (p *Problem) isDirichlet(tag int32) bool {
+	_, ok := p.Dirichlet[tag]
+	return ok
+}
+
+func hasKey[V any](m map[int32]V, k int32) bool {
+	_, ok := m[k]
+	return ok
 }
 
 // DirichletTags returns the Dirichlet tags in ascending order.
@@ -234,5 +294,32 @@ func (p *Problem) DirichletTags() []int32 {
 	return tags
 }
 
-// pureNeumann reports whether the solution is fixed only up to a constant.
-func (p *Problem) pureNeumann() bool { return len(p.Dirichlet) == 0 && p.C == 0 }
+// RobinTags returns the Robin tags in ascending order.
+func (p *Problem) RobinTags() []int32 {
+	tags := make([]int32, 0, len(p.Robin))
+	for t := range p.Robin {
+		tags = append(tags, t)
+	}
+	slices.Sort(tags)
+	return tags
+}
+
+// pureNeumann reports whether the solution is fixed only up to a
+// constant: no Dirichlet edge, no Robin tag with α that may be positive,
+// and c = 0.
+func (p *Problem) pureNeumann() bool {
+	if len(p.Dirichlet) > 0 || p.C != 0 {
+		return false
+	}
+	for _, r := range p.Robin {
+		if r.Alpha > 0 || r.AlphaFunc != nil {
+			return false
+		}
+	}
+	return true
+}
+
+// IsPureNeumann reports whether the solution of p is fixed only up to a
+// constant (no Dirichlet edge, no Robin tag with α > 0 or an AlphaFunc,
+// and c = 0): the case that Problem.PureNeumann must allow.
+func (p *Problem) IsPureNeumann() bool { return p.pureNeumann() }

@@ -97,6 +97,8 @@ func supported(p *fem.Problem) error {
 		return errors.New("in-house solver: the reaction term c u is not implemented")
 	case p.PureNeumann:
 		return errors.New("in-house solver: pure Neumann problems are not implemented")
+	case len(p.Robin) > 0:
+		return errors.New("in-house solver: Robin conditions are not implemented")
 	}
 	for tag, gn := range p.Neumann {
 		if gn != nil {
@@ -309,7 +311,7 @@ func element(s *fem.Space, p *fem.Problem, k int) (ke [3][3]float64, fe [3]float
 	for _, l := range quad3 {
 		qx := l[0]*x[0] + l[1]*x[1] + l[2]*x[2]
 		qy := l[0]*y[0] + l[1]*y[1] + l[2]*y[2]
-		f := p.Source(qx, qy)
+		f := p.Source(qx, qy, m.Region[k])
 		if math.IsNaN(f) || math.IsInf(f, 0) {
 			return ke, fe, fmt.Errorf("in-house solver: source f = %g at (%g, %g)", f, qx, qy)
 		}
