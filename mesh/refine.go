@@ -146,7 +146,7 @@ func (m *Mesh) Refine(marked []bool) (*Mesh, *Parents, error) {
 	for k := range nt {
 		p.Triangle[k] = int32(k)
 	}
-	var moved []bool  // per new vertex: whether it sits on a curve
+	var moved []bool    // per new vertex: whether it sits on a curve
 	var chord []float64 // per new vertex: its chord midpoint
 	if m.EdgeCurve != nil {
 		r.m.Curves = m.Curves
