@@ -79,6 +79,11 @@ func Triangulate(d *Domain, o Options) (*Mesh, *Report, error) {
 	if err := d.check(&o); err != nil {
 		return nil, nil, err
 	}
+	np0 := len(d.Points) / 2
+	d, segOrig, ptSeg, err := d.presplit(&o)
+	if err != nil {
+		return nil, nil, err
+	}
 	np, ns := len(d.Points)/2, len(d.Segments)/2
 	x0, y0, x1, y1 := math.Inf(1), math.Inf(1), math.Inf(-1), math.Inf(-1)
 	for p := range np {
@@ -89,6 +94,9 @@ func Triangulate(d *Domain, o Options) (*Mesh, *Report, error) {
 	pv := make([]int32, np) // cdt vertex of each point
 	for p := range np {
 		v, dup := c.insert(d.Points[2*p], d.Points[2*p+1])
+		if dup && p >= np0 {
+			return nil, nil, domErr(-1, int(ptSeg[p-np0]), -1, -1, ErrIntersect, "its curve passes through another point at (%g, %g)", d.Points[2*p], d.Points[2*p+1])
+		}
 		if v < 0 || dup {
 			// check has excluded duplicates and the enclosing triangle
 			// holds every point, so this is a broken invariant.
@@ -98,14 +106,18 @@ func Triangulate(d *Domain, o Options) (*Mesh, *Report, error) {
 	}
 	for s := range ns {
 		a, b := pv[d.Segments[2*s]], pv[d.Segments[2*s+1]]
+		s0 := int(segOrig[s]) // the caller's segment
 		switch outcome, other := c.insertSegment(a, b, int32(s)); outcome {
 		case segCrosses:
-			return nil, nil, domErr(-1, s, -1, -1, ErrIntersect, "it crosses segment %d", other)
+			return nil, nil, domErr(-1, s0, -1, -1, ErrIntersect, "it crosses segment %d", segOrig[other])
 		case segRepeated:
-			return nil, nil, domErr(-1, s, -1, -1, ErrIntersect, "it joins the ends of segment %d again", other)
+			return nil, nil, domErr(-1, s0, -1, -1, ErrIntersect, "it joins the ends of segment %d again", segOrig[other])
 		case segThrough:
 			q := slices.Index(pv, other)
-			return nil, nil, domErr(q, s, -1, -1, ErrIntersect, "point %d lies inside the segment", q)
+			if q >= np0 {
+				return nil, nil, domErr(-1, s0, -1, -1, ErrIntersect, "a point that curved segment %d adds lies inside the segment", ptSeg[q-np0])
+			}
+			return nil, nil, domErr(q, s0, -1, -1, ErrIntersect, "point %d lies inside the segment", q)
 		}
 	}
 	// Locate holes and seeds before anything is removed.
@@ -166,9 +178,21 @@ func Triangulate(d *Domain, o Options) (*Mesh, *Report, error) {
 			return nil, nil, err
 		}
 	}
+	if rep.OffCurve, err = r.followCurves(segOrig); err != nil {
+		return nil, nil, err
+	}
 	m, err := r.output(rep)
 	if err != nil {
 		return nil, nil, within("Triangulate", err)
+	}
+	if np > np0 {
+		// Points added on curved segments count as added vertices.
+		for _, v := range rep.Vertex[np0:] {
+			if v >= 0 {
+				rep.Added++
+			}
+		}
+		rep.Vertex = rep.Vertex[:np0]
 	}
 	return m, rep, nil
 }
