@@ -21,7 +21,37 @@ import (
 // order) are appended after the vertices of m. Edges keep their numbers: the
 // half of a bisected edge that holds its lower vertex keeps the edge's
 // number; the other halves and the new interior edges are appended.
-// Regions and boundary tags are inherited.
+// Regions, boundary tags and curves are inherited.
+//
+// # Curved boundary edges
+//
+// The new vertex of a boundary edge that follows a curve (EdgeCurve ≥ 0,
+// see WithCurves) goes on the curve: at the curve's projection of the
+// chord midpoint, which for a Circle is the midpoint of the arc. Both
+// halves follow the same curve. The triangles stay straight: the mesh is
+// a polygon inscribed in the curve, and its area approaches the enclosed
+// area as h², as for the regular n-gon, whose area is (n/2) R² sin(2π/n).
+// The geometry error of such a polygon is of order h in the energy norm,
+// enough for P1; for P2 it is bounded by O(h^{3/2}) under uniform
+// refinement (Strang and Fix 1973, §4.4), below the O(h²) of smooth
+// solutions, which curved (isoparametric) elements restore (Lenoir 1986).
+// In the adaptive loop, TestCurvedRates (package adapt) measures rates of
+// 1.15 and 1.09 for P2 on a disc and an annulus up to 2·10⁴ DOFs,
+// against stalling at the initial polygon's error without curves.
+//
+// Near an interior vertex the move could flatten or invert a triangle
+// (where the curve bends towards a vertex that lies closer to the chord
+// than the curve's distance to it). The move is kept only if every new
+// triangle at the vertex keeps at least MinCurveArea (one half) of the
+// area it has with the vertex at the chord midpoint; otherwise the vertex
+// stays at the chord midpoint, Parents.Chord lists it, and the mesh
+// remains a valid straight bisection there. Its edge halves still follow
+// the curve, so later bisections try again. The check is local: a curve
+// that bulges outward across another part of the boundary, closer than
+// the bulge, is not detected.
+//
+// A projection that is NaN or infinite is an error (a *CurveError at the
+// edge, wrapping ErrNotFinite), and no mesh is returned.
 //
 // marked must have one entry per triangle. A mesh with no triangles (such
 // as the zero Mesh) or with arrays of inconsistent lengths is rejected with
@@ -49,6 +79,11 @@ import (
 //     with convergence rates, Numer. Math. 97 (2004) 219–268.
 //   - R. Stevenson, The completion of locally refined simplicial partitions
 //     created by bisection, Math. Comp. 77 (2008) 227–241.
+//   - G. Strang and G. J. Fix, An Analysis of the Finite Element Method,
+//     Prentice-Hall, 1973, §4.4 (from memory).
+//   - M. Lenoir, Optimal isoparametric finite elements and error estimates
+//     for domains involving curved boundaries, SIAM J. Numer. Anal. 23
+//     (1986) 562–580.
 func (m *Mesh) Refine(marked []bool) (*Mesh, *Parents, error) {
 	if err := checkShape(m, "Refine"); err != nil {
 		return nil, nil, err

@@ -52,6 +52,22 @@ import (
 // When the refinement would need more than MaxVertices vertices it stops
 // with ErrVertexLimit and returns no mesh.
 //
+// # Curved segments
+//
+// A segment with a curve (Domain.SegCurve) is first cut on its curve, at
+// the projections of chord midpoints, until each piece's chord lies
+// within 1/16 of its length of the curve (about 28.5° of arc on a circle)
+// and is no longer than the size bound; the pieces are then meshed as
+// segments, and the vertices the refinement adds on them are moved from
+// the chord onto the curve at the end, under Refine's rule for curved
+// edges (MinCurveArea; Report.OffCurve counts the vertices left on the
+// chord). The angles in Report are those after the move. The boundary
+// edges along the segment carry its curve (Mesh.EdgeCurve). The ends of a
+// curved segment must lie on its curve within CurveTol times the size of
+// the domain (ErrOffCurve), its curve must be usable (ErrCurve), its
+// projections finite (ErrNotFinite), and it must bound the domain, not
+// separate two parts of it (ErrCurve).
+//
 // Bad input gives a *DomainError located at the point, segment, hole or
 // seed: see Domain and the Err values.
 //

@@ -28,8 +28,11 @@ type Parents struct {
 //	(m2, m0, v0), (m2, v1, m0), (m1, m0, v2), (m1, v0, m0)
 //
 // so child 4k+c of the new mesh lies in triangle k. The midpoint of old edge
-// e is new vertex NumVertices()+e. Regions and boundary tags are inherited.
-// RefineUniform is linear in the size of the mesh.
+// e is new vertex NumVertices()+e. Regions, boundary tags and curves are
+// inherited; the new vertex of a curved edge goes on its curve by Refine's
+// rule (see Refine, "Curved boundary edges"), and then child 4k+c lies in
+// triangle k only up to the bulge of the curve. RefineUniform is linear in
+// the size of the mesh.
 func (m *Mesh) RefineUniform() (*Mesh, *Parents, error) {
 	if err := checkShape(m, "RefineUniform"); err != nil {
 		return nil, nil, err
