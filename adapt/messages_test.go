@@ -153,7 +153,7 @@ func TestSentinelsHaveNoPrefix(t *testing.T) {
 		mesh.ErrLength, mesh.ErrEmpty, mesh.ErrIndex, mesh.ErrRepeatedVertex, mesh.ErrNotFinite, mesh.ErrZeroArea,
 		mesh.ErrNonManifold, mesh.ErrOverlap, mesh.ErrNotAnEdge, mesh.ErrNotBoundary, mesh.ErrDuplicateEdge, mesh.ErrNegativeTag,
 		mesh.ErrUnusedVertex, mesh.ErrCoincident, mesh.ErrArgument, mesh.ErrFormat, mesh.ErrTooLarge,
-		mesh.ErrZeroLength, mesh.ErrUnclosed, mesh.ErrIntersect, mesh.ErrOutside, mesh.ErrSeedConflict, mesh.ErrVertexLimit,
+		mesh.ErrZeroLength, mesh.ErrUnclosed, mesh.ErrIntersect, mesh.ErrOutside, mesh.ErrSeedConflict, mesh.ErrVertexLimit, mesh.ErrOffCurve, mesh.ErrCurve,
 		fem.ErrArgument, fem.ErrDegree, fem.ErrDiffusion, fem.ErrReaction, fem.ErrNotFinite, fem.ErrIllPosed, fem.ErrBoundaryCondition,
 		fem.ErrRegion, fem.ErrNotConverged, fem.ErrOutside,
 		estimate.ErrArgument, estimate.ErrNotFinite, estimate.ErrLength, estimate.ErrTooFew,

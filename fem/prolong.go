@@ -7,11 +7,22 @@ import (
 )
 
 // Prolong carries u to the space s on a mesh refined from u's mesh, by
-// interpolation: each DOF of s takes the value of u at its node, evaluated
-// in the parent triangle that contains it. A function of u's space is
-// carried exactly (to rounding), since refinement only subdivides its
-// triangles. p is the parent map returned by the refinement. Prolong is
-// linear in the size of s.
+// interpolation: each DOF of s takes the value at its node of the
+// polynomial of u on the node's parent triangle (p.Triangle of a new
+// triangle that holds the node). The DOFs at old vertices keep their
+// values. On straight edges the refinement only subdivides the triangles,
+// so a function of u's space is carried exactly (to rounding).
+//
+// Where the refinement put a new vertex on a curve (mesh.Refine), the new
+// triangles at it are not inside their parent: the vertex, and the P2
+// nodes on the new edges at it, may lie outside the parent triangle, and
+// Prolong evaluates the parent's polynomial there (its barycentric
+// coordinates may be negative: an extrapolation by the same polynomial).
+// So a polynomial of u's degree is still carried exactly, and u's values
+// at the old vertices are kept.
+//
+// p is the parent map returned by the refinement. Prolong is linear in the
+// size of s.
 func (u *Function) Prolong(s *Space, p *mesh.Parents) (*Function, error) {
 	old := u.Space.Mesh
 	m := s.Mesh

@@ -117,6 +117,21 @@ func checkShape(m *Mesh, who string) error {
 	case len(m.Region) != nt || len(m.TriEdge) != 3*nt || len(m.EdgeTri) != 2*ne || len(m.EdgeTag) != ne:
 		return fmt.Errorf("mesh: %s: Region, TriEdge, EdgeTri or EdgeTag has the wrong length (build meshes with New): %w", who, ErrLength)
 	}
+	if m.EdgeCurve != nil && len(m.EdgeCurve) != ne {
+		return fmt.Errorf("mesh: %s: len(EdgeCurve) = %d, want %d (build curved meshes with WithCurves): %w", who, len(m.EdgeCurve), ne, ErrLength)
+	}
+	for e, c := range m.EdgeCurve {
+		switch {
+		case c < -1 || int(c) >= len(m.Curves):
+			return fmt.Errorf("mesh: %s: edge %d: curve %d of %d: %w", who, e, c, len(m.Curves), ErrIndex)
+		case c >= 0 && m.EdgeTri[2*e+1] >= 0:
+			return fmt.Errorf("mesh: %s: edge %d: %w: a curve on an interior edge", who, e, ErrCurve)
+		case c >= 0:
+			if err := checkCurve(m.Curves[c]); err != nil {
+				return fmt.Errorf("mesh: %s: edge %d: %w", who, e, err)
+			}
+		}
+	}
 	for _, v := range m.Tri {
 		if v < 0 || int(v) >= nv {
 			return fmt.Errorf("mesh: %s: triangle vertex %d out of range: %w", who, v, ErrIndex)

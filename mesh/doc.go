@@ -30,6 +30,18 @@
 // was given); an interior edge carries Interior (-1). A region is an
 // arbitrary int32 per triangle, 0 by default.
 //
+// A boundary edge may follow a curve (a Circle, or a caller's
+// ProjectFunc): Mesh.EdgeCurve names it, WithCurves attaches curves by
+// boundary tag, and Triangulate by Domain.SegCurve. Bisection puts the new
+// vertex of a curved edge on the curve (the projection of the chord
+// midpoint; for a circle the arc midpoint) instead of at the chord
+// midpoint, unless that would leave a new triangle with less than
+// MinCurveArea of its straight area (the curve bending close to an
+// interior vertex): then the vertex stays at the chord midpoint and
+// Parents.Chord lists it. Triangles stay straight. Relabel, TagBoundary,
+// MergeCoincident and the file formats do not keep curves: attach them
+// again with WithCurves.
+//
 // Uniform refinement cuts each triangle into four by bisecting it twice,
 // so that the newest-vertex labelling, and with it the bound on the number
 // of triangle shapes, is kept.

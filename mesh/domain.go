@@ -32,6 +32,12 @@ import (
 // on that segment carry where it bounds the domain; the tags of interface
 // segments are not kept (an interior edge carries Interior). A nil Tags
 // gives every segment tag 0.
+//
+// SegCurve lets a boundary segment follow a curve of Curves (an arc of a
+// Circle, or a caller's ProjectFunc): its ends must lie on the curve, the
+// mesh edges along it carry the curve (Mesh.EdgeCurve), and the vertices
+// that Triangulate adds on it lie on the curve (see Triangulate). A nil
+// SegCurve makes every segment straight.
 type Domain struct {
 	Points     []float64 // 2 per point: x, y
 	Segments   []int32   // 2 per segment: indices into Points
@@ -39,6 +45,8 @@ type Domain struct {
 	Holes      []float64 // 2 per hole: a point inside it
 	Seeds      []float64 // 2 per region seed: a point inside the region
 	SeedRegion []int32   // 1 per seed: the region tag of its part
+	Curves     []Curve   // the curves that segments follow
+	SegCurve   []int32   // 1 per segment: its index into Curves, or -1 for a straight segment; or nil
 }
 
 // Options controls the refinement of Triangulate. The zero value asks for
@@ -76,6 +84,7 @@ type Report struct {
 	Unmatched  int     // interior refinement edges that are the refinement edge of one of their triangles only
 	MinAngle   float64 // smallest angle of the mesh, in degrees
 	ShelterMin float64 // smallest angle, in degrees, of the triangles outside the shelter
+	OffCurve   int     // vertices added on curved segments that stayed on the chord by the rule of MinCurveArea
 }
 
 // Reasons Triangulate rejects a Domain. They are wrapped in a
@@ -203,6 +212,9 @@ func (d *Domain) check(o *Options) error {
 		if x[2*a] == x[2*b] && x[2*a+1] == x[2*b+1] {
 			return domErr(int(b), -1, -1, -1, ErrCoincident, "point %d is at (%g, %g) too", a, x[2*a], x[2*a+1])
 		}
+	}
+	if err := d.checkCurves(); err != nil {
+		return err
 	}
 	if o.NoRefinement {
 		return nil

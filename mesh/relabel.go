@@ -136,6 +136,7 @@ func (r *delaunayRefiner) output(rep *Report) (*Mesh, error) {
 			a.X[2*i], a.X[2*i+1] = c.x[2*v], c.x[2*v+1]
 		}
 	}
+	var bndCurve []int32 // per entry of a.Bnd: its curve
 	theta := math.Asin(math.Sqrt(r.sin2) / 2)
 	rep.MinAngle, rep.ShelterMin = math.Inf(1), math.Inf(1)
 	for t := range int32(len(c.state)) {
@@ -160,6 +161,9 @@ func (r *delaunayRefiner) output(rep *Report) (*Mesh, error) {
 			}
 			a.Bnd = append(a.Bnd, v[next3(j)], v[prev3(j)])
 			a.BndTag = append(a.BndTag, tag)
+			if r.d.SegCurve != nil {
+				bndCurve = append(bndCurve, r.d.SegCurve[s])
+			}
 		}
 		// Angles, and whether a small one is sheltered.
 		amin, at := math.Inf(1), 0
@@ -180,6 +184,16 @@ func (r *delaunayRefiner) output(rep *Report) (*Mesh, error) {
 	m, _, err := New(a)
 	if err != nil {
 		return nil, err
+	}
+	if bndCurve != nil {
+		m.Curves = r.d.Curves
+		m.EdgeCurve = make([]int32, m.NumEdges())
+		for e := range m.EdgeCurve {
+			m.EdgeCurve[e] = -1
+		}
+		for b, k := range bndCurve {
+			m.EdgeCurve[m.findEdge(a.Bnd[2*b], a.Bnd[2*b+1])] = k
+		}
 	}
 	_, unmatched := countUnmatched(m)
 	rep.Unmatched = unmatched

@@ -52,6 +52,22 @@ import (
 // When the refinement would need more than MaxVertices vertices it stops
 // with ErrVertexLimit and returns no mesh.
 //
+// # Curved segments
+//
+// A segment with a curve (Domain.SegCurve) is first cut on its curve, at
+// the projections of chord midpoints, until each piece's chord lies
+// within 1/16 of its length of the curve (about 28.5° of arc on a circle)
+// and is no longer than the size bound; the pieces are then meshed as
+// segments, and the vertices the refinement adds on them are moved from
+// the chord onto the curve at the end, under Refine's rule for curved
+// edges (MinCurveArea; Report.OffCurve counts the vertices left on the
+// chord). The angles in Report are those after the move. The boundary
+// edges along the segment carry its curve (Mesh.EdgeCurve). The ends of a
+// curved segment must lie on its curve within CurveTol times the size of
+// the domain (ErrOffCurve), its curve must be usable (ErrCurve), its
+// projections finite (ErrNotFinite), and it must bound the domain, not
+// separate two parts of it (ErrCurve).
+//
 // Bad input gives a *DomainError located at the point, segment, hole or
 // seed: see Domain and the Err values.
 //
@@ -79,6 +95,11 @@ func Triangulate(d *Domain, o Options) (*Mesh, *Report, error) {
 	if err := d.check(&o); err != nil {
 		return nil, nil, err
 	}
+	np0 := len(d.Points) / 2
+	d, segOrig, ptSeg, err := d.presplit(&o)
+	if err != nil {
+		return nil, nil, err
+	}
 	np, ns := len(d.Points)/2, len(d.Segments)/2
 	x0, y0, x1, y1 := math.Inf(1), math.Inf(1), math.Inf(-1), math.Inf(-1)
 	for p := range np {
@@ -89,6 +110,9 @@ func Triangulate(d *Domain, o Options) (*Mesh, *Report, error) {
 	pv := make([]int32, np) // cdt vertex of each point
 	for p := range np {
 		v, dup := c.insert(d.Points[2*p], d.Points[2*p+1])
+		if dup && p >= np0 {
+			return nil, nil, domErr(-1, int(ptSeg[p-np0]), -1, -1, ErrIntersect, "its curve passes through another point at (%g, %g)", d.Points[2*p], d.Points[2*p+1])
+		}
 		if v < 0 || dup {
 			// check has excluded duplicates and the enclosing triangle
 			// holds every point, so this is a broken invariant.
@@ -98,14 +122,18 @@ func Triangulate(d *Domain, o Options) (*Mesh, *Report, error) {
 	}
 	for s := range ns {
 		a, b := pv[d.Segments[2*s]], pv[d.Segments[2*s+1]]
+		s0 := int(segOrig[s]) // the caller's segment
 		switch outcome, other := c.insertSegment(a, b, int32(s)); outcome {
 		case segCrosses:
-			return nil, nil, domErr(-1, s, -1, -1, ErrIntersect, "it crosses segment %d", other)
+			return nil, nil, domErr(-1, s0, -1, -1, ErrIntersect, "it crosses segment %d", segOrig[other])
 		case segRepeated:
-			return nil, nil, domErr(-1, s, -1, -1, ErrIntersect, "it joins the ends of segment %d again", other)
+			return nil, nil, domErr(-1, s0, -1, -1, ErrIntersect, "it joins the ends of segment %d again", segOrig[other])
 		case segThrough:
 			q := slices.Index(pv, other)
-			return nil, nil, domErr(q, s, -1, -1, ErrIntersect, "point %d lies inside the segment", q)
+			if q >= np0 {
+				return nil, nil, domErr(-1, s0, -1, -1, ErrIntersect, "a point that curved segment %d adds lies inside the segment", ptSeg[q-np0])
+			}
+			return nil, nil, domErr(q, s0, -1, -1, ErrIntersect, "point %d lies inside the segment", q)
 		}
 	}
 	// Locate holes and seeds before anything is removed.
@@ -166,9 +194,21 @@ func Triangulate(d *Domain, o Options) (*Mesh, *Report, error) {
 			return nil, nil, err
 		}
 	}
+	if rep.OffCurve, err = r.followCurves(segOrig); err != nil {
+		return nil, nil, err
+	}
 	m, err := r.output(rep)
 	if err != nil {
 		return nil, nil, within("Triangulate", err)
+	}
+	if np > np0 {
+		// Points added on curved segments count as added vertices.
+		for _, v := range rep.Vertex[np0:] {
+			if v >= 0 {
+				rep.Added++
+			}
+		}
+		rep.Vertex = rep.Vertex[:np0]
 	}
 	return m, rep, nil
 }

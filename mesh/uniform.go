@@ -10,7 +10,11 @@ import (
 // the new vertices follow them.
 type Parents struct {
 	Triangle []int32 // per triangle of the new mesh: the old triangle that contains it
-	Edge     []int32 // per new vertex i (vertex OldVertices+i of the new mesh): the old edge whose midpoint it is
+	Edge     []int32 // per new vertex i (vertex OldVertices+i of the new mesh): the old edge it bisects (at the chord midpoint, or on the edge's curve)
+	// Chord lists, in increasing order, the new vertices of curved edges
+	// that were left at the chord midpoint instead of the curve (see
+	// Refine and MinCurveArea); nil when there were none.
+	Chord []int32
 	// OldVertices is the number of vertices of the old mesh.
 	OldVertices int
 }
@@ -24,8 +28,11 @@ type Parents struct {
 //	(m2, m0, v0), (m2, v1, m0), (m1, m0, v2), (m1, v0, m0)
 //
 // so child 4k+c of the new mesh lies in triangle k. The midpoint of old edge
-// e is new vertex NumVertices()+e. Regions and boundary tags are inherited.
-// RefineUniform is linear in the size of the mesh.
+// e is new vertex NumVertices()+e. Regions, boundary tags and curves are
+// inherited; the new vertex of a curved edge goes on its curve by Refine's
+// rule (see Refine, "Curved boundary edges"), and then child 4k+c lies in
+// triangle k only up to the bulge of the curve. RefineUniform is linear in
+// the size of the mesh.
 func (m *Mesh) RefineUniform() (*Mesh, *Parents, error) {
 	if err := checkShape(m, "RefineUniform"); err != nil {
 		return nil, nil, err
@@ -37,10 +44,26 @@ func (m *Mesh) RefineUniform() (*Mesh, *Parents, error) {
 	x := make([]float64, 2*(nv+ne))
 	copy(x, m.X)
 	p := &Parents{Triangle: make([]int32, 4*nt), Edge: make([]int32, ne), OldVertices: nv}
+	var moved []bool
+	var chord []float64
+	if m.EdgeCurve != nil {
+		moved = make([]bool, ne)
+		chord = make([]float64, 2*ne)
+	}
 	for e := range ne {
 		a, b := m.Edge[2*e], m.Edge[2*e+1]
-		x[2*(nv+e)] = 0.5 * (m.X[2*a] + m.X[2*b])
-		x[2*(nv+e)+1] = 0.5 * (m.X[2*a+1] + m.X[2*b+1])
+		mx, my := 0.5*(m.X[2*a]+m.X[2*b]), 0.5*(m.X[2*a+1]+m.X[2*b+1])
+		if m.EdgeCurve != nil {
+			chord[2*e], chord[2*e+1] = mx, my
+			if m.EdgeCurve[e] >= 0 {
+				var err error
+				if mx, my, err = m.curvePoint(int32(e), mx, my); err != nil {
+					return nil, nil, within("RefineUniform", err)
+				}
+				moved[e] = true
+			}
+		}
+		x[2*(nv+e)], x[2*(nv+e)+1] = mx, my
 		p.Edge[e] = int32(e)
 	}
 	tri := make([]int32, 0, 12*nt)
@@ -56,6 +79,9 @@ func (m *Mesh) RefineUniform() (*Mesh, *Parents, error) {
 			p.Triangle[4*k+c] = int32(k)
 		}
 	}
+	if moved != nil {
+		p.Chord = settleCurves(x, tri, int32(nv), moved, chord)
+	}
 	var bnd, tag []int32
 	for e := range ne {
 		if m.IsBoundary(e) {
@@ -67,6 +93,20 @@ func (m *Mesh) RefineUniform() (*Mesh, *Parents, error) {
 	fine, _, err := New(Arrays{X: x, Tri: tri, Region: region, Bnd: bnd, BndTag: tag})
 	if err != nil {
 		return nil, nil, within("RefineUniform", err)
+	}
+	if m.EdgeCurve != nil {
+		fine.Curves = m.Curves
+		fine.EdgeCurve = make([]int32, fine.NumEdges())
+		for e := range fine.EdgeCurve {
+			fine.EdgeCurve[e] = -1
+		}
+		for e := range ne {
+			if c := m.EdgeCurve[e]; c >= 0 {
+				mid := base + int32(e)
+				fine.EdgeCurve[fine.findEdge(m.Edge[2*e], mid)] = c
+				fine.EdgeCurve[fine.findEdge(mid, m.Edge[2*e+1])] = c
+			}
+		}
 	}
 	return fine, p, nil
 }
