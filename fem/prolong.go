@@ -2,16 +2,20 @@ package fem
 
 import (
 	"fmt"
+	"math"
 
 	"github.com/posteriori-fem/posteriori/mesh"
 )
 
 // Prolong carries u to the space s on a mesh refined from u's mesh, by
-// interpolation: each DOF of s takes the value at its node of the
-// polynomial of u on the node's parent triangle (p.Triangle of a new
-// triangle that holds the node). The DOFs at old vertices keep their
-// values. On straight edges the refinement only subdivides the triangles,
-// so a function of u's space is carried exactly (to rounding).
+// interpolation: a DOF at an old vertex keeps its value (through
+// p.Vertex), every other DOF takes the value of u at its node, evaluated
+// in the parent triangle that contains it; where several do (a node on an
+// old edge), in the one of lowest old index. A function of u's space is
+// carried exactly (to rounding), since refinement only subdivides its
+// triangles. The result does not depend on how the new mesh is numbered:
+// after a renumbering (mesh.Reorder, with p composed by
+// mesh.Parents.Compose) it is the same values, permuted, bit for bit.
 //
 // Where the refinement put a new vertex on a curve (mesh.Refine), the new
 // triangles at it are not inside their parent: the vertex, and the P2
@@ -26,31 +30,48 @@ import (
 func (u *Function) Prolong(s *Space, p *mesh.Parents) (*Function, error) {
 	old := u.Space.Mesh
 	m := s.Mesh
-	if p == nil || len(p.Triangle) != m.NumTriangles() || p.OldVertices != old.NumVertices() || m.NumVertices() != p.OldVertices+len(p.Edge) {
+	if p == nil || len(p.Triangle) != m.NumTriangles() || p.OldVertices != old.NumVertices() || len(p.Vertex) != m.NumVertices() {
 		return nil, fmt.Errorf("fem: Prolong: parent map does not match the meshes: %w", ErrArgument)
 	}
 	if s.Degree != u.Space.Degree {
 		return nil, fmt.Errorf("fem: Prolong: degree %d to degree %d: %w", u.Space.Degree, s.Degree, ErrDegree)
 	}
 	v := NewFunction(s)
-	done := make([]bool, s.NumDOF())
-	ev := NewEvaluator(u)
+	// from[d]: the lowest parent of the triangles at DOF d, so that the
+	// value does not depend on the order of the new triangles; -1 once
+	// the DOF is done.
+	from := make([]int32, s.NumDOF())
+	for d := range from {
+		from[d] = math.MaxInt32
+	}
 	var dofs [6]int32
 	for k := range m.NumTriangles() {
-		parent := int(p.Triangle[k])
-		if parent < 0 || parent >= old.NumTriangles() {
+		parent := p.Triangle[k]
+		if parent < 0 || int(parent) >= old.NumTriangles() {
 			return nil, fmt.Errorf("fem: Prolong: triangle %d has parent %d: %w", k, parent, ErrArgument)
 		}
+		for _, d := range s.ElementDOFs(dofs[:0], k) {
+			from[d] = min(from[d], parent)
+		}
+	}
+	for i, w := range p.Vertex {
+		if w < 0 || int(w) >= old.NumVertices()+old.NumEdges() {
+			return nil, fmt.Errorf("fem: Prolong: vertex %d has parent %d: %w", i, w, ErrArgument)
+		}
+		if int(w) < p.OldVertices {
+			v.U[i] = u.U[w] // an old vertex keeps its value
+			from[i] = -1
+		}
+	}
+	ev := NewEvaluator(u)
+	for k := range m.NumTriangles() {
+		parent := int(p.Triangle[k])
 		loaded := false
 		for _, d := range s.ElementDOFs(dofs[:0], k) {
-			if done[d] {
+			if from[d] != int32(parent) {
 				continue
 			}
-			done[d] = true
-			if int(d) < p.OldVertices {
-				v.U[d] = u.U[d] // old vertices keep their index and value
-				continue
-			}
+			from[d] = -1
 			if !loaded {
 				ev.Load(parent)
 				loaded = true

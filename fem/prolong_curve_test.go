@@ -80,7 +80,8 @@ func TestProlongCurvedPolynomial(t *testing.T) {
 					t.Fatalf("degree %d step %d: DOF %d at (%g, %g): %.16g, want %.16g", deg, step, i, x, y, v.U[i], want)
 				}
 			}
-			for i, e := range p.Edge {
+			for i, w := range p.Vertex[p.OldVertices:] {
+				e := w - int32(p.OldVertices) // the old edge that new vertex OldVertices+i bisects
 				a, b := m.Edge[2*e], m.Edge[2*e+1]
 				x, y := fine.Vertex(p.OldVertices + i)
 				ax, ay := m.Vertex(int(a))
@@ -121,7 +122,8 @@ func TestProlongCurvedRule(t *testing.T) {
 		t.Fatal(err)
 	}
 	checked := 0
-	for i, e := range p.Edge {
+	for i, w := range p.Vertex[p.OldVertices:] {
+		e := w - int32(p.OldVertices) // the old edge that new vertex OldVertices+i bisects
 		if !m.IsBoundary(int(e)) {
 			continue
 		}

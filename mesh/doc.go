@@ -26,7 +26,7 @@
 // Edge i of a triangle is the edge opposite its vertex i, so TriEdge[3k]
 // is the refinement edge of triangle k. New numbers the edges by sorting
 // their (low, high) vertex pairs; Refine keeps the numbers of old edges and
-// appends new ones, so only New's result is sorted. A boundary edge carries a tag ≥ 0 (0 where none
+// appends new ones, so only New's and Reorder's results are sorted. A boundary edge carries a tag ≥ 0 (0 where none
 // was given); an interior edge carries Interior (-1). A region is an
 // arbitrary int32 per triangle, 0 by default.
 //
@@ -41,6 +41,13 @@
 // Parents.Chord lists it. Triangles stay straight. Relabel, TagBoundary,
 // MergeCoincident and the file formats do not keep curves: attach them
 // again with WithCurves.
+//
+// Refine and RefineUniform keep the indices of the old vertices and number
+// the new ones after them; Reorder renumbers a mesh for locality (vertices
+// along a Hilbert curve, triangles and edges after their vertices), and
+// Parents.Compose carries a parent map through it. Parents.Vertex maps
+// every vertex of a refined mesh to the old vertex it is or the old edge
+// it bisects, whichever numbering the new mesh has.
 //
 // Uniform refinement cuts each triangle into four by bisecting it twice,
 // so that the newest-vertex labelling, and with it the bound on the number

@@ -63,7 +63,8 @@ func ExampleMesh_WithCurves() {
 		fmt.Println(err)
 		return
 	}
-	for i, e := range p.Edge {
+	for i, w := range p.Vertex[p.OldVertices:] {
+		e := w - int32(p.OldVertices) // the old edge that new vertex OldVertices+i bisects
 		if m.IsBoundary(int(e)) {
 			vx, vy := fine.Vertex(p.OldVertices + i)
 			fmt.Printf("%d triangles; new boundary vertex %d at radius %.4g, angle %.4g°\n",

@@ -24,7 +24,7 @@ func ExampleMesh_Refine() {
 			fmt.Println(err)
 			return
 		}
-		fmt.Printf("%d triangles -> %d, %d new vertices\n", m.NumTriangles(), fine.NumTriangles(), len(parents.Edge))
+		fmt.Printf("%d triangles -> %d, %d new vertices\n", m.NumTriangles(), fine.NumTriangles(), len(parents.Vertex)-parents.OldVertices)
 		m = fine
 	}
 	q, err := m.Quality()

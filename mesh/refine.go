@@ -177,7 +177,7 @@ func (m *Mesh) Refine(marked []bool) (*Mesh, *Parents, error) {
 		nv:  int32(nv),
 		ne:  int32(ne),
 	}
-	p := &Parents{Triangle: make([]int32, nt, nt2), Edge: split, OldVertices: nv}
+	p := &Parents{Triangle: make([]int32, nt, nt2), Vertex: vertexMap(nv, ne, split), OldVertices: nv}
 	for k := range nt {
 		p.Triangle[k] = int32(k)
 	}

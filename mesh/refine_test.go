@@ -96,8 +96,8 @@ func TestRefineRandomConforming(t *testing.T) {
 // of each parent fill it.
 func checkParents(t *testing.T, old, m *Mesh, p *Parents, marked []bool) {
 	t.Helper()
-	if len(p.Triangle) != m.NumTriangles() || p.OldVertices != old.NumVertices() || len(p.Edge) != m.NumVertices()-old.NumVertices() {
-		t.Fatalf("parents sized %d %d %d", len(p.Triangle), p.OldVertices, len(p.Edge))
+	if len(p.Triangle) != m.NumTriangles() || p.OldVertices != old.NumVertices() || len(p.Vertex) != m.NumVertices() {
+		t.Fatalf("parents sized %d %d %d", len(p.Triangle), p.OldVertices, len(p.Vertex))
 	}
 	area := make([]float64, old.NumTriangles())
 	count := make([]int, old.NumTriangles())
@@ -122,11 +122,39 @@ func checkParents(t *testing.T, old, m *Mesh, p *Parents, marked []bool) {
 			t.Fatalf("marked triangle %d was not bisected", k)
 		}
 	}
-	for i, e := range p.Edge {
-		x, y := m.Vertex(p.OldVertices + i)
+	checkVertexMap(t, old, m, p)
+}
+
+// checkVertexMap verifies Parents.Vertex: every old vertex appears once,
+// at its old coordinates, every other vertex is the midpoint of the old
+// edge it names, and no old edge is named twice.
+func checkVertexMap(t *testing.T, old, m *Mesh, p *Parents) {
+	t.Helper()
+	if len(p.Vertex) != m.NumVertices() {
+		t.Fatalf("vertex map has %d entries for %d vertices", len(p.Vertex), m.NumVertices())
+	}
+	seen := make([]bool, old.NumVertices()+old.NumEdges())
+	for i, v := range p.Vertex {
+		if v < 0 || int(v) >= len(seen) || seen[v] {
+			t.Fatalf("vertex %d maps to %d (out of range or twice)", i, v)
+		}
+		seen[v] = true
+		x, y := m.Vertex(i)
+		if int(v) < p.OldVertices {
+			if x != old.X[2*v] || y != old.X[2*v+1] {
+				t.Fatalf("vertex %d is not old vertex %d", i, v)
+			}
+			continue
+		}
+		e := int(v) - p.OldVertices
 		a, b := old.Edge[2*e], old.Edge[2*e+1]
 		if x != 0.5*(old.X[2*a]+old.X[2*b]) || y != 0.5*(old.X[2*a+1]+old.X[2*b+1]) {
-			t.Fatalf("new vertex %d is not the midpoint of old edge %d", p.OldVertices+i, e)
+			t.Fatalf("new vertex %d is not the midpoint of old edge %d", i, e)
+		}
+	}
+	for v := range old.NumVertices() {
+		if !seen[v] {
+			t.Fatalf("old vertex %d is missing", v)
 		}
 	}
 }

@@ -5,20 +5,6 @@ import (
 	"math"
 )
 
-// Parents maps the entities of a refined mesh back to the mesh it was
-// refined from. Vertices of the old mesh keep their indices in the new one;
-// the new vertices follow them.
-type Parents struct {
-	Triangle []int32 // per triangle of the new mesh: the old triangle that contains it
-	Edge     []int32 // per new vertex i (vertex OldVertices+i of the new mesh): the old edge it bisects (at the chord midpoint, or on the edge's curve)
-	// Chord lists, in increasing order, the new vertices of curved edges
-	// that were left at the chord midpoint instead of the curve (see
-	// Refine and MinCurveArea); nil when there were none.
-	Chord []int32
-	// OldVertices is the number of vertices of the old mesh.
-	OldVertices int
-}
-
 // RefineUniform cuts every triangle into four by two rounds of
 // newest-vertex bisection, so that every edge of m is halved once and the
 // newest-vertex labelling is kept. For a triangle (v0, v1, v2) with
@@ -43,7 +29,7 @@ func (m *Mesh) RefineUniform() (*Mesh, *Parents, error) {
 	}
 	x := make([]float64, 2*(nv+ne))
 	copy(x, m.X)
-	p := &Parents{Triangle: make([]int32, 4*nt), Edge: make([]int32, ne), OldVertices: nv}
+	p := &Parents{Triangle: make([]int32, 4*nt), Vertex: vertexMap(nv, ne, nil), OldVertices: nv}
 	var moved []bool
 	var chord []float64
 	if m.EdgeCurve != nil {
@@ -64,7 +50,6 @@ func (m *Mesh) RefineUniform() (*Mesh, *Parents, error) {
 			}
 		}
 		x[2*(nv+e)], x[2*(nv+e)+1] = mx, my
-		p.Edge[e] = int32(e)
 	}
 	tri := make([]int32, 0, 12*nt)
 	region := make([]int32, 0, 4*nt)

@@ -49,13 +49,7 @@ func TestRefineUniform(t *testing.T) {
 						t.Fatalf("children of %d have area %g, want %g", k, s, m.Area(k))
 					}
 				}
-				for i, e := range p.Edge {
-					x, y := f.Vertex(p.OldVertices + i)
-					a, b := m.Edge[2*e], m.Edge[2*e+1]
-					if x != 0.5*(m.X[2*a]+m.X[2*b]) || y != 0.5*(m.X[2*a+1]+m.X[2*b+1]) {
-						t.Fatalf("vertex %d is not the midpoint of edge %d", p.OldVertices+i, e)
-					}
-				}
+				checkVertexMap(t, m, f, p)
 				// Boundary tags: the total length per tag is kept.
 				if got, want := tagLengths(f), tagLengths(m); !closeMaps(got, want, tol) {
 					t.Fatalf("tag lengths %v, want %v", got, want)

@@ -146,6 +146,6 @@ func seepage(w io.Writer, maxDOFs int, theta float64) error {
 		return err
 	}
 	fmt.Fprintf(w, "lower-level step: %d triangles, %d DOFs, %d iterations, eta = %.4e, marked %d, refined to %d triangles and %d vertices (%d new)\n",
-		m.NumTriangles(), s.NumDOF(), iters, in.Total(), marked, next.NumTriangles(), next.NumVertices(), len(parents.Edge))
+		m.NumTriangles(), s.NumDOF(), iters, in.Total(), marked, next.NumTriangles(), next.NumVertices(), len(parents.Vertex)-parents.OldVertices)
 	return nil
 }
