@@ -132,6 +132,9 @@ func compute(o options, onStep func(adapt.StepData, []goalValue) error) (*outcom
 // report runs the loop, prints a row per step and the summary, and writes
 // the files.
 func report(w io.Writer, o options) error {
+	if _, err := initialMesh(); err != nil { // a mistake in the geometry, before the header
+		return err
+	}
 	k := materials[regionInsert].K / materials[regionBody].K
 	fmt.Fprintf(w, "cooled part (demo data): conductivities %g and %g W/(m·K) (contrast %.4g), source %.4g W/m³ in the insert\n",
 		materials[regionBody].K, materials[regionInsert].K, k, materials[regionInsert].Q)

@@ -52,6 +52,17 @@ func initialMesh() (*mesh.Mesh, error) {
 	if err != nil {
 		return nil, err
 	}
+	walls := make([]int, len(channels))
+	for e, c := range m.EdgeCurve {
+		if c >= 0 && m.IsBoundary(e) {
+			walls[c]++
+		}
+	}
+	for i, n := range walls {
+		if n == 0 {
+			return nil, fmt.Errorf("channel %d at (%g, %g) mm: its wall bounds no part of the body: is it outside?", i, channels[i].X, channels[i].Y)
+		}
+	}
 	for k := range m.NumTriangles() {
 		if _, ok := materials[m.Region[k]]; !ok {
 			return nil, fmt.Errorf("triangle %d at (%.3g, %.3g) mm has region %d, which no material has: give each material a seed",

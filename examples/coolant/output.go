@@ -72,7 +72,7 @@ func write(dir string, res *outcome) error {
 	}
 	opt.Center = [2]float64{points[2*zoomCorner] * mm, points[2*zoomCorner+1] * mm}
 	opt.HalfWidth = zoomHalfWidth * mm
-	opt.Title = fmt.Sprintf("coolant: around the insert's corner (%g, %g) mm", points[2*zoomCorner], points[2*zoomCorner+1])
+	opt.Title = fmt.Sprintf("coolant: around the corner of the insert at (%g, %g) mm", points[2*zoomCorner], points[2*zoomCorner+1])
 	if err := mesh.SavePNG(path(zoomPNGFile), m, opt); err != nil {
 		return err
 	}
@@ -80,7 +80,7 @@ func write(dir string, res *outcome) error {
 	for k := range temp {
 		temp[k] = u.Local(k, [3]float64{1.0 / 3, 1.0 / 3, 1.0 / 3})
 	}
-	return mesh.SavePNG(path(temperatureFile), m, &mesh.PictureOptions{Cell: temp, Label: "T (°C)",
+	return mesh.SavePNG(path(temperatureFile), m, &mesh.PictureOptions{Cell: temp, Label: "T (degC)",
 		Title: "coolant: temperature", EdgePixels: -1})
 }
 
