@@ -213,10 +213,12 @@ func (sc *Scenario) Run(o Options, w io.Writer) error {
 	if err != nil {
 		return err
 	}
+	t0 := time.Now()
 	other, err := sc.loop(m, o, !o.Uniform, nil)
 	if err != nil {
 		return err
 	}
+	otherTime := time.Since(t0)
 	last := main.res.Steps[len(main.res.Steps)-1]
 	fmt.Fprintf(w, "stopped: %v after %d steps; rate: the exponent r of error ≈ C N^(-r), fitted over the second half of the steps so far\n", main.res.Status, len(main.res.Steps))
 	fmt.Fprintf(w, "time: the loop's own stages (solve, estimate, mark, refine), %v in all; error t: measuring the true error, %v in all, not part of the loop\n",
@@ -225,6 +227,13 @@ func (sc *Scenario) Run(o Options, w io.Writer) error {
 		fmt.Fprintf(w, "the estimate is a guaranteed upper bound of the energy error of each step's returned solution (up to the quadrature of non-polynomial data); at the last step %.4e of it (%.2g%%) is the algebraic part, for the solve stopped early\n",
 			last.Algebraic, 100*last.Algebraic/last.Estimate)
 	}
+	otherName := "uniform"
+	if o.Uniform {
+		otherName = "adaptive"
+	}
+	ol := other.res.Steps[len(other.res.Steps)-1]
+	fmt.Fprintf(w, "also ran the %s refinement to the same budget for convergence.svg: %d steps to %d DOFs, error %.4e, in %v (true errors included)\n",
+		otherName, len(other.res.Steps), ol.DOFs, ol.Error, otherTime.Round(time.Millisecond))
 	fmt.Fprintln(w, "The estimate measures discretization error only, not modelling error; engineering use follows local codes and licensed practice.")
 	adaptive, uniform := main, other
 	if o.Uniform {
@@ -233,14 +242,17 @@ func (sc *Scenario) Run(o Options, w io.Writer) error {
 	if err := os.MkdirAll(o.Out, 0o755); err != nil {
 		return err
 	}
+	t0 = time.Now()
 	if err := sc.write(o, main, adaptive.res.Steps, uniform.res.Steps); err != nil {
 		return err
 	}
+	writeTime := time.Since(t0)
 	files := []string{HistoryFile, MeshJSONFile, MeshVTUFile, MeshPNGFile, ConvergenceFile}
 	if len(sc.Exact.Singular) > 0 {
 		files = slices.Insert(files, 4, MeshZoomFile)
 	}
-	fmt.Fprintf(w, "wrote %s (final mesh: %d triangles, %d DOFs)\n", filepath.Join(o.Out, "{"+strings.Join(files, ",")+"}"), last.Triangles, last.DOFs)
+	fmt.Fprintf(w, "wrote %s in %v (final mesh: %d triangles, %d DOFs)\n", filepath.Join(o.Out, "{"+strings.Join(files, ",")+"}"),
+		writeTime.Round(time.Millisecond), last.Triangles, last.DOFs)
 	return nil
 }
 
