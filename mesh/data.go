@@ -2,6 +2,7 @@ package mesh
 
 import (
 	"bufio"
+	"bytes"
 	"fmt"
 	"math"
 	"slices"
@@ -175,9 +176,25 @@ func (t *textWriter) bytes(b []byte) {
 	}
 }
 
-// float writes v in the shortest form that reads back exactly.
+// float writes v in the shortest form that reads back exactly, with the
+// exponent's sign kept only when negative and without leading zeros
+// (1e-05 is written 1e-5, 1e+21 as 1e21): valid JSON and XML numbers that
+// strconv.ParseFloat reads back to the same value.
 func (t *textWriter) float(v float64) {
 	t.buf = strconv.AppendFloat(t.buf[:0], v, 'g', -1, 64)
+	if i := bytes.IndexByte(t.buf, 'e'); i >= 0 {
+		j := i + 1
+		neg := t.buf[j] == '-'
+		j++ // past the sign, which AppendFloat always writes
+		for j < len(t.buf)-1 && t.buf[j] == '0' {
+			j++
+		}
+		out := t.buf[:i+1]
+		if neg {
+			out = append(out, '-')
+		}
+		t.buf = append(out, t.buf[j:]...)
+	}
 	t.bytes(t.buf)
 }
 

@@ -24,7 +24,6 @@ func ExampleWriteJSON() {
 	// "num_triangles":2,
 	// "vertices":[[0,0],[1,0],[0,1],[1,1]],
 	// "triangles":[[1,3,0],[2,0,3]],
-	// "regions":[0,0],
 	// "boundary":[[0,1,1],[2,0,4],[1,3,2],[3,2,3]]}
 }
 

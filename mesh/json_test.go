@@ -98,6 +98,41 @@ func TestJSONRoundTrip(t *testing.T) {
 	}
 }
 
+// Numbers with exponents are written without the exponent's leading zeros
+// and plus sign, and read back bit for bit: the extremes of float64
+// (IEEE 754: the smallest subnormal, the largest finite value) and values
+// on both sides of the exponent boundaries of the 'g' format.
+func TestJSONExponents(t *testing.T) {
+	m, err := Rectangle(0, 0, 1, 1, 1, 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	vals := []float64{1e-5, -2.5e-10, 1e21, 1.2345678901234567e-300, math.SmallestNonzeroFloat64, math.MaxFloat64,
+		-math.MaxFloat64, 1e-4, 123456789012345680000}
+	for i := 0; i+4 <= len(vals)+3; i += 4 {
+		v := make([]float64, 4)
+		for j := range v {
+			v[j] = vals[(i+j)%len(vals)]
+		}
+		var buf bytes.Buffer
+		if err := WriteJSON(&buf, m, &Data{Point: map[string][]float64{"v": v}}); err != nil {
+			t.Fatal(err)
+		}
+		if s := buf.String(); strings.Contains(s, "e-0") || strings.Contains(s, "e+") {
+			t.Errorf("exponent not shortened: %s", s)
+		}
+		_, d, err := ReadJSON(&buf)
+		if err != nil {
+			t.Fatal(err)
+		}
+		for j, x := range d.Point["v"] {
+			if math.Float64bits(x) != math.Float64bits(v[j]) {
+				t.Errorf("value %d: read %v, wrote %v", j, x, v[j])
+			}
+		}
+	}
+}
+
 // P2 fields come back bit for bit, also on a refined mesh whose edges are
 // not numbered as New numbers them, and the file has no indentation.
 func TestJSONRoundTripP2(t *testing.T) {
