@@ -212,24 +212,65 @@ func TestReorderBadInput(t *testing.T) {
 	}
 }
 
-// BenchmarkReorder renumbers uniform L-shape meshes refined near the
-// re-entrant corner (Refine's numbering, new vertices appended).
+// BenchmarkReorder renumbers meshes of about 1e4, 1e5 and 1e6 triangles:
+// benchAdaptive's (parent=unordered: a uniform L-shape mesh refined near
+// the re-entrant corner, Refine's numbering throughout) and the
+// refinement near the corner of that mesh once renumbered (parent=ordered:
+// the adaptive loop's case, an ordered mesh with Refine's new vertices and
+// children appended). impl=reference is the implementation Reorder must
+// equal (reorderReference), for a comparison in the same run:
+//
+//	go test -run XXX -bench Reorder -benchtime 3x -count 3 ./mesh
 func BenchmarkReorder(b *testing.B) {
 	for _, n := range []int{1e4, 1e5, 1e6} {
-		b.Run("n="+strconv.Itoa(n), func(b *testing.B) {
-			m := benchAdaptive(b, n)
-			var sink *Mesh
-			for b.Loop() {
-				r, _, err := m.Reorder()
-				if err != nil {
-					b.Fatal(err)
-				}
-				sink = r
+		u := benchAdaptive(b, n)
+		o := benchOrderedRefined(b, u)
+		for _, c := range []struct {
+			name string
+			m    *Mesh
+		}{{"unordered", u}, {"ordered", o}} {
+			for _, impl := range []string{"reorder", "reference"} {
+				b.Run("n="+strconv.Itoa(n)+"/parent="+c.name+"/impl="+impl, func(b *testing.B) {
+					f := (*Mesh).Reorder
+					if impl == "reference" {
+						f = reorderReference
+					}
+					var sink *Mesh
+					for b.Loop() {
+						r, _, err := f(c.m)
+						if err != nil {
+							b.Fatal(err)
+						}
+						sink = r
+					}
+					_ = sink
+					b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/float64(c.m.NumTriangles()), "ns/triangle")
+					b.ReportMetric(float64(c.m.NumTriangles()), "triangles")
+				})
 			}
-			_ = sink
-			b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/float64(m.NumTriangles()), "ns/triangle")
-		})
+		}
 	}
+}
+
+// benchOrderedRefined renumbers m by Reorder and refines the result in the
+// triangles within 0.3 of the re-entrant corner, as the adaptive loop
+// refines a renumbered mesh.
+func benchOrderedRefined(b *testing.B, m *Mesh) *Mesh {
+	b.Helper()
+	r, _, err := m.Reorder()
+	if err != nil {
+		b.Fatal(err)
+	}
+	marked := make([]bool, r.NumTriangles())
+	for k := range marked {
+		x, y := r.Vertex(int(r.Tri[3*k]))
+		marked[k] = x*x+y*y < 0.09
+	}
+	f, _, err := r.Refine(marked)
+	if err != nil {
+		b.Fatal(err)
+	}
+	return f
 }
 
 // benchAdaptive returns a mesh of about n triangles: the L-shape refined
@@ -273,7 +314,7 @@ func BenchmarkHilbertSort(b *testing.B) {
 			b.StopTimer()
 			k, idx := keys()
 			b.StartTimer()
-			radixSort(k, idx)
+			_, _ = radixSort(k, idx)
 		}
 		b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/float64(m.NumVertices()), "ns/vertex")
 	})
