@@ -109,27 +109,20 @@ func (m *Mesh) reorder(merge bool) (r *Mesh, o *Order, kept int) {
 	}
 
 	// Edges by (low, high) new vertex: a counting sort on the low vertex,
-	// then a sort of each bucket by the high vertex. key holds, per old
-	// edge, high·2³² + low, then per slot, high·2³² + old edge.
-	key := make([]int64, ne)
-	parallel.For(ne, reorderGrain, func(lo, hi int) error {
-		for e := lo; e < hi; e++ {
-			a, b := vnew[m.Edge[2*e]], vnew[m.Edge[2*e+1]]
-			key[e] = int64(max(a, b))<<32 | int64(min(a, b))
-		}
-		return nil
-	})
+	// then a sort of each bucket by the high vertex. Each bucket holds, per
+	// slot, high·2³² + old edge.
 	clear(start)
-	for _, k := range key {
-		start[int32(k)+1]++
+	for e := range ne {
+		start[min(vnew[m.Edge[2*e]], vnew[m.Edge[2*e+1]])+1]++
 	}
 	for v := range nv {
 		start[v+1] += start[v]
 	}
 	slot := make([]int64, ne)
-	for e, k := range key {
-		l := int32(k)
-		slot[start[l]] = k&^(1<<32-1) | int64(e)
+	for e := range ne {
+		a, b := vnew[m.Edge[2*e]], vnew[m.Edge[2*e+1]]
+		l := min(a, b)
+		slot[start[l]] = int64(max(a, b))<<32 | int64(e)
 		start[l]++
 	}
 	// start[v] is now the end of bucket v.
