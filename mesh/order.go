@@ -85,33 +85,25 @@ func (m *Mesh) reorder(merge bool) (r *Mesh, o *Order, kept int) {
 	vnew := make([]int32, nv)
 	o.Vertex, kept = hilbertOrder(m.X, vnew, merge)
 
-	// Triangles by their lowest new vertex: a counting sort, stable.
-	low := make([]int32, nt)
-	parallel.For(nt, reorderGrain, func(lo, hi int) error {
-		for k := lo; k < hi; k++ {
-			low[k] = min(vnew[m.Tri[3*k]], vnew[m.Tri[3*k+1]], vnew[m.Tri[3*k+2]])
-		}
-		return nil
-	})
-	start := make([]int32, nv+1)
-	for _, l := range low {
-		start[l+1]++
+	r = &Mesh{
+		X:       make([]float64, 2*nv),
+		Tri:     make([]int32, 3*nt),
+		Region:  make([]int32, nt),
+		Edge:    make([]int32, 2*ne),
+		TriEdge: make([]int32, 3*nt),
+		EdgeTri: make([]int32, 2*ne),
+		EdgeTag: make([]int32, ne),
+		pieces:  m.pieces,
 	}
-	for v := range nv {
-		start[v+1] += start[v]
-	}
-	o.Triangle = make([]int32, nt)
-	tnew := make([]int32, nt)
-	for k, l := range low {
-		tnew[k] = start[l]
-		o.Triangle[start[l]] = int32(k)
-		start[l]++
+	if m.EdgeCurve != nil {
+		r.Curves = m.Curves
+		r.EdgeCurve = make([]int32, ne)
 	}
 
 	// Edges by (low, high) new vertex: a counting sort on the low vertex,
 	// then a sort of each bucket by the high vertex. Each bucket holds, per
 	// slot, high·2³² + old edge.
-	clear(start)
+	start := make([]int32, nv+1)
 	for e := range ne {
 		start[min(vnew[m.Edge[2*e]], vnew[m.Edge[2*e+1]])+1]++
 	}
@@ -126,16 +118,6 @@ func (m *Mesh) reorder(merge bool) (r *Mesh, o *Order, kept int) {
 		start[l]++
 	}
 	// start[v] is now the end of bucket v.
-	r = &Mesh{
-		X:       make([]float64, 2*nv),
-		Tri:     make([]int32, 3*nt),
-		Region:  make([]int32, nt),
-		Edge:    make([]int32, 2*ne),
-		TriEdge: make([]int32, 3*nt),
-		EdgeTri: make([]int32, 2*ne),
-		EdgeTag: make([]int32, ne),
-		pieces:  m.pieces,
-	}
 	o.Edge = make([]int32, ne)
 	enew := make([]int32, ne)
 	b := int32(0)
@@ -154,6 +136,36 @@ func (m *Mesh) reorder(merge bool) (r *Mesh, o *Order, kept int) {
 		b = start[v]
 	}
 
+	// Triangles by their lowest new vertex: a counting sort, stable, whose
+	// last pass puts each triangle in its place. tnew holds the lowest
+	// vertex of each triangle, then its new index.
+	tnew := make([]int32, nt)
+	parallel.For(nt, reorderGrain, func(lo, hi int) error {
+		for k := lo; k < hi; k++ {
+			tnew[k] = min(vnew[m.Tri[3*k]], vnew[m.Tri[3*k+1]], vnew[m.Tri[3*k+2]])
+		}
+		return nil
+	})
+	clear(start)
+	for _, l := range tnew {
+		start[l+1]++
+	}
+	for v := range nv {
+		start[v+1] += start[v]
+	}
+	o.Triangle = make([]int32, nt)
+	for k, l := range tnew {
+		j := start[l]
+		start[l]++
+		tnew[k] = j
+		o.Triangle[j] = int32(k)
+		for i := range 3 {
+			r.Tri[3*j+int32(i)] = vnew[m.Tri[3*k+i]]
+			r.TriEdge[3*j+int32(i)] = enew[m.TriEdge[3*k+i]]
+		}
+		r.Region[j] = m.Region[k]
+	}
+
 	// The arrays gathered through the permutations, each index by itself.
 	parallel.For(nv, reorderGrain, func(lo, hi int) error {
 		for i := lo; i < hi; i++ {
@@ -162,21 +174,6 @@ func (m *Mesh) reorder(merge bool) (r *Mesh, o *Order, kept int) {
 		}
 		return nil
 	})
-	parallel.For(nt, reorderGrain, func(lo, hi int) error {
-		for k := lo; k < hi; k++ {
-			t := int(o.Triangle[k])
-			for j := range 3 {
-				r.Tri[3*k+j] = vnew[m.Tri[3*t+j]]
-				r.TriEdge[3*k+j] = enew[m.TriEdge[3*t+j]]
-			}
-			r.Region[k] = m.Region[t]
-		}
-		return nil
-	})
-	if m.EdgeCurve != nil {
-		r.Curves = m.Curves
-		r.EdgeCurve = make([]int32, ne)
-	}
 	parallel.For(ne, reorderGrain, func(lo, hi int) error {
 		for i := lo; i < hi; i++ {
 			e := o.Edge[i]
