@@ -257,9 +257,18 @@ func TestReorderReference(t *testing.T) {
 		t.Fatal(err)
 	}
 	base["quadrants tagged"] = q
+	// Large enough (over reorderGrain vertices and edges) for the
+	// parallel passes to split the work.
+	big, _ := LShape(60)
+	big, _, _ = big.RefineUniform()
+	base["lshape large"] = big
 	for name, m := range base {
 		t.Run(name, func(t *testing.T) {
-			for step := range 6 {
+			steps := 6
+			if m.NumVertices() > reorderGrain {
+				steps = 2
+			}
+			for step := range steps {
 				want, wo, err := reorderReference(m)
 				if err != nil {
 					t.Fatal(err)
