@@ -264,7 +264,7 @@ func hilbertOrder(x []float64, vnew []int32, merge bool) (order []int32, kept in
 	for i := range idx {
 		idx[i] = int32(p + i)
 	}
-	sk, si := radixSort(slices.Clone(keys[p:]), idx)
+	sk, si := radixSort(keys[p:], idx) // keys[:p] stay as they are
 	// Merge keys[:p] (vertices 0, ..., p-1) and the sorted rest; on equal
 	// keys the prefix, of lower indices, goes first.
 	i, j := 0, 0
