@@ -53,19 +53,20 @@ type Order struct {
 // the new vertices are sorted. Edges are ordered by a counting sort on
 // their low vertex and a sort of each bucket (of the vertex degree's size)
 // by the high vertex, triangles by a counting sort whose last pass writes
-// each triangle in its new place. The bounding square, the keys and the
-// gathers of the coordinates and of the edge arrays run on up to
+// each triangle in its new place. The bounding square, the keys, each
+// triangle's lowest vertex and the gathers of the coordinates and of the
+// edge arrays run on up to
 // GOMAXPROCS goroutines, each index written by one of them, so the result
 // does not depend on GOMAXPROCS. On a mesh of 526,920 triangles refined
 // from a renumbered one (the adaptive loop's case; BenchmarkReorder,
-// parent=ordered) it took 106.0–117.8 ns per triangle (median 106.9); on
-// the loop's mesh of 870,991 vertices in Refine's numbering throughout,
-// 287–451 ns per triangle (median 423), 59–66 products with the
-// renumbered matrix (median 65; BenchmarkReorderSpMV in package adapt);
+// parent=ordered) it took 68.5–102.8 ns per triangle (median 77.7); on
+// the loop's mesh of 1.74e6 triangles in Refine's numbering throughout,
+// 226.8–321.7 ns per triangle (median 251.9), 58.8–75.7 products with the
+// renumbered matrix (median 69.2; BenchmarkReorderSpMV in package adapt);
 // three runs each on a loaded two-core machine:
 //
 //	go test -run XXX -bench 'Reorder/n=1000000' -benchtime 3x -count 3 ./mesh
-//	go test -run XXX -bench 'ReorderSpMV/dofs=1e\+06' -benchtime 3x ./adapt
+//	go test -run XXX -bench 'ReorderSpMV/dofs=1e\+06' -benchtime 3x -count 3 ./adapt
 //
 // A mesh with no triangles or with arrays of inconsistent lengths is
 // rejected with an error wrapping ErrEmpty, ErrLength or ErrIndex.
