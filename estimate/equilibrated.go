@@ -154,12 +154,13 @@ import (
 // goroutines; every value is summed in a fixed order, so the result does
 // not depend on GOMAXPROCS. The cost is linear in the number of triangles
 // for bounded vertex degree. Measured with BenchmarkEquilibrated (uniform
-// meshes of the unit square, 2 cores shared with other work, median of
-// three runs): P1 about 1700 ns per triangle at 1e6 triangles, of the
-// order of 200 products with the P1 stiffness matrix of the same mesh
-// (about a tenth of it evaluates f at the 12 points of each triangle); the
-// general path takes some 20 times as long on P1 meshes; P2 about 2e5 ns
-// per triangle at 1e5 triangles. Memory, in float64s per triangle: for
+// meshes of the unit square, 2 cores, three runs, go test -run XXX -bench
+// 'Equilibrated/(P1|spmv)' -benchtime 3x): P1 770–792 ns per triangle at
+// 1e6 triangles and 718–765 at 1e5, about 400 products with the P1
+// stiffness matrix of the same mesh (1.91–2.04 ns per triangle at 1e6);
+// about a tenth of it evaluates f at the 12 points of each triangle; the
+// general path takes some 10 times as long on P1 meshes; P2 36–38 µs per
+// triangle at 1e4 triangles. Memory, in float64s per triangle: for
 // P1, 24 for the three patch contributions to σ_h, 14 of geometry and
 // divergence data, 3 residual parts and 7 terms; for P2, 45, 16 values of
 // f at the quadrature points, 3 and 7; and 2(p+1) per edge and one per

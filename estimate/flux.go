@@ -87,10 +87,11 @@ import (
 // for P1 and by the Dunavant rule of degree 2k + 2 (exact) for P2.
 //
 // Cost, measured (BenchmarkFluxRecovery, the sine problem, uniform meshes,
-// 2 shared cores, go test ./estimate -bench BenchmarkFluxRecovery
-// -benchtime 2x): P1 860–980 ns per triangle at 1e4–1e6 triangles, about
-// 240 products with the P1 stiffness matrix of the same mesh (3.6 ns per
-// triangle at 1e6); P2 4,200–8,500 ns per triangle. About a quarter of the
+// 2 cores, three runs of go test -run XXX -bench
+// 'FluxRecovery/(P1|spmv)' -benchtime 3x): P1 394–442 ns per triangle at
+// 1e6 triangles (313–332 at 1e5), about 215 products with the P1
+// stiffness matrix of the same mesh (1.92–3.17 ns per triangle at 1e6);
+// P2 4,200–8,500 ns per triangle (on a machine shared with other work). About a quarter of the
 // P1 time is the source f at six points per triangle for the oscillation;
 // the rest is assembly of the sparse matrix (sorted rows), CG (4–7
 // iterations plus two residual products) and the element passes. Memory:
