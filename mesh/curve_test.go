@@ -240,6 +240,26 @@ func TestCurvedNearInteriorVertex(t *testing.T) {
 						t.Errorf("uniform=%v: triangle %d has area %g", uniform, k, fine.Area(k))
 					}
 				}
+				// Renumbered, the mesh keeps its curves and the parent map its
+				// chord list: the same points, under their new numbers.
+				r, o, err := fine.Reorder()
+				if err != nil {
+					t.Fatal(err)
+				}
+				q, err := p.Compose(o)
+				if err != nil {
+					t.Fatal(err)
+				}
+				if len(q.Chord) != len(p.Chord) || (r.EdgeCurve == nil) != (fine.EdgeCurve == nil) {
+					t.Errorf("uniform=%v: after Reorder, chord list %v (was %v), curves kept: %v", uniform, q.Chord, p.Chord, r.EdgeCurve != nil)
+				}
+				for i, c := range q.Chord {
+					cx, cy := r.Vertex(int(c))
+					px, py := fine.Vertex(int(p.Chord[i]))
+					if cx != px || cy != py {
+						t.Errorf("uniform=%v: chord vertex %d at (%g, %g) after Reorder, (%g, %g) before", uniform, c, cx, cy, px, py)
+					}
+				}
 			}
 		})
 	}
