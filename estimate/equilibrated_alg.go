@@ -4,6 +4,7 @@ import (
 	"math"
 
 	"github.com/posteriori-fem/posteriori/fem"
+	"github.com/posteriori-fem/posteriori/mesh"
 )
 
 // treeBound bounds the algebraic term (ρ, φ) ≤ η_tree |||φ||| for every φ
@@ -77,23 +78,12 @@ func (eq *equilibration) treeBound(share []float64) (float64, bool) {
 	for h := 0; h < len(order); h++ {
 		t := int(order[h])
 		for i := range 3 {
-			e := m.TriEdge[3*t+i]
-			if m.IsBoundary(int(e)) {
+			o, j := across(m, t, i)
+			if o < 0 || parent[o] >= 0 {
 				continue
 			}
-			o := m.EdgeTri[2*e]
-			if int(o) == t {
-				o = m.EdgeTri[2*e+1]
-			}
-			if parent[o] >= 0 {
-				continue
-			}
-			for j := range 3 {
-				if m.TriEdge[3*int(o)+j] == e {
-					parent[o] = int8(j)
-				}
-			}
-			order = append(order, o)
+			parent[o] = int8(j)
+			order = append(order, int32(o))
 		}
 	}
 	if len(order) < nt {
@@ -121,20 +111,12 @@ func (eq *equilibration) treeBound(share []float64) (float64, bool) {
 		t := int(order[h])
 		i := int(parent[t])
 		flux[3*t+i] = sub[t]
-		e := m.TriEdge[3*t+i]
-		if m.IsBoundary(int(e)) {
+		o, j := across(m, t, i)
+		if o < 0 {
 			continue
 		}
-		o := m.EdgeTri[2*e]
-		if int(o) == t {
-			o = m.EdgeTri[2*e+1]
-		}
 		sub[o] += sub[t]
-		for j := range 3 {
-			if m.TriEdge[3*int(o)+j] == e {
-				flux[3*int(o)+j] = -sub[t]
-			}
-		}
+		flux[3*o+j] = -sub[t]
 	}
 	tree := 0.0
 	for t := range nt {
@@ -171,6 +153,26 @@ func (eq *equilibration) robinRoot(e int) (float64, bool) {
 		return 0, false
 	}
 	return r.Alpha, true
+}
+
+// across returns the triangle o on the other side of the edge opposite
+// local vertex i of triangle t, and the local index j of that edge in o;
+// o = −1 for a boundary edge.
+func across(m *mesh.Mesh, t, i int) (o, j int) {
+	e := m.TriEdge[3*t+i]
+	if m.IsBoundary(int(e)) {
+		return -1, 0
+	}
+	o = int(m.EdgeTri[2*e])
+	if o == t {
+		o = int(m.EdgeTri[2*e+1])
+	}
+	for j = range 3 {
+		if m.TriEdge[3*o+j] == e {
+			break
+		}
+	}
+	return o, j
 }
 
 // meanWeight returns m_T², the square of the factor of the Poincaré bound
