@@ -365,6 +365,7 @@ func Run(ctx context.Context, p Problem, s Settings, meth Method) (*Result, erro
 			return fail(StageSolve, fmt.Errorf("%w: solver returned %d values for %d DOFs", ErrMethod, len(uv), sp.NumDOF()))
 		}
 		u := &fem.Function{Space: sp, U: uv}
+		collectGarbage(rec.Triangles)
 		if err := ctx.Err(); err != nil {
 			return fail(StageEstimate, err)
 		}
@@ -452,6 +453,7 @@ func Run(ctx context.Context, p Problem, s Settings, meth Method) (*Result, erro
 			if err == nil && !s.KeepOrder {
 				next, parents, err = reorder(next, parents)
 			}
+			collectGarbage(rec.Triangles)
 			rec.RefineTime = time.Since(t)
 			if err != nil {
 				res.Steps = append(res.Steps, rec)

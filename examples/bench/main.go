@@ -33,7 +33,15 @@
 //
 // Usage:
 //
-//	go run ./examples/bench [-sizes 10000,100000,1000000] [-reps 3] [-csv FILE]
+//	go run ./examples/bench [-sizes 10000,100000,1000000] [-reps 3] [-csv FILE] [-system DIR]
+//
+// With -system DIR it also writes the P1 system of the largest size's mesh
+// (matrix and right-hand side, see writeSystem) into DIR, for the outside
+// anchor: a sparse direct solve of the same system by SciPy's SuperLU,
+// timed by direct.py beside this file:
+//
+//	go run ./examples/bench -sizes 1000000 -system /tmp/sys
+//	/usr/bin/python3 examples/bench/direct.py /tmp/sys   # Debian python3-scipy
 package main
 
 import (
@@ -77,6 +85,7 @@ func run(args []string, stdout, stderr io.Writer) int {
 	sizes := fs.String("sizes", "10000,100000,1000000", "comma-separated P1 unknowns, whole numbers from 100 to 2e7")
 	reps := fs.Int("reps", 3, "repetitions per stage (the best is kept), 1 to 100")
 	csvPath := fs.String("csv", "", "also write the table as CSV to this file")
+	sysDir := fs.String("system", "", "write the P1 system of the largest size's mesh to this folder (for examples/bench/direct.py)")
 	about := "Stage costs of the adaptive loop (assembly, solve, estimators, marking, refinement) in units of one\n" +
 		"sparse matrix-vector product (SpMV) of the same mesh, and peak memory, by size."
 	if err := cli.Parse(fs, args, "bench [flags]", about, stdout); err != nil {
@@ -106,11 +115,21 @@ func run(args []string, stdout, stderr io.Writer) int {
 			return 2
 		}
 	}
+	if *sysDir != "" {
+		if err := cli.CheckOut(*sysDir); err != nil {
+			fmt.Fprintln(stderr, "bench: -system:", err)
+			return 2
+		}
+	}
 	fmt.Fprintf(stdout, "stage costs in units of one SpMV of the same mesh; %d cores (GOMAXPROCS %d), %s\n", runtime.NumCPU(), runtime.GOMAXPROCS(0), runtime.Version())
 	fmt.Fprintf(stdout, "%-12s %9s %11s %14s %9s\n", "stage", "size", "time", "per element", "SpMV")
 	var rows []Row
-	for _, n := range ns {
-		rs, err := measure(n, *reps)
+	for i, n := range ns {
+		dir := ""
+		if i == len(ns)-1 {
+			dir = *sysDir
+		}
+		rs, err := measure(n, *reps, dir)
 		if err != nil {
 			fmt.Fprintln(stderr, "bench:", err)
 			return 1
@@ -268,7 +287,7 @@ func peakRSS() float64 {
 	return 0
 }
 
-func measure(n, reps int) ([]Row, error) {
+func measure(n, reps int, sysDir string) ([]Row, error) {
 	// The mesh the adaptive loop makes for the L-shape (P1, residual
 	// estimator, Dörfler θ = 0.5) with at least n DOFs: graded towards the
 	// corner, as in use.
@@ -285,6 +304,11 @@ func measure(n, reps int) ([]Row, error) {
 	sys1, err := fem.Assemble(s1, p)
 	if err != nil {
 		return nil, err
+	}
+	if sysDir != "" {
+		if err := writeSystem(sysDir, sys1); err != nil {
+			return nil, err
+		}
 	}
 	u1 := newUnit(sys1.A)
 	var rows []Row

@@ -2,6 +2,8 @@ package main
 
 import (
 	"bytes"
+	"encoding/binary"
+	"encoding/json"
 	"io"
 	"os"
 	"path/filepath"
@@ -46,6 +48,47 @@ func TestRunSmall(t *testing.T) {
 	}
 }
 
+// TestWriteSystem checks the files of -system against the system they
+// describe: the CSR arrays' lengths and the row pointers' ends.
+func TestWriteSystem(t *testing.T) {
+	t.Parallel()
+	dir := t.TempDir()
+	var out, errs bytes.Buffer
+	if code := run([]string{"-sizes", "200,400", "-reps", "1", "-system", dir}, &out, &errs); code != 0 {
+		t.Fatalf("exit %d: %s", code, errs.String())
+	}
+	b, err := os.ReadFile(filepath.Join(dir, "system.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var h systemHeader
+	if err := json.Unmarshal(b, &h); err != nil {
+		t.Fatal(err)
+	}
+	if h.Rows < 400 || h.NNZ < 3*h.Rows {
+		t.Fatalf("header %+v: want the 400-DOF mesh's system", h)
+	}
+	size := func(name string) int64 {
+		fi, err := os.Stat(filepath.Join(dir, name))
+		if err != nil {
+			t.Fatal(err)
+		}
+		return fi.Size()
+	}
+	for name, want := range map[string]int{"rowptr.i32": 4 * (h.Rows + 1), "col.i32": 4 * h.NNZ, "val.f64": 8 * h.NNZ, "rhs.f64": 8 * h.Rows} {
+		if got := size(name); got != int64(want) {
+			t.Errorf("%s: %d bytes, want %d", name, got, want)
+		}
+	}
+	rp, err := os.ReadFile(filepath.Join(dir, "rowptr.i32"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if first, last := binary.LittleEndian.Uint32(rp), binary.LittleEndian.Uint32(rp[len(rp)-4:]); first != 0 || int(last) != h.NNZ {
+		t.Errorf("row pointers from %d to %d, want 0 to %d", first, last, h.NNZ)
+	}
+}
+
 func TestBadFlags(t *testing.T) {
 	t.Parallel()
 	file := filepath.Join(t.TempDir(), "file")
@@ -53,11 +96,11 @@ func TestBadFlags(t *testing.T) {
 		t.Fatal(err)
 	}
 	for _, args := range [][]string{{"-sizes", "10"}, {"-sizes", "1e4,x"}, {"-reps", "0"}, {"-nope"}, {"extra"},
-		{"-sizes", "100", "-csv", filepath.Join(file, "t.csv")}} {
+		{"-sizes", "100", "-csv", filepath.Join(file, "t.csv")}, {"-sizes", "100", "-system", filepath.Join(file, "d")}} {
 		var out, errs bytes.Buffer
 		if code := run(args, &out, &errs); code != 2 || out.Len() != 0 || strings.Count(strings.TrimRight(errs.String(), "\n"), "\n") != 0 {
 			t.Errorf("%v: exit %d, stdout %q, stderr %q; want 2, nothing, one line", args, code, out.String(), errs.String())
 		}
 	}
-	scenario.CheckHelp(t, func(args []string, o, e io.Writer) int { return run(args, o, e) }, "sizes", "reps", "csv")
+	scenario.CheckHelp(t, func(args []string, o, e io.Writer) int { return run(args, o, e) }, "sizes", "reps", "csv", "system")
 }
