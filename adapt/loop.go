@@ -72,7 +72,7 @@ type Settings struct {
 	// KeepOrder keeps the numbering that mesh.Refine gives each refined
 	// mesh (old vertices and triangles first, the new ones appended).
 	// By default the loop renumbers each refined mesh for locality
-	// (mesh.Reorder, with the parent map composed), which makes the
+	// (mesh.Mesh.Renumber, with the parent map composed), which makes the
 	// products with its matrices several times faster on large meshes;
 	// the time counts in Step.RefineTime. The meshes, solutions and
 	// figures of the steps are the same either way, up to the rounding
@@ -497,10 +497,11 @@ func Run(ctx context.Context, p Problem, s Settings, meth Method) (*Result, erro
 	}
 }
 
-// reorder renumbers a refined mesh for locality and composes its parent
-// map with the renumbering.
+// reorder renumbers a refined mesh for locality, in place (the loop holds
+// the only reference to it), and composes its parent map with the
+// renumbering.
 func reorder(m *mesh.Mesh, p *mesh.Parents) (*mesh.Mesh, *mesh.Parents, error) {
-	r, o, err := m.Reorder()
+	o, err := m.Renumber()
 	if err != nil {
 		return nil, nil, err
 	}
@@ -508,7 +509,7 @@ func reorder(m *mesh.Mesh, p *mesh.Parents) (*mesh.Mesh, *mesh.Parents, error) {
 	if err != nil {
 		return nil, nil, err
 	}
-	return r, q, nil
+	return m, q, nil
 }
 
 // dofs returns the dimension of the degree-p space on m.

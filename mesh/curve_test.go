@@ -260,6 +260,15 @@ func TestCurvedNearInteriorVertex(t *testing.T) {
 						t.Errorf("uniform=%v: chord vertex %d at (%g, %g) after Reorder, (%g, %g) before", uniform, c, cx, cy, px, py)
 					}
 				}
+				// Renumber in place gives the same mesh, curves included.
+				c := *fine
+				for _, a := range []*[]int32{&c.Tri, &c.Region, &c.Edge, &c.TriEdge, &c.EdgeTri, &c.EdgeTag, &c.EdgeCurve} {
+					*a = slices.Clone(*a)
+				}
+				c.X = slices.Clone(c.X)
+				if _, err := c.Renumber(); err != nil || !slices.Equal(c.EdgeCurve, r.EdgeCurve) || !slices.Equal(c.X, r.X) || len(c.Curves) != len(r.Curves) {
+					t.Errorf("uniform=%v: Renumber: %v, or curves or coordinates differ from Reorder's", uniform, err)
+				}
 			}
 		})
 	}

@@ -83,36 +83,56 @@ func (m *Mesh) Reorder() (*Mesh, *Order, error) {
 	return r, o, nil
 }
 
+// Renumber renumbers m in place, exactly as Reorder renumbers a copy, and
+// returns the renumbering. Each array of m is replaced by a renumbered
+// one, and the arrays replaced are reused for the next ones, so Renumber
+// allocates about a third of what Reorder does: for a mesh that nothing
+// else refers to yet, such as one that Refine has just returned. Slices of
+// m's arrays taken before the call (by a fem.Space made on m, say) must
+// not be used after it. On error (ErrEmpty, ErrLength, ErrIndex: the
+// checks of Reorder) m is not modified.
+func (m *Mesh) Renumber() (*Order, error) {
+	if err := checkShape(m, "Renumber"); err != nil {
+		return nil, err
+	}
+	perm, _ := m.renumbering(true)
+	var spare [][]int32
+	perm.apply(m, m, &spare)
+	return perm.o, nil
+}
+
 // reorderGrain is the least number of indices per goroutine in Reorder's
 // passes (common practice, no source: enough work to pay for a goroutine).
 const reorderGrain = 1 << 14
 
-// reorder renumbers m, which checkShape accepted. With merge, the longest
-// prefix of the vertices whose Hilbert keys already ascend (all of the old
-// vertices of a renumbered mesh that Refine refined, while the bounding
-// square stays the same) is kept as it is and merged with the rest,
-// radix-sorted; without, every key is radix-sorted. Both give the same
-// order: that of (key, index). kept is the length of the prefix kept.
+// reorder renumbers m, which checkShape accepted, into a new mesh. With
+// merge, the longest prefix of the vertices whose Hilbert keys already
+// ascend (all of the old vertices of a renumbered mesh that Refine
+// refined, while the bounding square stays the same) is kept as it is and
+// merged with the rest, radix-sorted; without, every key is radix-sorted.
+// Both give the same order: that of (key, index). kept is the length of
+// the prefix kept.
 func (m *Mesh) reorder(merge bool) (r *Mesh, o *Order, kept int) {
-	nv, nt, ne := m.NumVertices(), m.NumTriangles(), m.NumEdges()
-	o = &Order{}
-	vnew := make([]int32, nv)
-	o.Vertex, kept = hilbertOrder(m.X, vnew, merge)
+	perm, kept := m.renumbering(merge)
+	r = &Mesh{Curves: m.Curves, pieces: m.pieces}
+	perm.apply(r, m, nil)
+	return r, perm.o, kept
+}
 
-	r = &Mesh{
-		X:       make([]float64, 2*nv),
-		Tri:     make([]int32, 3*nt),
-		Region:  make([]int32, nt),
-		Edge:    make([]int32, 2*ne),
-		TriEdge: make([]int32, 3*nt),
-		EdgeTri: make([]int32, 2*ne),
-		EdgeTag: make([]int32, ne),
-		pieces:  m.pieces,
-	}
-	if m.EdgeCurve != nil {
-		r.Curves = m.Curves
-		r.EdgeCurve = make([]int32, ne)
-	}
+// renumbering is a renumbering of a mesh: Order and its inverses.
+type renumbering struct {
+	o                *Order
+	vnew, enew, tnew []int32 // per old vertex, edge, triangle: its new index
+}
+
+// renumbering computes the renumbering of m that Reorder documents; see
+// reorder for merge.
+func (m *Mesh) renumbering(merge bool) (p renumbering, kept int) {
+	nv, nt, ne := m.NumVertices(), m.NumTriangles(), m.NumEdges()
+	p.o = &Order{}
+	p.vnew = make([]int32, nv)
+	p.o.Vertex, kept = hilbertOrder(m.X, p.vnew, merge)
+	vnew := p.vnew
 
 	// Edges by (low, high) new vertex: a counting sort on the low vertex,
 	// then a sort of each bucket by the high vertex. Each bucket holds, per
@@ -125,35 +145,36 @@ func (m *Mesh) reorder(merge bool) (r *Mesh, o *Order, kept int) {
 		start[v+1] += start[v]
 	}
 	slot := make([]int64, ne)
+	fill := make([]int32, nv)
+	copy(fill, start)
 	for e := range ne {
 		a, b := vnew[m.Edge[2*e]], vnew[m.Edge[2*e+1]]
 		l := min(a, b)
-		slot[start[l]] = int64(max(a, b))<<32 | int64(e)
-		start[l]++
+		slot[fill[l]] = int64(max(a, b))<<32 | int64(e)
+		fill[l]++
 	}
-	// start[v] is now the end of bucket v.
-	o.Edge = make([]int32, ne)
-	enew := make([]int32, ne)
-	b := int32(0)
-	for v := range int32(nv) {
-		s := slot[b:start[v]]
-		if len(s) > 1 {
-			slices.Sort(s)
+	p.o.Edge = make([]int32, ne)
+	p.enew = make([]int32, ne)
+	parallel.For(nv, reorderGrain, func(lo, hi int) error {
+		for v := lo; v < hi; v++ {
+			b := start[v]
+			s := slot[b:start[v+1]]
+			if len(s) > 1 {
+				slices.Sort(s)
+			}
+			for i, k := range s {
+				j, e := b+int32(i), int32(k)
+				p.o.Edge[j] = e
+				p.enew[e] = j
+			}
 		}
-		for i, k := range s {
-			j := b + int32(i)
-			e := int32(k)
-			o.Edge[j] = e
-			enew[e] = j
-			r.Edge[2*j], r.Edge[2*j+1] = v, int32(k>>32)
-		}
-		b = start[v]
-	}
+		return nil
+	})
 
-	// Triangles by their lowest new vertex: a counting sort, stable, whose
-	// last pass puts each triangle in its place. tnew holds the lowest
-	// vertex of each triangle, then its new index.
-	tnew := make([]int32, nt)
+	// Triangles by their lowest new vertex: a counting sort, stable. tnew
+	// holds the lowest vertex of each triangle, then its new index.
+	p.tnew = make([]int32, nt)
+	tnew := p.tnew
 	parallel.For(nt, reorderGrain, func(lo, hi int) error {
 		for k := lo; k < hi; k++ {
 			tnew[k] = min(vnew[m.Tri[3*k]], vnew[m.Tri[3*k+1]], vnew[m.Tri[3*k+2]])
@@ -167,44 +188,95 @@ func (m *Mesh) reorder(merge bool) (r *Mesh, o *Order, kept int) {
 	for v := range nv {
 		start[v+1] += start[v]
 	}
-	o.Triangle = make([]int32, nt)
+	p.o.Triangle = make([]int32, nt)
 	for k, l := range tnew {
 		j := start[l]
 		start[l]++
 		tnew[k] = j
-		o.Triangle[j] = int32(k)
-		for i := range 3 {
-			r.Tri[3*j+int32(i)] = vnew[m.Tri[3*k+i]]
-			r.TriEdge[3*j+int32(i)] = enew[m.TriEdge[3*k+i]]
-		}
-		r.Region[j] = m.Region[k]
+		p.o.Triangle[j] = int32(k)
 	}
+	return p, kept
+}
 
-	// The arrays gathered through the permutations, each index by itself.
+// apply writes the arrays of src renumbered by p into r, each entry by
+// itself (a gather through the permutations, on up to GOMAXPROCS
+// goroutines). r may be src itself: each array is gathered from its own
+// old values into a fresh one, which then replaces it. With spare not nil,
+// the fresh arrays are taken from spare where one is long enough, and the
+// arrays replaced are put into it.
+func (p renumbering) apply(r, src *Mesh, spare *[][]int32) {
+	nv, nt, ne := src.NumVertices(), src.NumTriangles(), src.NumEdges()
+	take := func(n int) []int32 {
+		if spare != nil {
+			for i, b := range *spare {
+				if cap(b) >= n {
+					*spare = slices.Delete(*spare, i, i+1)
+					return b[:n]
+				}
+			}
+		}
+		return make([]int32, n)
+	}
+	give := func(b []int32) {
+		if spare != nil && b != nil {
+			*spare = append(*spare, b)
+		}
+	}
+	o, vnew, enew, tnew := p.o, p.vnew, p.enew, p.tnew
+	// gather sets *dst to a new array of n·w entries whose i-th group of
+	// w is set by f from index i's old entity; old is *dst's old value.
+	gather := func(dst *[]int32, old []int32, count, w int, f func(out, old []int32, i int)) {
+		out := take(count * w)
+		parallel.For(count, reorderGrain, func(lo, hi int) error {
+			for i := lo; i < hi; i++ {
+				f(out, old, i)
+			}
+			return nil
+		})
+		*dst = out
+		give(old)
+	}
+	// Largest first, so that each array given up can take the next one.
+	gather(&r.Edge, src.Edge, ne, 2, func(out, old []int32, j int) {
+		e := o.Edge[j]
+		a, b := vnew[old[2*e]], vnew[old[2*e+1]]
+		out[2*j], out[2*j+1] = min(a, b), max(a, b)
+	})
+	gather(&r.EdgeTri, src.EdgeTri, ne, 2, func(out, old []int32, j int) {
+		e := o.Edge[j]
+		for s := range int32(2) {
+			out[2*int32(j)+s] = -1
+			if t := old[2*e+s]; t >= 0 {
+				out[2*int32(j)+s] = tnew[t]
+			}
+		}
+	})
+	gather(&r.Tri, src.Tri, nt, 3, func(out, old []int32, j int) {
+		k := o.Triangle[j]
+		for i := range int32(3) {
+			out[3*int32(j)+i] = vnew[old[3*k+i]]
+		}
+	})
+	gather(&r.TriEdge, src.TriEdge, nt, 3, func(out, old []int32, j int) {
+		k := o.Triangle[j]
+		for i := range int32(3) {
+			out[3*int32(j)+i] = enew[old[3*k+i]]
+		}
+	})
+	gather(&r.EdgeTag, src.EdgeTag, ne, 1, func(out, old []int32, j int) { out[j] = old[o.Edge[j]] })
+	if src.EdgeCurve != nil {
+		gather(&r.EdgeCurve, src.EdgeCurve, ne, 1, func(out, old []int32, j int) { out[j] = old[o.Edge[j]] })
+	}
+	gather(&r.Region, src.Region, nt, 1, func(out, old []int32, j int) { out[j] = old[o.Triangle[j]] })
+	x := make([]float64, 2*nv)
 	parallel.For(nv, reorderGrain, func(lo, hi int) error {
 		for i := lo; i < hi; i++ {
 			v := o.Vertex[i]
-			r.X[2*i], r.X[2*i+1] = m.X[2*v], m.X[2*v+1]
+			x[2*i], x[2*i+1] = src.X[2*v], src.X[2*v+1]
 		}
 		return nil
 	})
-	parallel.For(ne, reorderGrain, func(lo, hi int) error {
-		for i := lo; i < hi; i++ {
-			e := o.Edge[i]
-			for s := range 2 {
-				r.EdgeTri[2*i+s] = -1
-				if t := m.EdgeTri[2*e+int32(s)]; t >= 0 {
-					r.EdgeTri[2*i+s] = tnew[t]
-				}
-			}
-			r.EdgeTag[i] = m.EdgeTag[e]
-			if r.EdgeCurve != nil {
-				r.EdgeCurve[i] = m.EdgeCurve[e]
-			}
-		}
-		return nil
-	})
-	return r, o, kept
+	r.X = x
 }
 
 // hilbertOrder returns the vertices of x (2 coordinates per vertex) in the

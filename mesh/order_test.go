@@ -195,6 +195,58 @@ func TestParentsCompose(t *testing.T) {
 	}
 }
 
+// Renumber gives the mesh and the order that Reorder gives, array for
+// array, on every test mesh; curves and pieces stay.
+func TestRenumber(t *testing.T) {
+	t.Parallel()
+	for name, m := range reorderMeshes(t) {
+		t.Run(name, func(t *testing.T) {
+			r, o, err := m.Reorder()
+			if err != nil {
+				t.Fatal(err)
+			}
+			c := cloneMesh(m)
+			o2, err := c.Renumber()
+			if err != nil {
+				t.Fatal(err)
+			}
+			if !slices.Equal(o.Vertex, o2.Vertex) || !slices.Equal(o.Edge, o2.Edge) || !slices.Equal(o.Triangle, o2.Triangle) {
+				t.Fatal("orders differ")
+			}
+			for what, ab := range map[string][2][]int32{"Tri": {r.Tri, c.Tri}, "Region": {r.Region, c.Region}, "Edge": {r.Edge, c.Edge},
+				"TriEdge": {r.TriEdge, c.TriEdge}, "EdgeTri": {r.EdgeTri, c.EdgeTri}, "EdgeTag": {r.EdgeTag, c.EdgeTag}, "EdgeCurve": {r.EdgeCurve, c.EdgeCurve}} {
+				if !slices.Equal(ab[0], ab[1]) {
+					t.Fatalf("%s differs", what)
+				}
+			}
+			if !slices.Equal(r.X, c.X) || len(r.Curves) != len(c.Curves) || r.pieces != c.pieces {
+				t.Fatal("coordinates, curves or pieces differ")
+			}
+		})
+	}
+	m, _ := LShape(1)
+	bad := *m
+	bad.Tri = slices.Clone(m.Tri)
+	bad.Tri[4] = int32(m.NumVertices())
+	keep := slices.Clone(bad.Tri)
+	if _, err := bad.Renumber(); !errors.Is(err, ErrIndex) || !slices.Equal(bad.Tri, keep) {
+		t.Errorf("vertex out of range: %v, triangles changed: %v", err, !slices.Equal(bad.Tri, keep))
+	}
+	if _, err := (*Mesh)(nil).Renumber(); !errors.Is(err, ErrArgument) {
+		t.Errorf("nil mesh: %v", err)
+	}
+}
+
+// cloneMesh returns a copy of m with arrays of its own.
+func cloneMesh(m *Mesh) *Mesh {
+	c := *m
+	for _, a := range []*[]int32{&c.Tri, &c.Region, &c.Edge, &c.TriEdge, &c.EdgeTri, &c.EdgeTag, &c.EdgeCurve} {
+		*a = slices.Clone(*a)
+	}
+	c.X = slices.Clone(c.X)
+	return &c
+}
+
 func TestReorderBadInput(t *testing.T) {
 	t.Parallel()
 	if _, _, err := (*Mesh)(nil).Reorder(); !errors.Is(err, ErrArgument) {
@@ -229,14 +281,25 @@ func BenchmarkReorder(b *testing.B) {
 			name string
 			m    *Mesh
 		}{{"unordered", u}, {"ordered", o}} {
-			for _, impl := range []string{"reorder", "reference"} {
+			for _, impl := range []string{"reorder", "renumber", "reference"} {
 				b.Run("n="+strconv.Itoa(n)+"/parent="+c.name+"/impl="+impl, func(b *testing.B) {
 					f := (*Mesh).Reorder
-					if impl == "reference" {
+					switch impl {
+					case "reference":
 						f = reorderReference
+					case "renumber":
+						// In place, on a copy made outside the timing.
+						f = func(m *Mesh) (*Mesh, *Order, error) {
+							b.StopTimer()
+							c := cloneMesh(m)
+							b.StartTimer()
+							o, err := c.Renumber()
+							return c, o, err
+						}
 					}
 					var sink *Mesh
-					for b.Loop() {
+					b.ResetTimer()
+					for range b.N {
 						r, _, err := f(c.m)
 						if err != nil {
 							b.Fatal(err)
