@@ -5,6 +5,7 @@ import (
 	"slices"
 
 	"github.com/posteriori-fem/posteriori/internal/parallel"
+	"github.com/posteriori-fem/posteriori/internal/spare"
 )
 
 // Order is a renumbering of a mesh, as Reorder returns it: for each
@@ -96,8 +97,7 @@ func (m *Mesh) Renumber() (*Order, error) {
 		return nil, err
 	}
 	perm, _ := m.renumbering(true)
-	var spare [][]int32
-	perm.apply(m, m, &spare)
+	perm.apply(m, m, new(spare.Bin[int32]))
 	return perm.o, nil
 }
 
@@ -201,32 +201,16 @@ func (m *Mesh) renumbering(merge bool) (p renumbering, kept int) {
 // apply writes the arrays of src renumbered by p into r, each entry by
 // itself (a gather through the permutations, on up to GOMAXPROCS
 // goroutines). r may be src itself: each array is gathered from its own
-// old values into a fresh one, which then replaces it. With spare not nil,
-// the fresh arrays are taken from spare where one is long enough, and the
+// old values into a fresh one, which then replaces it. With bin not nil,
+// the fresh arrays are taken from bin where one is long enough, and the
 // arrays replaced are put into it.
-func (p renumbering) apply(r, src *Mesh, spare *[][]int32) {
+func (p renumbering) apply(r, src *Mesh, bin *spare.Bin[int32]) {
 	nv, nt, ne := src.NumVertices(), src.NumTriangles(), src.NumEdges()
-	take := func(n int) []int32 {
-		if spare != nil {
-			for i, b := range *spare {
-				if cap(b) >= n {
-					*spare = slices.Delete(*spare, i, i+1)
-					return b[:n]
-				}
-			}
-		}
-		return make([]int32, n)
-	}
-	give := func(b []int32) {
-		if spare != nil && b != nil {
-			*spare = append(*spare, b)
-		}
-	}
 	o, vnew, enew, tnew := p.o, p.vnew, p.enew, p.tnew
 	// gather sets *dst to a new array of n·w entries whose i-th group of
 	// w is set by f from index i's old entity; old is *dst's old value.
 	gather := func(dst *[]int32, old []int32, count, w int, f func(out, old []int32, i int)) {
-		out := take(count * w)
+		out := bin.Take(count * w)
 		parallel.For(count, reorderGrain, func(lo, hi int) error {
 			for i := lo; i < hi; i++ {
 				f(out, old, i)
@@ -234,7 +218,7 @@ func (p renumbering) apply(r, src *Mesh, spare *[][]int32) {
 			return nil
 		})
 		*dst = out
-		give(old)
+		bin.Give(old)
 	}
 	// Largest first, so that each array given up can take the next one.
 	gather(&r.Edge, src.Edge, ne, 2, func(out, old []int32, j int) {
