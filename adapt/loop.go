@@ -168,14 +168,21 @@ var _ TargetSolver = FEMSolver{}
 // error is at most energyTol (fem.SolveSettings.EnergyTol; 0 leaves the
 // settings' own value), and returns the solver's stats.
 func (f FEMSolver) SolveTo(s *fem.Space, p *fem.Problem, guess []float64, energyTol float64) ([]float64, fem.SolveStats, error) {
-	u, stats, _, err := f.solve(s, p, guess, energyTol)
+	u, stats, _, err := f.solve(nil, s, p, guess, energyTol)
 	return u, stats, err
 }
 
-// solve is SolveTo, also returning the system with its preconditioner,
-// from which the loop solves a goal's dual problem (goalState.step).
-func (f FEMSolver) solve(s *fem.Space, p *fem.Problem, guess []float64, energyTol float64) ([]float64, fem.SolveStats, *fem.Prepared, error) {
-	sys, err := fem.Assemble(s, p)
+// solve is SolveTo, assembling in w (unless nil, see fem.Workspace) and
+// also returning the system with its preconditioner, from which the loop
+// solves a goal's dual problem (goalState.step).
+func (f FEMSolver) solve(w *fem.Workspace, s *fem.Space, p *fem.Problem, guess []float64, energyTol float64) ([]float64, fem.SolveStats, *fem.Prepared, error) {
+	var sys *fem.System
+	var err error
+	if w != nil {
+		sys, err = w.Assemble(s, p)
+	} else {
+		sys, err = fem.Assemble(s, p)
+	}
 	if err != nil {
 		return nil, fem.SolveStats{}, nil, err
 	}
@@ -320,6 +327,7 @@ func Run(ctx context.Context, p Problem, s Settings, meth Method) (*Result, erro
 	var err2 []float64
 	var gs *goalState
 	var dualGuess []float64
+	ws := new(fem.Workspace) // FEMSolver's storage, reused by each step
 	if meth.Goal != nil {
 		gs = &goalState{goal: meth.Goal, dual: fem.Dual(p.Data, meth.Goal)}
 	}
@@ -344,15 +352,20 @@ func Run(ctx context.Context, p Problem, s Settings, meth Method) (*Result, erro
 		}
 		var uv []float64
 		var st fem.SolveStats
-		if fs, ok := meth.Solver.(FEMSolver); ok && gs != nil {
-			// The library's solver keeps the system for the dual solve.
-			uv, st, gs.primal, err = fs.solve(sp, p.Data, g, 0)
-		} else if ts, ok := meth.Solver.(TargetSolver); ok {
-			etol := 0.0
-			if frac > 0 && step > 0 && meth.Goal == nil {
-				prev := res.Steps[step-1]
-				etol = frac * max(prev.Estimate-prev.Algebraic, 0)
+		etol := 0.0
+		if frac > 0 && step > 0 && meth.Goal == nil {
+			prev := res.Steps[step-1]
+			etol = frac * max(prev.Estimate-prev.Algebraic, 0)
+		}
+		if fs, ok := meth.Solver.(FEMSolver); ok {
+			// The library's solver reuses its storage from step to step,
+			// and keeps the system for the dual solve.
+			var ps *fem.Prepared
+			uv, st, ps, err = fs.solve(ws, sp, p.Data, g, etol)
+			if gs != nil {
+				gs.primal = ps
 			}
+		} else if ts, ok := meth.Solver.(TargetSolver); ok {
 			uv, st, err = ts.SolveTo(sp, p.Data, g, etol)
 		} else {
 			uv, st.Iterations, err = meth.Solver.Solve(sp, p.Data, g)

@@ -21,6 +21,8 @@ type System struct {
 	A         *Matrix
 	B         []float64
 	Dirichlet []int32 // the Dirichlet DOFs, ascending
+
+	work *Workspace // the workspace it was assembled in, or nil
 }
 
 // Quadrature degrees used by Assemble (exact for polynomial data of these
@@ -54,6 +56,12 @@ const LoadExtraDegree = 2
 // infinity, ErrDiffusion when AFunc gives a tensor that is not positive
 // definite, and the errors of Problem.Check.
 func Assemble(s *Space, p *Problem) (*System, error) {
+	return assemble(s, p, nil)
+}
+
+// assemble is Assemble, with the arrays taken from w (new ones for a nil
+// w) and its scratch given back to w.
+func assemble(s *Space, p *Problem, w *Workspace) (*System, error) {
 	if s == nil {
 		return nil, fmt.Errorf("fem: Assemble: nil space: %w", ErrArgument)
 	}
@@ -67,13 +75,13 @@ func Assemble(s *Space, p *Problem) (*System, error) {
 	var a *Matrix
 	var b []float64
 	if s.Degree == 1 {
-		if a, b, err = assembleP1(s, p, rules); err != nil {
+		if a, b, err = assembleP1(s, p, rules, w); err != nil {
 			return nil, err
 		}
 	} else {
-		a = pattern(s)
-		b = make([]float64, s.NumDOF())
-		if err := assembleP2(s, p, rules, a, b); err != nil {
+		a = pattern(s, w)
+		b = w.float64s(s.NumDOF(), true)
+		if err := assembleP2(s, p, rules, a, b, w); err != nil {
 			return nil, err
 		}
 	}
@@ -89,12 +97,13 @@ func Assemble(s *Space, p *Problem) (*System, error) {
 	if err := assembleRobin(s, p, bnd, a, b); err != nil {
 		return nil, err
 	}
-	fixed, g, err := dirichletValues(s, p, bnd)
+	fixed, g, err := dirichletValues(s, p, bnd, w)
 	if err != nil {
 		return nil, err
 	}
 	sys := &System{Space: s, Problem: p, A: a, B: b}
 	sys.eliminate(fixed, g)
+	w.give(nil, g)
 	if p.pureNeumann() {
 		mean := 0.0
 		for _, v := range b {
@@ -114,7 +123,7 @@ func Assemble(s *Space, p *Problem) (*System, error) {
 // by its one or two triangles) are gathered and deduplicated with a stamp
 // per DOF and sorted, in parallel chunks of rows: linear for
 // meshes of bounded vertex degree.
-func pattern(s *Space) *Matrix {
+func pattern(s *Space, w *Workspace) *Matrix {
 	m := s.Mesh
 	n, nv := s.NumDOF(), int32(m.NumVertices())
 	start, vt := m.VertexTriangles()
@@ -156,7 +165,7 @@ func pattern(s *Space) *Matrix {
 	const chunk = 1 << 14
 	nc := (n + chunk - 1) / chunk
 	bufs := make([][]int32, nc)
-	rowPtr := make([]int32, n+1)
+	rowPtr := w.int32s(n+1, true)
 	_ = parallel.For(nc, 1, func(lo, hi int) error {
 		stamp := make([]int32, n)
 		for c := lo; c < hi; c++ {
@@ -180,14 +189,14 @@ func pattern(s *Space) *Matrix {
 	for d := range n {
 		rowPtr[d+1] += rowPtr[d]
 	}
-	cols := make([]int32, rowPtr[n])
+	cols := w.int32s(int(rowPtr[n]), false)
 	_ = parallel.For(nc, 1, func(lo, hi int) error {
 		for c := lo; c < hi; c++ {
 			copy(cols[rowPtr[c*chunk]:], bufs[c])
 		}
 		return nil
 	})
-	return &Matrix{Rows: n, Cols: n, RowPtr: rowPtr, Col: cols, Val: make([]float64, rowPtr[n])}
+	return &Matrix{Rows: n, Cols: n, RowPtr: rowPtr, Col: cols, Val: w.float64s(int(rowPtr[n]), true)}
 }
 
 // elementWork holds one goroutine's buffers for element computations.

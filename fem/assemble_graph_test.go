@@ -71,7 +71,7 @@ func TestAssemblyMatchesElements(t *testing.T) {
 				if err != nil {
 					t.Fatal(err)
 				}
-				ref := pattern(s)
+				ref := pattern(s, nil)
 				refB := make([]float64, s.NumDOF())
 				if err := assembleElements(s, p, r, ref, refB); err != nil {
 					t.Fatal(err)
@@ -79,10 +79,10 @@ func TestAssemblyMatchesElements(t *testing.T) {
 				var a *Matrix
 				var b []float64
 				if deg == 1 {
-					a, b, err = assembleP1(s, p, r)
+					a, b, err = assembleP1(s, p, r, nil)
 				} else {
-					a, b = pattern(s), make([]float64, s.NumDOF())
-					err = assembleP2(s, p, r, a, b)
+					a, b = pattern(s, nil), make([]float64, s.NumDOF())
+					err = assembleP2(s, p, r, a, b, nil)
 				}
 				if err != nil {
 					t.Fatal(err)

@@ -27,13 +27,13 @@ import (
 // row's vertex is Edge[2e+d]. The rows are filled in edge order (each
 // goroutine scans all edges and fills the rows of the vertices it owns)
 // and sorted.
-func patternP1(m *mesh.Mesh) (*Matrix, []int32) {
+func patternP1(m *mesh.Mesh, w *Workspace) (*Matrix, []int32) {
 	n, ne := m.NumVertices(), m.NumEdges()
 	nw := max(1, min(runtime.GOMAXPROCS(0), n/(1<<15)))
 	b := parallel.Even(nil, nw, n)
 	bounds := func(w int) (int32, int32) { return int32(b[w]), int32(b[w+1]) }
 	// Each goroutine w owns the vertices [lo, hi) and scans all edges.
-	rowPtr := make([]int32, n+1)
+	rowPtr := w.int32s(n+1, true)
 	parallel.Run(nw, func(w int) {
 		lo, hi := bounds(w)
 		for _, v := range m.Edge {
@@ -46,9 +46,10 @@ func patternP1(m *mesh.Mesh) (*Matrix, []int32) {
 		rowPtr[v+1] += rowPtr[v] + 1 // the diagonal
 	}
 	nnz := int(rowPtr[n])
-	col := make([]int32, nnz)
-	slot := make([]int32, nnz)
-	fill := make([]int32, n)
+	col := w.int32s(nnz, false)
+	slot := w.int32s(nnz, false)
+	fill := w.int32s(n, false)
+	defer w.give([][]int32{fill})
 	parallel.Run(nw, func(w int) {
 		lo, hi := bounds(w)
 		for v := lo; v < hi; v++ {
@@ -82,26 +83,27 @@ func patternP1(m *mesh.Mesh) (*Matrix, []int32) {
 			}
 		}
 	})
-	return &Matrix{Rows: n, Cols: n, RowPtr: rowPtr, Col: col, Val: make([]float64, nnz)}, slot
+	return &Matrix{Rows: n, Cols: n, RowPtr: rowPtr, Col: col, Val: w.float64s(nnz, false)}, slot
 }
 
 // assembleP1 returns the P1 stiffness matrix (with the reaction term) and
-// the load vector of p, before boundary conditions.
-func assembleP1(s *Space, p *Problem, r rules) (*Matrix, []float64, error) {
+// the load vector of p, before boundary conditions; its arrays come from ws.
+func assembleP1(s *Space, p *Problem, r rules, ws *Workspace) (*Matrix, []float64, error) {
 	m := s.Mesh
 	n, ne, nt := m.NumVertices(), m.NumEdges(), m.NumTriangles()
-	a, slot := patternP1(m)
+	a, slot := patternP1(m, ws)
 	// ek[2e+s]: stiffness of edge e from its triangle EdgeTri[2e+s];
 	// ea likewise the area (for the mass term), eb[2(2e+d)+s] the half load
 	// of vertex Edge[2e+d] from that triangle.
-	ek := make([]float64, 2*ne)
+	ek := ws.float64s(2*ne, true)
 	var ea, eb []float64
 	if p.C != 0 {
-		ea = make([]float64, 2*ne)
+		ea = ws.float64s(2*ne, true)
 	}
 	if p.HasSource() {
-		eb = make([]float64, 4*ne)
+		eb = ws.float64s(4*ne, true)
 	}
+	defer ws.give([][]int32{slot}, ek, ea, eb)
 	rt := NewRegionTable(p)
 	pc := p.PiecewiseConstant()
 	err := parallel.For(nt, 4096, func(lo, hi int) error {
@@ -166,7 +168,7 @@ func assembleP1(s *Space, p *Problem, r rules) (*Matrix, []float64, error) {
 	if err != nil {
 		return nil, nil, err
 	}
-	b := make([]float64, n)
+	b := ws.float64s(n, false)
 	c := p.C / 12
 	_ = parallel.For(n, 4096, func(lo, hi int) error {
 		for v := lo; v < hi; v++ {

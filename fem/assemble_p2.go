@@ -30,13 +30,14 @@ const (
 )
 
 // assembleP2 adds the element matrices and loads of every triangle to a
-// (with the pattern of s, zero values) and b.
-func assembleP2(s *Space, p *Problem, r rules, a *Matrix, b []float64) error {
+// (with the pattern of s, zero values) and b; its scratch comes from ws.
+func assembleP2(s *Space, p *Problem, r rules, a *Matrix, b []float64, ws *Workspace) error {
 	m := s.Mesh
 	nt, ne := m.NumTriangles(), m.NumEdges()
 	nv := int32(m.NumVertices())
-	slot := make([]float64, 2*slotsPerSide*ne)
-	fe := make([]float64, 6*nt)
+	slot := ws.float64s(2*slotsPerSide*ne, true)
+	fe := ws.float64s(6*nt, true)
+	defer ws.give(nil, slot, fe)
 	at := func(row, col int32) int32 {
 		return a.RowPtr[row] + int32(search(a.Col[a.RowPtr[row]:a.RowPtr[row+1]], col))
 	}

@@ -86,11 +86,11 @@ func boundaryEdges(m *mesh.Mesh) []int32 {
 // dirichletValues returns the Dirichlet mask and the values g_D at the
 // Dirichlet nodes, taking each node's value from the smallest tag it
 // touches.
-func dirichletValues(s *Space, p *Problem, bnd []int32) (fixed []bool, g []float64, err error) {
+func dirichletValues(s *Space, p *Problem, bnd []int32, w *Workspace) (fixed []bool, g []float64, err error) {
 	m := s.Mesh
 	n := s.NumDOF()
 	fixed = make([]bool, n)
-	g = make([]float64, n)
+	g = w.float64s(n, true)
 	nv := int32(m.NumVertices())
 	set := func(tag int32, gd Func, d int32) error {
 		if fixed[d] {

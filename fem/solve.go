@@ -143,7 +143,8 @@ func (ps *Prepared) Solve(s SolveSettings) (*Function, SolveStats, error) {
 	for _, d := range sys.Dirichlet {
 		x[d] = sys.B[d]
 	}
-	res, err := sparse.CG(sys.A.csr(), sys.B, x, ps.pre, sparse.CGSettings{Tol: s.Tol, MaxIter: s.MaxIter, EnergyTol: s.EnergyTol})
+	res, err := sparse.CG(sys.A.csr(), sys.B, x, ps.pre, sparse.CGSettings{Tol: s.Tol, MaxIter: s.MaxIter, EnergyTol: s.EnergyTol,
+		Work: sys.work.cgWork(n)})
 	stats := SolveStats{Iterations: res.Iterations, Residual: res.Residual, EnergyError: res.EnergyError, AtFloor: res.AtFloor, Floor: res.Floor}
 	if err != nil {
 		return nil, stats, fmt.Errorf("fem: Solve: %w", err)

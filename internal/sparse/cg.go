@@ -87,6 +87,11 @@ type CGSettings struct {
 	// smaller than that of x_{k−d} but, the estimate being a lower bound,
 	// not surely below EnergyTol (up to 1.18 times it in the tests).
 	EnergyTol float64
+
+	// Work, if it holds at least 4n values, is used for CG's work vectors
+	// instead of new ones (its values on entry do not matter), so that a
+	// sequence of solves can keep one buffer; shorter, it is ignored.
+	Work []float64
 }
 
 // EnergyDelay is the delay d of the energy-norm error estimate of CG.
@@ -162,7 +167,7 @@ type CGResult struct {
 // to 0 and CG returns at once with 0 iterations.
 //
 // CG allocates three work vectors of length n per call (four unless pre is
-// Identity), for n > 65536 and GOMAXPROCS > 1 also a few small objects for
+// Identity; none with CGSettings.Work), for n > 65536 and GOMAXPROCS > 1 also a few small objects for
 // the goroutines of its vector operations, and nothing per iteration; any
 // allocation per iteration comes from the operator or the preconditioner.
 // Inner products are summed in blocks of 8192 elements (four interleaved
@@ -224,12 +229,17 @@ func CG(a Operator, b, x []float64, pre Preconditioner, s CGSettings) (_ CGResul
 	if _, ok := pre.(*Identity); ok {
 		ident = true
 	}
-	r := make([]float64, n)
-	q := make([]float64, n)
-	p := make([]float64, n)
-	z := r
-	if !ident {
-		z = make([]float64, n)
+	var r, q, p, z []float64
+	if len(s.Work) >= 4*n {
+		r, q, p, z = s.Work[:n:n], s.Work[n:2*n:2*n], s.Work[2*n:3*n:3*n], s.Work[3*n:4*n:4*n]
+	} else {
+		r, q, p, z = make([]float64, n), make([]float64, n), make([]float64, n), nil
+		if !ident {
+			z = make([]float64, n)
+		}
+	}
+	if ident {
+		z = r
 	}
 	var v *vecOps // nil: the vector operations run on this goroutine
 	if n > vecParallel && runtime.GOMAXPROCS(0) > 1 {

@@ -4,6 +4,7 @@ import (
 	"errors"
 	"math"
 	"runtime"
+	"slices"
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
@@ -298,7 +299,7 @@ func (o opOnly) Dims() (int, int)        { return o.CSR.Dims() }
 // general one, and that blockDot is the sum of the block products.
 func TestCGParallelDeterministic(t *testing.T) {
 	defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(0))
-	a := laplacian2D(t, 300, 300)
+	a := laplacian2D(t, 260, 260) // n > 65536: the parallel vector operations
 	if a.Rows <= vecParallel {
 		t.Fatalf("%d rows, want > %d", a.Rows, vecParallel)
 	}
@@ -362,5 +363,40 @@ func TestCGParallelDeterministic(t *testing.T) {
 	}
 	if got := blockDot(b, y); math.Abs(got-want) > 1e-12*math.Abs(want) {
 		t.Errorf("blockDot = %g, want %g", got, want)
+	}
+}
+
+// With CGSettings.Work, CG gives the same iterates bit for bit (it only
+// changes where the vectors live), for the identity and a Jacobi
+// preconditioner, on a 2D Laplacian large enough for the parallel vector
+// operations; a Work too short is ignored.
+func TestCGWork(t *testing.T) {
+	a := laplacian2D(t, 260, 260) // n > 65536: the parallel vector operations
+	n := a.Rows
+	b := randomVec(newRand(), n)
+	jac, err := NewJacobi(a)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for name, pre := range map[string]Preconditioner{"identity": nil, "jacobi": jac} {
+		want := make([]float64, n)
+		r0, err := CG(a, b, want, pre, CGSettings{Tol: 1e-6})
+		if err != nil {
+			t.Fatal(err)
+		}
+		for _, w := range []int{4 * n, 4*n - 1} {
+			work := make([]float64, w)
+			for i := range work {
+				work[i] = math.NaN() // values on entry must not matter
+			}
+			got := make([]float64, n)
+			r1, err := CG(a, b, got, pre, CGSettings{Tol: 1e-6, Work: work})
+			if err != nil {
+				t.Fatal(err)
+			}
+			if r1.Iterations != r0.Iterations || !slices.Equal(got, want) {
+				t.Errorf("%s, work %d: %d iterations, solution equal: %v; without work %d", name, w, r1.Iterations, slices.Equal(got, want), r0.Iterations)
+			}
+		}
 	}
 }

@@ -1,0 +1,90 @@
+package fem
+
+import (
+	"fmt"
+
+	"github.com/posteriori-fem/posteriori/internal/spare"
+)
+
+// Workspace is storage for a sequence of systems on meshes of growing
+// size, such as the steps of an adaptive loop. A system assembled by
+// Workspace.Assemble takes over the arrays of the system the Workspace
+// assembled before (matrix, load, assembly scratch), and the solves of a
+// system prepared from it share one set of work vectors, instead of
+// allocating new ones each time. New arrays have room for half as much
+// again, so that the next, larger system fits too. The results are those
+// of Assemble, System.Prepare and Prepared.Solve, bit for bit
+// (TestWorkspaceSame).
+//
+// A system assembled in a Workspace, and whatever was prepared from it,
+// must not be used once the next system has been assembled in the same
+// Workspace. A Workspace is not safe for concurrent use. The zero value
+// is ready to use.
+type Workspace struct {
+	i32  spare.Bin[int32]
+	f64  spare.Bin[float64]
+	last *System   // the system assembled last, whose arrays the next one takes
+	cg   []float64 // CG's work vectors
+}
+
+// Assemble is Assemble with w's storage. The system that w assembled
+// before (and anything prepared from it) must not be used afterwards.
+func (w *Workspace) Assemble(s *Space, p *Problem) (*System, error) {
+	if w == nil {
+		return nil, fmt.Errorf("fem: Workspace.Assemble: nil workspace: %w", ErrArgument)
+	}
+	if w.last != nil {
+		w.i32.Give(w.last.A.RowPtr, w.last.A.Col)
+		w.f64.Give(w.last.A.Val, w.last.B)
+		w.last = nil
+	}
+	sys, err := assemble(s, p, w)
+	if err != nil {
+		return nil, err
+	}
+	sys.work = w
+	w.last = sys
+	return sys, nil
+}
+
+// The allocation of assembly arrays: from w's bins, or new for a nil w.
+
+func (w *Workspace) int32s(n int, zero bool) []int32 {
+	switch {
+	case w == nil:
+		return make([]int32, n)
+	case zero:
+		return w.i32.TakeZero(n)
+	}
+	return w.i32.Take(n)
+}
+
+func (w *Workspace) float64s(n int, zero bool) []float64 {
+	switch {
+	case w == nil:
+		return make([]float64, n)
+	case zero:
+		return w.f64.TakeZero(n)
+	}
+	return w.f64.Take(n)
+}
+
+// give returns scratch arrays to w's bins (nothing for a nil w).
+func (w *Workspace) give(i32 [][]int32, f64 ...[]float64) {
+	if w == nil {
+		return
+	}
+	w.i32.Give(i32...)
+	w.f64.Give(f64...)
+}
+
+// cgWork returns work vectors for CG on n unknowns, or nil for a nil w.
+func (w *Workspace) cgWork(n int) []float64 {
+	if w == nil {
+		return nil
+	}
+	if cap(w.cg) < 4*n {
+		w.cg = make([]float64, 4*n, 6*n)
+	}
+	return w.cg[:4*n]
+}
