@@ -66,20 +66,33 @@ func BenchmarkNew(b *testing.B) {
 		return csr(assemble(b, f.d, familyMesh(b, f, 3), f.deg).A)
 	}})
 	for _, c := range cases {
-		b.Run(c.name, func(b *testing.B) {
-			a := newFixture(b, c.name, c.build)
-			spmv := spmvTime(a)
-			b.ReportAllocs()
-			var h *amg.Hierarchy
-			for b.Loop() {
-				var err error
-				if h, err = amg.New(a, amg.Settings{}); err != nil {
+		for _, reuse := range []bool{false, true} {
+			name := c.name
+			if reuse {
+				name += "/Reuse"
+			}
+			b.Run(name, func(b *testing.B) {
+				a := newFixture(b, c.name, c.build)
+				h, err := amg.New(a, amg.Settings{})
+				if err != nil {
 					b.Fatal(err)
 				}
-			}
-			reportNew(b, a, spmv+spmvTime(a))
-			sinkLevels = h.Levels()
-		})
+				spmv := spmvTime(a)
+				b.ReportAllocs()
+				for b.Loop() {
+					if reuse {
+						err = h.Reset(a, amg.Settings{})
+					} else {
+						h, err = amg.New(a, amg.Settings{})
+					}
+					if err != nil {
+						b.Fatal(err)
+					}
+				}
+				reportNew(b, a, spmv+spmvTime(a))
+				sinkLevels = h.Levels()
+			})
+		}
 	}
 }
 

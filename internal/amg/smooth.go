@@ -285,6 +285,8 @@ type colouring struct {
 	m    *sparse.CSR
 	diag []int32
 	inv  []float64
+	// colourOf is scratch of colour: the colour of each row.
+	colourOf []int32
 }
 
 // colourEntry is a stored entry of a row with the colour of its column.
@@ -304,10 +306,12 @@ func (c *colouring) colours() int { return max(0, len(c.ptr)-1) }
 // neighbours of lower index has. The number of colours is at most one
 // more than the largest number of off-diagonal entries of a row. The
 // colouring is sequential and linear in Rows + NNZ; the copy in colour
-// order is filled in parallel.
-func colour(a *sparse.CSR, invDiag []float64) colouring {
+// order is filled in parallel. The arrays of dst are reused (see resize)
+// and its fields set.
+func colour(dst *colouring, a *sparse.CSR, invDiag []float64) {
 	n := a.Rows
-	col := make([]int32, n)
+	dst.colourOf = resize(dst.colourOf, n)
+	col := dst.colourOf
 	var used []int32 // used[c] == i when a neighbour of row i has colour c
 	for i := range n {
 		for _, j := range a.Col[a.RowPtr[i]:a.RowPtr[i+1]] {
@@ -325,7 +329,8 @@ func colour(a *sparse.CSR, invDiag []float64) colouring {
 		col[i] = int32(c)
 	}
 	nc := len(used)
-	ptr := make([]int32, nc+1)
+	ptr := resize(dst.ptr, nc+1)
+	clear(ptr)
 	for _, c := range col {
 		ptr[c+1]++
 	}
@@ -333,17 +338,18 @@ func colour(a *sparse.CSR, invDiag []float64) colouring {
 		ptr[c+1] += ptr[c]
 	}
 	next := slices.Clone(ptr[:nc])
-	rows := make([]int32, n)
+	rows := resize(dst.rows, n)
 	for i, c := range col {
 		rows[next[c]] = int32(i)
 		next[c]++
 	}
-	m := &sparse.CSR{Rows: n, Cols: a.Cols, RowPtr: make([]int32, n+1), Col: make([]int32, a.NNZ()), Val: make([]float64, a.NNZ())}
+	m := resizeCSR(dst.m, n, a.Cols, a.NNZ())
+	m.RowPtr[0] = 0
 	for q, i := range rows {
 		m.RowPtr[q+1] = m.RowPtr[q] + a.RowPtr[i+1] - a.RowPtr[i]
 	}
-	diag := make([]int32, n)
-	inv := make([]float64, n)
+	diag := resize(dst.diag, n)
+	inv := resize(dst.inv, n)
 	chunks(n, m.RowPtr, func(_, lo, hi int) {
 		var buf []colourEntry // the entries of the row with their colours
 		for q := lo; q < hi; q++ {
@@ -368,7 +374,7 @@ func colour(a *sparse.CSR, invDiag []float64) colouring {
 			inv[q] = invDiag[i]
 		}
 	})
-	return colouring{ptr: ptr, rows: rows, m: m, diag: diag, inv: inv}
+	dst.ptr, dst.rows, dst.m, dst.diag, dst.inv = ptr, rows, m, diag, inv
 }
 
 // Modes of colourKernel.
