@@ -1,7 +1,6 @@
 package amg
 
 import (
-	"cmp"
 	"slices"
 
 	"github.com/posteriori-fem/posteriori/internal/sparse"
@@ -289,12 +288,6 @@ type colouring struct {
 	colourOf []int32
 }
 
-// colourEntry is a stored entry of a row with the colour of its column.
-type colourEntry struct {
-	colour, col int32
-	val         float64
-}
-
 // colours returns the number of colours (0 for none).
 func (c *colouring) colours() int { return max(0, len(c.ptr)-1) }
 
@@ -351,26 +344,41 @@ func colour(dst *colouring, a *sparse.CSR, invDiag []float64) {
 	diag := resize(dst.diag, n)
 	inv := resize(dst.inv, n)
 	chunks(n, m.RowPtr, func(_, lo, hi int) {
-		var buf []colourEntry // the entries of the row with their colours
+		// Each row is distributed by the colours of its columns with a
+		// counting sort, which is stable: columns keep their ascending
+		// order within a colour. first[c] is the place of the next entry
+		// of colour c in the row.
+		first := make([]int32, nc+1)
 		for q := lo; q < hi; q++ {
 			i := rows[q]
 			cs, vs := m.Col[m.RowPtr[q]:m.RowPtr[q+1]], m.Val[m.RowPtr[q]:m.RowPtr[q+1]]
 			src, srcV := a.Col[a.RowPtr[i]:a.RowPtr[i+1]], a.Val[a.RowPtr[i]:a.RowPtr[i+1]]
-			buf = buf[:0]
+			srcV = srcV[:len(src)]
+			clear(first)
+			for _, j := range src {
+				first[col[j]+1]++
+			}
+			for c := range nc {
+				first[c+1] += first[c]
+			}
+			ci := col[i]
 			for t, j := range src {
-				buf = append(buf, colourEntry{col[j], j, srcV[t]})
+				c := col[j]
+				at := first[c]
+				first[c]++
+				cs[at], vs[at] = j, srcV[t]
 			}
-			// Stable sort by colour: columns keep their order within a
-			// colour.
-			slices.SortStableFunc(buf, func(x, y colourEntry) int { return cmp.Compare(x.colour, y.colour) })
-			for t, e := range buf {
-				cs[t], vs[t] = e.col, e.val
+			// The diagonal entry is among those of its colour, after
+			// the entries of the earlier colours (for a symmetric
+			// pattern, the only one).
+			d := int32(0)
+			if ci > 0 {
+				d = first[ci-1]
 			}
-			d := 0
 			for cs[d] != i {
 				d++
 			}
-			diag[q] = m.RowPtr[q] + int32(d)
+			diag[q] = m.RowPtr[q] + d
 			inv[q] = invDiag[i]
 		}
 	})

@@ -79,14 +79,15 @@ func fill(m *sparse.CSR, rows, cols int, work []int32, count func(c, lo, hi int,
 // scratch arrays of each goroutine (a new workspace if nil).
 //
 // Row i of the product is Σ_k a_ik (row k of b). It is accumulated in a
-// dense array indexed by column, with a marker array recording which
-// columns row i has touched (marker[j] == i), so that no array is cleared
-// between rows; the touched columns are then sorted and gathered. Every
-// entry is summed in the order of the terms (k ascending, then the entries
-// of row k of b ascending), on a single goroutine, so the result does not
-// depend on how rows are split over goroutines. The cost is twice the
-// number of multiplications, Σ_i Σ_{k in row i} nnz(row k of b), plus
-// sorting the output rows. Explicit zeros of the structure are kept.
+// dense array indexed by column, each slot holding a marker, the last row
+// that touched the column (so that no slot is cleared between rows), and
+// the partial sum, side by side, so that a term costs one cache line; the
+// touched columns are then sorted and gathered. Every entry is summed in
+// the order of the terms (k ascending, then the entries of row k of b
+// ascending), on a single goroutine, so the result does not depend on how
+// rows are split over goroutines. The cost is twice the number of
+// multiplications, Σ_i Σ_{k in row i} nnz(row k of b), plus sorting the
+// output rows. Explicit zeros of the structure are kept.
 func mul(dst, a, b *sparse.CSR, ws *workspace) (*sparse.CSR, error) {
 	if a.Cols != b.Rows {
 		panic(fmt.Sprintf("amg: mul: %dx%d times %dx%d", a.Rows, a.Cols, b.Rows, b.Cols))
@@ -94,26 +95,26 @@ func mul(dst, a, b *sparse.CSR, ws *workspace) (*sparse.CSR, error) {
 	if ws == nil {
 		ws = new(workspace)
 	}
-	ws.mark, ws.acc = perWorker(ws.mark), perWorker(ws.acc)
-	marker := func(c int) []int32 {
-		mark := resize(ws.mark[c], b.Cols)
-		ws.mark[c] = mark
-		for j := range mark {
-			mark[j] = -1
+	ws.acc = perWorker(ws.acc)
+	accumulator := func(c int) []slot {
+		acc := resize(ws.acc[c], b.Cols)
+		ws.acc[c] = acc
+		for j := range acc {
+			acc[j].mark = -1
 		}
-		return mark
+		return acc
 	}
 	aRow, aCol, aVal := a.RowPtr, a.Col, a.Val
 	bRow, bCol, bVal := b.RowPtr, b.Col, b.Val
 	count := func(c, lo, hi int, rowLen []int32) {
-		mark := marker(c)
+		acc := accumulator(c)
 		for i := lo; i < hi; i++ {
 			c := int32(0)
 			for ka := aRow[i]; ka < aRow[i+1]; ka++ {
 				k := aCol[ka]
 				for _, j := range bCol[bRow[k]:bRow[k+1]] {
-					if mark[j] != int32(i) {
-						mark[j] = int32(i)
+					if acc[j].mark != int32(i) {
+						acc[j].mark = int32(i)
 						c++
 					}
 				}
@@ -122,9 +123,7 @@ func mul(dst, a, b *sparse.CSR, ws *workspace) (*sparse.CSR, error) {
 		}
 	}
 	put := func(c, lo, hi int, m *sparse.CSR) {
-		mark := marker(c)
-		acc := resize(ws.acc[c], b.Cols)
-		ws.acc[c] = acc
+		acc := accumulator(c)
 		for i := lo; i < hi; i++ {
 			row := m.Col[m.RowPtr[i]:m.RowPtr[i+1]]
 			q := 0
@@ -134,24 +133,32 @@ func mul(dst, a, b *sparse.CSR, ws *workspace) (*sparse.CSR, error) {
 				bv := bVal[bRow[k]:bRow[k+1]]
 				bv = bv[:len(bc)]
 				for t, j := range bc {
-					if mark[j] != int32(i) {
-						mark[j] = int32(i)
+					s := &acc[j]
+					if s.mark != int32(i) {
+						s.mark = int32(i)
 						row[q] = j
 						q++
-						acc[j] = av * bv[t]
+						s.val = av * bv[t]
 					} else {
-						acc[j] += av * bv[t]
+						s.val += av * bv[t]
 					}
 				}
 			}
 			slices.Sort(row)
 			vals := m.Val[m.RowPtr[i]:m.RowPtr[i+1]]
 			for t, j := range row {
-				vals[t] = acc[j]
+				vals[t] = acc[j].val
 			}
 		}
 	}
 	return fill(dst, a.Rows, b.Cols, a.RowPtr, count, put)
+}
+
+// slot is an entry of the dense accumulator of mul: the partial sum of a
+// column and the last row that touched it.
+type slot struct {
+	mark int32
+	val  float64
 }
 
 // maxTransposeChunks bounds the number of row ranges of transpose, each of

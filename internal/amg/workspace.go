@@ -49,8 +49,7 @@ type workspace struct {
 	pv, pw    []float64    // vectors of the power method
 	psums     [][2]float64 // block sums of the power method
 	ap        *sparse.CSR  // A·P
-	mark      [][]int32    // per goroutine: marker array of a product
-	acc       [][]float64  // per goroutine: accumulator of a product
+	acc       [][]slot     // per goroutine: accumulator of a product
 	tnext     [][]int32    // per range of a transpose: counts, then positions
 }
 
