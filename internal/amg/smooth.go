@@ -299,7 +299,8 @@ func (c *colouring) colours() int { return max(0, len(c.ptr)-1) }
 // neighbours of lower index has. The number of colours is at most one
 // more than the largest number of off-diagonal entries of a row. The
 // colouring is sequential and linear in Rows + NNZ; the copy in colour
-// order is filled in parallel. The arrays of dst are reused (see resize)
+// order is filled in parallel, each row distributed by a counting sort
+// over the colours of its columns. The arrays of dst are reused (see resize)
 // and its fields set.
 func colour(dst *colouring, a *sparse.CSR, invDiag []float64) {
 	n := a.Rows
