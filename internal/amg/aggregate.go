@@ -38,9 +38,10 @@ type connections struct {
 // tested as a_ij² ≥ θ² a_ii a_jj to avoid the square root. Explicit zeros
 // are never strong (θ > 0). The diagonal diag must be positive. For a
 // symmetric a the relation is symmetric. The rows are split over
-// goroutines; each row's results are independent of the split.
-func strength(a *sparse.CSR, diag []float64, theta float64) connections {
-	c := connections{strong: make([]bool, a.NNZ()), diagF: make([]float64, a.Rows), valF: make([]float64, a.NNZ())}
+// goroutines; each row's results are independent of the split. The
+// arrays of c are reused (see resize) and its fields set.
+func strength(c *connections, a *sparse.CSR, diag []float64, theta float64) {
+	c.strong, c.diagF, c.valF = resize(c.strong, a.NNZ()), resize(c.diagF, a.Rows), resize(c.valF, a.NNZ())
 	t2 := theta * theta
 	gersh := make([]float64, max(1, runtime.GOMAXPROCS(0)))
 	strong, valF, diagF := c.strong, c.valF, c.diagF
@@ -62,6 +63,7 @@ func strength(a *sparse.CSR, diag []float64, theta float64) connections {
 					valF[k] = v
 				case int(j) != i:
 					lump += v
+					valF[k] = 0
 				default:
 					dk = int(k)
 				}
@@ -75,7 +77,6 @@ func strength(a *sparse.CSR, diag []float64, theta float64) connections {
 		gersh[ch] = g
 	})
 	c.gershgorin = slices.Max(gersh)
-	return c
 }
 
 // aggregate partitions the nodes (rows) of a into aggregates by the greedy
@@ -101,14 +102,16 @@ func strength(a *sparse.CSR, diag []float64, theta float64) connections {
 // not necessarily reduced by smoothing alone: θ bounds each connection,
 // not their sum. Only decoupled rows, which the smoother solves exactly,
 // are left out. Every pass is linear in the number of stored entries.
-func aggregate(a *sparse.CSR, strong []bool) (agg []int32, nagg int) {
+// The scratch arrays (agg among them) are those of ws, reused.
+func aggregate(a *sparse.CSR, strong []bool, ws *workspace) (agg []int32, nagg int) {
 	n := a.Rows
 	rowPtr, col, val := a.RowPtr, a.Col, a.Val
-	agg = make([]int32, n)
-	hasStrong := make([]bool, n)
+	ws.agg, ws.hasStrong, ws.join = resize(ws.agg, n), resize(ws.hasStrong, n), resize(ws.join, n)
+	agg, hasStrong, join := ws.agg, ws.hasStrong, ws.join
 	chunks(n, rowPtr, func(_, lo, hi int) {
 		for i := lo; i < hi; i++ {
 			agg[i] = isolated
+			hasStrong[i] = false
 			for k := rowPtr[i]; k < rowPtr[i+1]; k++ {
 				if strong[k] {
 					hasStrong[i] = true
@@ -148,7 +151,6 @@ func aggregate(a *sparse.CSR, strong []bool) (agg []int32, nagg int) {
 	// Pass 2: attach the remaining nodes to a pass-1 aggregate. The
 	// choices are made in parallel and stored in join, then applied, so
 	// that only pass-1 members count.
-	join := make([]int32, n)
 	chunks(n, rowPtr, func(_, lo, hi int) {
 		for i := lo; i < hi; i++ {
 			join[i] = -1

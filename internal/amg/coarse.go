@@ -40,10 +40,17 @@ type cholesky struct {
 // factor computes the Cholesky factorisation of the symmetric positive
 // (semi-)definite matrix a, read from its lower triangle. It fails, with
 // an error wrapping sparse.ErrNotPositive, if a pivot is negative beyond
-// rounding, which means a is indefinite.
-func factor(a *sparse.CSR) (*cholesky, error) {
+// rounding, which means a is indefinite. The arrays of dst are reused
+// (a new factorisation if dst is nil).
+func factor(dst *cholesky, a *sparse.CSR) (*cholesky, error) {
 	n := a.Rows
-	c := &cholesky{n: n, l: make([]float64, n*n), null: make([]bool, n)}
+	c := dst
+	if c == nil {
+		c = new(cholesky)
+	}
+	c.n, c.l, c.null = n, resize(c.l, n*n), resize(c.null, n)
+	clear(c.l)
+	clear(c.null)
 	l := c.l
 	for i := range n {
 		for k := a.RowPtr[i]; k < a.RowPtr[i+1]; k++ {

@@ -134,7 +134,7 @@ func (h *Hierarchy) pre(lv *level, x, b []float64, res bool) {
 	a, m := lv.a, h.sweeps
 	switch h.smoother {
 	case GaussSeidel:
-		if nc := lv.colours.colours(); nc > 0 {
+		if nc := lv.colourCount(); nc > 0 {
 			for k := range m {
 				for c := range nc {
 					mode := sweepFull
@@ -151,7 +151,7 @@ func (h *Hierarchy) pre(lv *level, x, b []float64, res bool) {
 				return
 			}
 			if m == 1 {
-				h.kColRes = colourResidualKernel{c: &lv.colours, x: x, r: lv.res}
+				h.kColRes = colourResidualKernel{c: lv.colours, x: x, r: lv.res}
 				h.team.run(&h.kColRes, a.Rows, lv.colours.m.RowPtr)
 			} else {
 				h.kRes = residualKernel{a: a, x: x, b: b, r: lv.res}
@@ -209,7 +209,7 @@ func (h *Hierarchy) post(lv *level, x, b []float64) {
 	a, m := lv.a, h.sweeps
 	switch h.smoother {
 	case GaussSeidel:
-		if nc := lv.colours.colours(); nc > 0 {
+		if nc := lv.colourCount(); nc > 0 {
 			for range m {
 				for c := nc - 1; c >= 0; c-- {
 					h.colourSweep(lv, c, x, b, sweepFull)
@@ -239,7 +239,7 @@ func (h *Hierarchy) post(lv *level, x, b []float64) {
 // lv (see colourKernel for the modes).
 func (h *Hierarchy) colourSweep(lv *level, c int, x, b []float64, mode int) {
 	lo, hi := int(lv.colours.ptr[c]), int(lv.colours.ptr[c+1])
-	h.kCol = colourKernel{c: &lv.colours, lo: lo, hi: hi, x: x, b: b, mode: mode}
+	h.kCol = colourKernel{c: lv.colours, lo: lo, hi: hi, x: x, b: b, mode: mode}
 	var rowPtr []int32 // balance by entries, unless no entry is read
 	if mode != sweepFirst {
 		rowPtr = lv.colours.m.RowPtr[lo : hi+1]

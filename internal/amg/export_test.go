@@ -50,7 +50,9 @@ func DroppedPivots(h *Hierarchy) int {
 
 // Aggregates returns the aggregation of a with strength threshold theta.
 func Aggregates(a *sparse.CSR, theta float64) ([]int32, int) {
-	return aggregate(a, strength(a, a.Diagonal(nil), theta).strong)
+	var c connections
+	strength(&c, a, a.Diagonal(nil), theta)
+	return aggregate(a, c.strong, new(workspace))
 }
 
 // SmoothedProlongator returns the smoothed prolongator of a for strength
@@ -61,8 +63,9 @@ func SmoothedProlongator(a *sparse.CSR, theta float64) (*sparse.CSR, error) {
 	for i, d := range diag {
 		inv[i] = 1 / d
 	}
-	c := strength(a, diag, theta)
-	agg, nagg := aggregate(a, c.strong)
-	p, err := prolongator(a, diag, &c, agg, nagg, filteredRho(a, diag, inv, &c))
+	var c connections
+	strength(&c, a, diag, theta)
+	agg, nagg := aggregate(a, c.strong, new(workspace))
+	p, err := prolongator(nil, a, diag, &c, agg, nagg, filteredRho(nil, a, diag, inv, &c))
 	return p, err
 }

@@ -118,12 +118,14 @@ func (s Settings) resolve() (Settings, error) {
 // Hierarchy is a smoothed aggregation multigrid hierarchy built by New. Its
 // Apply method is one V-cycle, a preconditioner for sparse.CG. A Hierarchy
 // keeps the matrix it was built from (it does not copy it), which must not
-// change while the Hierarchy is in use.
+// change while the Hierarchy is in use. Reset rebuilds a Hierarchy for
+// another matrix in the memory of the old one.
 type Hierarchy struct {
 	levels   []level
 	smoother Smoother
 	sweeps   int
 	team     team
+	ws       workspace // scratch of the setup, kept for Reset
 
 	// Kernels of the V-cycle, reused so that Apply does not allocate.
 	kRes    residualKernel
@@ -139,12 +141,13 @@ type Hierarchy struct {
 
 var _ sparse.Preconditioner = (*Hierarchy)(nil)
 
-// level is one level of the hierarchy.
+// level is one level of the hierarchy. Reset reuses the arrays of every
+// field, also of the levels beyond the last one in use (kept in the
+// capacity of Hierarchy.levels); only a on level 0 is the caller's.
 type level struct {
 	a       *sparse.CSR
-	diag    []float64 // a_ii (during New only)
 	invDiag []float64 // 1/a_ii
-	diagPos []int32   // position of a_ii in its row (Gauss–Seidel)
+	diagPos []int32   // position of a_ii in its row (sequential Gauss–Seidel only; else empty)
 	p, r    *sparse.CSR
 	chol    *cholesky // on a coarsest level that is solved exactly
 
@@ -159,7 +162,24 @@ type level struct {
 
 	// Multicolour Gauss–Seidel smoother (levels of more than colourRows
 	// rows): the rows of colour c are colours.rows[colours.ptr[c]:colours.ptr[c+1]].
-	colours colouring
+	colours *colouring
+
+	// mem holds the storage of p, r, chol and colours, which are nil
+	// where not in use, for Reset.
+	mem struct {
+		p, r    *sparse.CSR
+		chol    *cholesky
+		colours *colouring
+	}
+}
+
+// colourCount returns the number of colours of the multicolour
+// Gauss–Seidel smoother, 0 if the level does not use it.
+func (lv *level) colourCount() int {
+	if lv.colours == nil {
+		return 0
+	}
+	return lv.colours.colours()
 }
 
 // New builds the smoothed aggregation hierarchy of the symmetric positive
@@ -174,88 +194,119 @@ type level struct {
 // negative, or for a coarsest matrix found indefinite; sparse.ErrSettings
 // for invalid settings. Every message starts with "amg:".
 func New(a *sparse.CSR, s Settings) (*Hierarchy, error) {
-	s, err := s.resolve()
-	if err != nil {
+	h := new(Hierarchy)
+	if err := h.Reset(a, s); err != nil {
 		return nil, err
 	}
+	return h, nil
+}
+
+// Reset rebuilds h as New(a, s) would build it, bit for bit, for a caller
+// that no longer needs the old hierarchy (an adaptive loop solving on a new
+// mesh at each step): the arrays of the old levels and the scratch arrays
+// of the setup, which h keeps, are reused where they are large enough, and
+// replaced by arrays with a quarter more room where not, so that a
+// sequence of growing matrices reallocates rarely. a is kept, not copied,
+// as by New; the old matrix is no longer referenced. The errors are those
+// of New; on an error h holds no hierarchy (Levels returns 0, Apply takes
+// only empty vectors) until a Reset succeeds, and it keeps its memory.
+// A Reset must not run concurrently with Apply on the same h.
+func (h *Hierarchy) Reset(a *sparse.CSR, s Settings) error {
+	s, err := s.resolve()
+	if err != nil {
+		return err
+	}
 	if a == nil {
-		return nil, fmt.Errorf("amg: %w: nil matrix", sparse.ErrDims)
+		return fmt.Errorf("amg: %w: nil matrix", sparse.ErrDims)
 	}
 	if a.Rows != a.Cols {
-		return nil, fmt.Errorf("amg: %w: matrix is %dx%d, want square", sparse.ErrDims, a.Rows, a.Cols)
+		return fmt.Errorf("amg: %w: matrix is %dx%d, want square", sparse.ErrDims, a.Rows, a.Cols)
 	}
 	if !valid(a) {
 		if err := a.Validate(); err != nil {
-			return nil, fmt.Errorf("amg: %w", err)
+			return fmt.Errorf("amg: %w", err)
 		}
 	}
-	h := &Hierarchy{smoother: s.Smoother, sweeps: s.Smoothing}
+	h.smoother, h.sweeps = s.Smoother, s.Smoothing
+	levels := h.levels[:0]
+	h.levels = levels
 	if a.Rows == 0 {
-		return h, nil
+		return nil
 	}
+	// old returns the storage of level l: the old level, or a zero one.
+	old := func(l int) level {
+		if l < cap(levels) {
+			return levels[:l+1][l]
+		}
+		return level{}
+	}
+	ws := &h.ws
 	// Independent sequential parts run concurrently with the rest of the
 	// setup: the colouring of each multicolour level, and on every level
 	// the power method with the aggregation. Each writes only its own
 	// result, so the hierarchy does not depend on the scheduling.
 	var bg sync.WaitGroup
-	var colourings []*colouring
 	defer bg.Wait() // also on errors, before the results are dropped
 	for l := 0; ; l++ {
-		lv, err := newLevel(a, l)
-		if err != nil {
-			return nil, err
+		lv := old(l)
+		lv.a, lv.rho, lv.p, lv.r, lv.chol, lv.colours = a, 0, nil, nil, nil, nil
+		if err := newLevel(&lv, ws, l); err != nil {
+			return err
 		}
 		n := a.Rows
 		if h.multicolour(n) {
-			c := new(colouring)
-			colourings = append(colourings, c)
-			a, inv := a, lv.invDiag
-			bg.Go(func() { *c = colour(a, inv) })
-		} else {
-			colourings = append(colourings, nil)
+			if lv.mem.colours == nil {
+				lv.mem.colours = new(colouring)
+			}
+			c, a, inv := lv.mem.colours, a, lv.invDiag
+			lv.colours = c // written by colour only, read after bg.Wait
+			bg.Go(func() { colour(c, a, inv) })
 		}
 		last := n <= s.CoarseSize || l == s.MaxLevels-1
 		if !last {
-			conn := strength(a, lv.diag, s.Theta)
+			conn := &ws.conn
+			strength(conn, a, ws.diag, s.Theta)
 			var rho float64
 			var power sync.WaitGroup
-			power.Go(func() { rho = filteredRho(a, lv.diag, lv.invDiag, &conn) })
-			agg, nagg := aggregate(a, conn.strong)
+			power.Go(func() { rho = filteredRho(ws, a, ws.diag, lv.invDiag, conn) })
+			agg, nagg := aggregate(a, conn.strong, ws)
 			power.Wait()
 			if nagg == 0 {
 				last = true // only isolated nodes: no coarse space
 			} else {
-				p, err := prolongator(a, lv.diag, &conn, agg, nagg, rho)
+				p, err := prolongator(lv.mem.p, a, ws.diag, conn, agg, nagg, rho)
 				if err != nil {
-					return nil, err
+					return err
 				}
-				r := transpose(p)
-				c, err := galerkin(a, p, r)
+				lv.mem.p = p
+				r := transpose(lv.mem.r, p, ws)
+				lv.mem.r = r
+				c, err := galerkin(old(l+1).a, a, p, r, ws)
 				if err != nil {
-					return nil, err
+					return err
 				}
 				lv.p, lv.r, lv.rho = p, r, rho
 				a = c
 			}
 		}
 		if last && n <= maxDense {
-			if lv.chol, err = factor(lv.a); err != nil {
-				return nil, fmt.Errorf("amg: level %d: %w", l, err)
+			if lv.mem.chol, err = factor(lv.mem.chol, lv.a); err != nil {
+				return fmt.Errorf("amg: level %d: %w", l, err)
 			}
+			lv.chol = lv.mem.chol
+		} else if h.smoother == Chebyshev {
+			lv.lmax = chebyshevSafety * powerRho(ws, lv.a, lv.a.Val, ws.diag, lv.invDiag, powerIterations)
+			lv.invTheta, lv.c1, lv.c2 = chebyshevCoefficients(lv.lmax/chebyshevRatio, lv.lmax, h.sweeps)
 		}
-		h.levels = append(h.levels, lv)
+		levels = append(levels, lv)
 		if last {
 			break
 		}
 	}
 	bg.Wait()
-	for l, c := range colourings {
-		if c != nil {
-			h.levels[l].colours = *c
-		}
-	}
+	h.levels = levels
 	h.allocate()
-	return h, nil
+	return nil
 }
 
 // valid reports whether a obeys the rules that a.Validate checks (see
@@ -296,11 +347,13 @@ func valid(a *sparse.CSR) bool {
 	return !bad.Load()
 }
 
-// newLevel checks the diagonal of a and sets up the diagonal data of
-// level l. Rows are checked in parallel; of several bad rows the first is
-// reported.
-func newLevel(a *sparse.CSR, l int) (level, error) {
-	lv := level{a: a, diag: make([]float64, a.Rows), invDiag: make([]float64, a.Rows), diagPos: make([]int32, a.Rows)}
+// newLevel checks the diagonal of lv.a and sets up the diagonal data of
+// level l: lv.invDiag and lv.diagPos, and ws.diag. Rows are checked in
+// parallel; of several bad rows the first is reported.
+func newLevel(lv *level, ws *workspace, l int) error {
+	a := lv.a
+	ws.diag, lv.invDiag, lv.diagPos = resize(ws.diag, a.Rows), resize(lv.invDiag, a.Rows), resize(lv.diagPos, a.Rows)
+	diag, invDiag, diagPos := ws.diag, lv.invDiag, lv.diagPos
 	bad := make([]int, max(1, runtime.GOMAXPROCS(0))) // first bad row of each range
 	for c := range bad {
 		bad[c] = a.Rows
@@ -317,9 +370,9 @@ func newLevel(a *sparse.CSR, l int) (level, error) {
 				bad[c] = i
 				return
 			}
-			lv.diag[i] = d
-			lv.invDiag[i] = inv
-			lv.diagPos[i] = int32(k)
+			diag[i] = d
+			invDiag[i] = inv
+			diagPos[i] = int32(k)
 		}
 	})
 	if i := slices.Min(bad); i < a.Rows {
@@ -331,35 +384,30 @@ func newLevel(a *sparse.CSR, l int) (level, error) {
 		if l > 0 {
 			what = fmt.Sprintf("coarse matrix of level %d (A not positive definite?)", l)
 		}
-		return lv, fmt.Errorf("amg: %w", &sparse.EntryError{Row: i, Col: i,
+		return fmt.Errorf("amg: %w", &sparse.EntryError{Row: i, Col: i,
 			Err: fmt.Errorf("%w: diagonal entry of row %d of the %s is %g", sparse.ErrNotPositive, i, what, d)})
 	}
-	return lv, nil
+	return nil
 }
 
-// allocate sets up the smoother data and the work vectors of every level.
+// allocate sets up the work vectors of every level, reusing their arrays.
 func (h *Hierarchy) allocate() {
 	for l := range h.levels {
 		lv := &h.levels[l]
 		n := lv.a.Rows
-		diag := lv.diag
-		lv.diag = nil // not needed by Apply
 		if l > 0 {
-			lv.x, lv.b = make([]float64, n), make([]float64, n)
+			lv.x, lv.b = resize(lv.x, n), resize(lv.b, n)
 		}
 		if lv.chol != nil {
-			lv.diagPos = nil
+			lv.diagPos = lv.diagPos[:0]
 			continue
 		}
-		lv.res = make([]float64, n)
-		if lv.colours.colours() > 0 {
-			lv.diagPos = nil
+		lv.res = resize(lv.res, n)
+		if lv.colours != nil || h.smoother == Chebyshev {
+			lv.diagPos = lv.diagPos[:0]
 		}
 		if h.smoother == Chebyshev {
-			lv.d, lv.dn = make([]float64, n), make([]float64, n)
-			lv.lmax = chebyshevSafety * powerRho(lv.a, lv.a.Val, diag, lv.invDiag, powerIterations)
-			lv.diagPos = nil
-			lv.invTheta, lv.c1, lv.c2 = chebyshevCoefficients(lv.lmax/chebyshevRatio, lv.lmax, h.sweeps)
+			lv.d, lv.dn = resize(lv.d, n), resize(lv.dn, n)
 		}
 	}
 }

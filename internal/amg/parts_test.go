@@ -51,7 +51,7 @@ func TestMul(t *testing.T) {
 	for s, dims := range [][3]int{{1, 1, 1}, {7, 5, 9}, {40, 60, 30}, {300, 200, 250}} {
 		a := randomSparse(dims[0], dims[1], 0.1, uint64(2*s))
 		b := randomSparse(dims[1], dims[2], 0.1, uint64(2*s+1))
-		c, err := mul(a, b)
+		c, err := mul(nil, a, b, nil)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -60,7 +60,7 @@ func TestMul(t *testing.T) {
 		if d := denseDiff(t, c, &want); d > 1e-13 {
 			t.Errorf("%v: |a·b − gonum| = %g", dims, d)
 		}
-		if d := denseDiff(t, transpose(a), a.Dense().T()); d != 0 {
+		if d := denseDiff(t, transpose(nil, a, nil), a.Dense().T()); d != 0 {
 			t.Errorf("%v: |aᵀ − gonum| = %g", dims, d)
 		}
 	}
@@ -134,7 +134,9 @@ func laplace1D(n int) *sparse.CSR {
 func TestAggregate1D(t *testing.T) {
 	a := laplace1D(14)
 	diag := a.Diagonal(nil)
-	agg, nagg := aggregate(a, strength(a, diag, DefaultTheta).strong)
+	var conn connections
+	strength(&conn, a, diag, DefaultTheta)
+	agg, nagg := aggregate(a, conn.strong, new(workspace))
 	want := []int32{isolated, 0, 0, 1, 1, 1, 2, 2, 2, 3, 3, 3, 3, isolated}
 	if nagg != 4 || !slices.Equal(agg, want) {
 		t.Errorf("agg = %v (%d), want %v (4)", agg, nagg, want)
@@ -162,7 +164,7 @@ func TestCholesky(t *testing.T) {
 		}
 		a.RowPtr[i+1] = int32(len(a.Col))
 	}
-	c, err := factor(a)
+	c, err := factor(nil, a)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -198,7 +200,7 @@ func TestCholesky(t *testing.T) {
 		}
 		l.RowPtr[i+1] = int32(len(l.Col))
 	}
-	c, err = factor(l)
+	c, err = factor(nil, l)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -361,7 +363,7 @@ func TestTransposeParallel(t *testing.T) {
 	}
 	for _, procs := range []int{1, 2, 3, 8} {
 		runtime.GOMAXPROCS(procs)
-		got := transpose(a)
+		got := transpose(nil, a, nil)
 		if err := got.Validate(); err != nil {
 			t.Fatalf("GOMAXPROCS=%d: %v", procs, err)
 		}
@@ -397,11 +399,12 @@ func TestColour(t *testing.T) {
 		d.RowPtr[i+1] = int32(len(d.Col))
 	}
 	a = d
-	lv, err := newLevel(a, 0)
-	if err != nil {
+	lv := level{a: a}
+	if err := newLevel(&lv, new(workspace), 0); err != nil {
 		t.Fatal(err)
 	}
-	c := colour(a, lv.invDiag)
+	var c colouring
+	colour(&c, a, lv.invDiag)
 	nc := c.colours()
 	col := make([]int, n)
 	for i := range col {
@@ -509,7 +512,7 @@ func TestPowerRho(t *testing.T) {
 	var ref float64
 	for _, procs := range []int{1, 2, 3} {
 		runtime.GOMAXPROCS(procs)
-		rho := powerRho(a, a.Val, diag, inv, 40)
+		rho := powerRho(nil, a, a.Val, diag, inv, 40)
 		if procs == 1 {
 			ref = rho
 			if !(rho <= lmax && rho > 0.99*lmax) {

@@ -30,14 +30,18 @@ const powerBlock = 4096
 // (v, M v)/(v, D v), a lower bound that converges to λ_max. Each step is
 // one pass over the matrix and the vectors, fused, split over goroutines
 // by blocks of powerBlock rows (see powerBlock), so the estimate is
-// deterministic.
-func powerRho(a *sparse.CSR, val, diag, invDiag []float64, iters int) float64 {
+// deterministic. Its vectors are those of ws, reused (a new workspace if
+// ws is nil).
+func powerRho(ws *workspace, a *sparse.CSR, val, diag, invDiag []float64, iters int) float64 {
 	n := len(diag)
 	if n == 0 {
 		return 0
 	}
-	v := make([]float64, n)
-	w := make([]float64, n)
+	if ws == nil {
+		ws = new(workspace)
+	}
+	ws.pv, ws.pw = resize(ws.pv, n), resize(ws.pw, n)
+	v, w := ws.pv, ws.pw
 	seed := uint64(0x9E3779B97F4A7C15)
 	for i := range v {
 		// xorshift64*: a fixed pseudo-random start rich in every mode.
@@ -47,7 +51,8 @@ func powerRho(a *sparse.CSR, val, diag, invDiag []float64, iters int) float64 {
 		v[i] = float64(seed*2685821657736338717>>11)/(1<<53) - 0.5
 	}
 	nb := (n + powerBlock - 1) / powerBlock
-	sums := make([][2]float64, nb) // per block: (v, M v), (M v, D⁻¹ M v)
+	ws.psums = resize(ws.psums, nb)
+	sums := ws.psums // per block: (v, M v), (M v, D⁻¹ M v)
 	nw := max(1, min(runtime.GOMAXPROCS(0), n/setupGrain, nb))
 	// The blocks of each goroutine, balanced by entries.
 	blockPtr := make([]int32, nb+1)
@@ -120,9 +125,9 @@ func powerStep(rp, col []int32, val, invDiag, v, ws, vs []float64) [2]float64 {
 // filteredRho returns the estimate ρ of the spectral radius of D⁻¹A_F
 // used for the prolongator: the power-method estimate (powerRho), or the
 // Gershgorin bound if that is smaller, or if the power method fails.
-func filteredRho(a *sparse.CSR, diag, invDiag []float64, c *connections) float64 {
+func filteredRho(ws *workspace, a *sparse.CSR, diag, invDiag []float64, c *connections) float64 {
 	rho := c.gershgorin
-	if p := powerRho(a, c.valF, diag, invDiag, powerIterations); p > 0 && p < rho {
+	if p := powerRho(ws, a, c.valF, diag, invDiag, powerIterations); p > 0 && p < rho {
 		rho = p
 	}
 	return rho
@@ -142,8 +147,9 @@ func filteredRho(a *sparse.CSR, diag, invDiag []float64, c *connections) float64
 // j = i or j strong, goes to column agg[j] with the value
 // δ_ij − ω a^F_ij / a_ii; terms for the same aggregate are summed in
 // column order of a. Rows are computed in parallel, each independently of
-// the split, and written straight into the result.
-func prolongator(a *sparse.CSR, diag []float64, c *connections, agg []int32, nagg int, rho float64) (*sparse.CSR, error) {
+// the split, and written straight into the result: dst, with its arrays
+// reused (a new matrix if dst is nil).
+func prolongator(dst, a *sparse.CSR, diag []float64, c *connections, agg []int32, nagg int, rho float64) (*sparse.CSR, error) {
 	omega := 0.0
 	if rho > 0 {
 		omega = 4 / (3 * rho)
@@ -185,13 +191,13 @@ func prolongator(a *sparse.CSR, diag []float64, c *connections, agg []int32, nag
 	for i := range a.Rows {
 		maxRow = max(maxRow, int(a.RowPtr[i+1]-a.RowPtr[i]))
 	}
-	count := func(lo, hi int, rowLen []int32) {
+	count := func(_, lo, hi int, rowLen []int32) {
 		cols, vals := make([]int32, maxRow), make([]float64, maxRow)
 		for i := lo; i < hi; i++ {
 			rowLen[i] = int32(row(i, cols, vals))
 		}
 	}
-	put := func(lo, hi int, p *sparse.CSR) {
+	put := func(_, lo, hi int, p *sparse.CSR) {
 		var buf []colVal
 		for i := lo; i < hi; i++ {
 			s, e := p.RowPtr[i], p.RowPtr[i+1]
@@ -199,7 +205,7 @@ func prolongator(a *sparse.CSR, diag []float64, c *connections, agg []int32, nag
 			buf = sortPairs(p.Col[s:e], p.Val[s:e], buf)
 		}
 	}
-	return fill(a.Rows, nagg, a.RowPtr, count, put)
+	return fill(dst, a.Rows, nagg, a.RowPtr, count, put)
 }
 
 // colVal is a column index with its value.

@@ -1,7 +1,6 @@
 package amg
 
 import (
-	"cmp"
 	"slices"
 
 	"github.com/posteriori-fem/posteriori/internal/sparse"
@@ -285,12 +284,8 @@ type colouring struct {
 	m    *sparse.CSR
 	diag []int32
 	inv  []float64
-}
-
-// colourEntry is a stored entry of a row with the colour of its column.
-type colourEntry struct {
-	colour, col int32
-	val         float64
+	// colourOf is scratch of colour: the colour of each row.
+	colourOf []int32
 }
 
 // colours returns the number of colours (0 for none).
@@ -304,10 +299,13 @@ func (c *colouring) colours() int { return max(0, len(c.ptr)-1) }
 // neighbours of lower index has. The number of colours is at most one
 // more than the largest number of off-diagonal entries of a row. The
 // colouring is sequential and linear in Rows + NNZ; the copy in colour
-// order is filled in parallel.
-func colour(a *sparse.CSR, invDiag []float64) colouring {
+// order is filled in parallel, each row distributed by a counting sort
+// over the colours of its columns. The arrays of dst are reused (see resize)
+// and its fields set.
+func colour(dst *colouring, a *sparse.CSR, invDiag []float64) {
 	n := a.Rows
-	col := make([]int32, n)
+	dst.colourOf = resize(dst.colourOf, n)
+	col := dst.colourOf
 	var used []int32 // used[c] == i when a neighbour of row i has colour c
 	for i := range n {
 		for _, j := range a.Col[a.RowPtr[i]:a.RowPtr[i+1]] {
@@ -325,7 +323,8 @@ func colour(a *sparse.CSR, invDiag []float64) colouring {
 		col[i] = int32(c)
 	}
 	nc := len(used)
-	ptr := make([]int32, nc+1)
+	ptr := resize(dst.ptr, nc+1)
+	clear(ptr)
 	for _, c := range col {
 		ptr[c+1]++
 	}
@@ -333,42 +332,58 @@ func colour(a *sparse.CSR, invDiag []float64) colouring {
 		ptr[c+1] += ptr[c]
 	}
 	next := slices.Clone(ptr[:nc])
-	rows := make([]int32, n)
+	rows := resize(dst.rows, n)
 	for i, c := range col {
 		rows[next[c]] = int32(i)
 		next[c]++
 	}
-	m := &sparse.CSR{Rows: n, Cols: a.Cols, RowPtr: make([]int32, n+1), Col: make([]int32, a.NNZ()), Val: make([]float64, a.NNZ())}
+	m := resizeCSR(dst.m, n, a.Cols, a.NNZ())
+	m.RowPtr[0] = 0
 	for q, i := range rows {
 		m.RowPtr[q+1] = m.RowPtr[q] + a.RowPtr[i+1] - a.RowPtr[i]
 	}
-	diag := make([]int32, n)
-	inv := make([]float64, n)
+	diag := resize(dst.diag, n)
+	inv := resize(dst.inv, n)
 	chunks(n, m.RowPtr, func(_, lo, hi int) {
-		var buf []colourEntry // the entries of the row with their colours
+		// Each row is distributed by the colours of its columns with a
+		// counting sort, which is stable: columns keep their ascending
+		// order within a colour. first[c] is the place of the next entry
+		// of colour c in the row.
+		first := make([]int32, nc+1)
 		for q := lo; q < hi; q++ {
 			i := rows[q]
 			cs, vs := m.Col[m.RowPtr[q]:m.RowPtr[q+1]], m.Val[m.RowPtr[q]:m.RowPtr[q+1]]
 			src, srcV := a.Col[a.RowPtr[i]:a.RowPtr[i+1]], a.Val[a.RowPtr[i]:a.RowPtr[i+1]]
-			buf = buf[:0]
+			srcV = srcV[:len(src)]
+			clear(first)
+			for _, j := range src {
+				first[col[j]+1]++
+			}
+			for c := range nc {
+				first[c+1] += first[c]
+			}
+			ci := col[i]
 			for t, j := range src {
-				buf = append(buf, colourEntry{col[j], j, srcV[t]})
+				c := col[j]
+				at := first[c]
+				first[c]++
+				cs[at], vs[at] = j, srcV[t]
 			}
-			// Stable sort by colour: columns keep their order within a
-			// colour.
-			slices.SortStableFunc(buf, func(x, y colourEntry) int { return cmp.Compare(x.colour, y.colour) })
-			for t, e := range buf {
-				cs[t], vs[t] = e.col, e.val
+			// The diagonal entry is among those of its colour, after
+			// the entries of the earlier colours (for a symmetric
+			// pattern, the only one).
+			d := int32(0)
+			if ci > 0 {
+				d = first[ci-1]
 			}
-			d := 0
 			for cs[d] != i {
 				d++
 			}
-			diag[q] = m.RowPtr[q] + int32(d)
+			diag[q] = m.RowPtr[q] + d
 			inv[q] = invDiag[i]
 		}
 	})
-	return colouring{ptr: ptr, rows: rows, m: m, diag: diag, inv: inv}
+	dst.ptr, dst.rows, dst.m, dst.diag, dst.inv = ptr, rows, m, diag, inv
 }
 
 // Modes of colourKernel.

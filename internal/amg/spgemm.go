@@ -42,19 +42,22 @@ func splitRows(n, nw int, rowPtr []int32) []int {
 	return parallel.ByWeight(nil, nw, rowPtr[:n+1])
 }
 
-// fill builds a rows × cols CSR whose row lengths are known: count(lo, hi,
-// rowLen) stores the lengths of rows lo..hi-1 in rowLen[lo:hi], and
-// put(lo, hi, m) writes the columns and values of those rows at
+// fill builds a rows × cols CSR whose row lengths are known: count(c, lo,
+// hi, rowLen) stores the lengths of rows lo..hi-1 in rowLen[lo:hi], and
+// put(c, lo, hi, m) writes the columns and values of those rows at
 // m.RowPtr[i]. Both run in parallel over row ranges: count's balanced by
 // work, offsets that estimate the work of the rows (such as the row
 // offsets of the matrix the rows are computed from; nil balances by
-// rows), put's by the entries of the result. Each row is computed
+// rows), put's by the entries of the result; c is the number of the range
+// (below GOMAXPROCS), for per-goroutine scratch. Each row is computed
 // independently of the ranges, and written straight into the result, so
-// there is no copy and no over-allocation. fill fails if the number of
-// entries does not fit in an int32.
-func fill(rows, cols int, work []int32, count func(lo, hi int, rowLen []int32), put func(lo, hi int, m *sparse.CSR)) (*sparse.CSR, error) {
-	m := &sparse.CSR{Rows: rows, Cols: cols, RowPtr: make([]int32, rows+1)}
-	chunks(rows, work, func(_, lo, hi int) { count(lo, hi, m.RowPtr[1:]) })
+// there is no copy and no over-allocation. The result is m, with its
+// arrays reused (see resizeCSR), or a new matrix if m is nil. fill fails
+// if the number of entries does not fit in an int32.
+func fill(m *sparse.CSR, rows, cols int, work []int32, count func(c, lo, hi int, rowLen []int32), put func(c, lo, hi int, m *sparse.CSR)) (*sparse.CSR, error) {
+	m = resizeCSR(m, rows, cols, 0)
+	m.RowPtr[0] = 0
+	chunks(rows, work, func(c, lo, hi int) { count(c, lo, hi, m.RowPtr[1:]) })
 	nnz := 0
 	for i := range rows {
 		nnz += int(m.RowPtr[i+1])
@@ -63,47 +66,55 @@ func fill(rows, cols int, work []int32, count func(lo, hi int, rowLen []int32), 
 		}
 		m.RowPtr[i+1] = int32(nnz)
 	}
-	m.Col = make([]int32, nnz)
-	m.Val = make([]float64, nnz)
-	chunks(rows, m.RowPtr, func(_, lo, hi int) { put(lo, hi, m) })
+	m.Col = resize(m.Col, nnz)
+	m.Val = resize(m.Val, nnz)
+	chunks(rows, m.RowPtr, func(c, lo, hi int) { put(c, lo, hi, m) })
 	return m, nil
 }
 
 // mul returns the sparse product a·b (Gustavson's row-wise algorithm), in
 // two passes over the rows of a: a symbolic one that counts the distinct
-// columns of each row of the product, and a numeric one.
+// columns of each row of the product, and a numeric one. The result is
+// dst with its arrays reused (a new matrix if dst is nil); ws holds the
+// scratch arrays of each goroutine (a new workspace if nil).
 //
 // Row i of the product is Σ_k a_ik (row k of b). It is accumulated in a
-// dense array indexed by column, with a marker array recording which
-// columns row i has touched (marker[j] == i), so that no array is cleared
-// between rows; the touched columns are then sorted and gathered. Every
-// entry is summed in the order of the terms (k ascending, then the entries
-// of row k of b ascending), on a single goroutine, so the result does not
-// depend on how rows are split over goroutines. The cost is twice the
-// number of multiplications, Σ_i Σ_{k in row i} nnz(row k of b), plus
-// sorting the output rows. Explicit zeros of the structure are kept.
-func mul(a, b *sparse.CSR) (*sparse.CSR, error) {
+// dense array indexed by column, each slot holding a marker, the last row
+// that touched the column (so that no slot is cleared between rows), and
+// the partial sum, side by side, so that a term costs one cache line; the
+// touched columns are then sorted and gathered. Every entry is summed in
+// the order of the terms (k ascending, then the entries of row k of b
+// ascending), on a single goroutine, so the result does not depend on how
+// rows are split over goroutines. The cost is twice the number of
+// multiplications, Σ_i Σ_{k in row i} nnz(row k of b), plus sorting the
+// output rows. Explicit zeros of the structure are kept.
+func mul(dst, a, b *sparse.CSR, ws *workspace) (*sparse.CSR, error) {
 	if a.Cols != b.Rows {
 		panic(fmt.Sprintf("amg: mul: %dx%d times %dx%d", a.Rows, a.Cols, b.Rows, b.Cols))
 	}
-	marker := func() []int32 {
-		mark := make([]int32, b.Cols)
-		for j := range mark {
-			mark[j] = -1
+	if ws == nil {
+		ws = new(workspace)
+	}
+	ws.acc = perWorker(ws.acc)
+	accumulator := func(c int) []slot {
+		acc := resize(ws.acc[c], b.Cols)
+		ws.acc[c] = acc
+		for j := range acc {
+			acc[j].mark = -1
 		}
-		return mark
+		return acc
 	}
 	aRow, aCol, aVal := a.RowPtr, a.Col, a.Val
 	bRow, bCol, bVal := b.RowPtr, b.Col, b.Val
-	count := func(lo, hi int, rowLen []int32) {
-		mark := marker()
+	count := func(c, lo, hi int, rowLen []int32) {
+		acc := accumulator(c)
 		for i := lo; i < hi; i++ {
 			c := int32(0)
 			for ka := aRow[i]; ka < aRow[i+1]; ka++ {
 				k := aCol[ka]
 				for _, j := range bCol[bRow[k]:bRow[k+1]] {
-					if mark[j] != int32(i) {
-						mark[j] = int32(i)
+					if acc[j].mark != int32(i) {
+						acc[j].mark = int32(i)
 						c++
 					}
 				}
@@ -111,9 +122,8 @@ func mul(a, b *sparse.CSR) (*sparse.CSR, error) {
 			rowLen[i] = c
 		}
 	}
-	put := func(lo, hi int, m *sparse.CSR) {
-		mark := marker()
-		acc := make([]float64, b.Cols)
+	put := func(c, lo, hi int, m *sparse.CSR) {
+		acc := accumulator(c)
 		for i := lo; i < hi; i++ {
 			row := m.Col[m.RowPtr[i]:m.RowPtr[i+1]]
 			q := 0
@@ -123,24 +133,32 @@ func mul(a, b *sparse.CSR) (*sparse.CSR, error) {
 				bv := bVal[bRow[k]:bRow[k+1]]
 				bv = bv[:len(bc)]
 				for t, j := range bc {
-					if mark[j] != int32(i) {
-						mark[j] = int32(i)
+					s := &acc[j]
+					if s.mark != int32(i) {
+						s.mark = int32(i)
 						row[q] = j
 						q++
-						acc[j] = av * bv[t]
+						s.val = av * bv[t]
 					} else {
-						acc[j] += av * bv[t]
+						s.val += av * bv[t]
 					}
 				}
 			}
 			slices.Sort(row)
 			vals := m.Val[m.RowPtr[i]:m.RowPtr[i+1]]
 			for t, j := range row {
-				vals[t] = acc[j]
+				vals[t] = acc[j].val
 			}
 		}
 	}
-	return fill(a.Rows, b.Cols, a.RowPtr, count, put)
+	return fill(dst, a.Rows, b.Cols, a.RowPtr, count, put)
+}
+
+// slot is an entry of the dense accumulator of mul: the partial sum of a
+// column and the last row that touched it.
+type slot struct {
+	mark int32
+	val  float64
 }
 
 // maxTransposeChunks bounds the number of row ranges of transpose, each of
@@ -153,14 +171,21 @@ const maxTransposeChunks = 8
 // place in each row of the result (ranges in order), and then each range
 // copies its entries there, visiting its rows in ascending order. The
 // rows of the result are therefore sorted, and the result is the same
-// whatever the split. It is linear in Rows + NNZ + (ranges · Cols).
-func transpose(a *sparse.CSR) *sparse.CSR {
-	t := &sparse.CSR{Rows: a.Cols, Cols: a.Rows, RowPtr: make([]int32, a.Cols+1), Col: make([]int32, a.NNZ()), Val: make([]float64, a.NNZ())}
+// whatever the split. It is linear in Rows + NNZ + (ranges · Cols). The
+// result is dst with its arrays reused (a new matrix if dst is nil); ws
+// holds the counts of the ranges (a new workspace if nil).
+func transpose(dst, a *sparse.CSR, ws *workspace) *sparse.CSR {
+	if ws == nil {
+		ws = new(workspace)
+	}
+	t := resizeCSR(dst, a.Cols, a.Rows, a.NNZ())
 	nw := max(1, min(runtime.GOMAXPROCS(0), maxTransposeChunks, a.Rows/setupGrain))
 	bounds := splitRows(a.Rows, nw, a.RowPtr)
-	next := make([][]int32, nw) // per range: its count, then its next position, per column
+	ws.tnext = resize(ws.tnext, max(nw, len(ws.tnext)))
+	next := ws.tnext[:nw] // per range: its count, then its next position, per column
 	parallel.Run(nw, func(c int) {
-		cnt := make([]int32, a.Cols)
+		cnt := resize(next[c], a.Cols)
+		clear(cnt)
 		for _, j := range a.Col[a.RowPtr[bounds[c]]:a.RowPtr[bounds[c+1]]] {
 			cnt[j]++
 		}
@@ -197,7 +222,7 @@ func transpose(a *sparse.CSR) *sparse.CSR {
 // so the result is exactly symmetric. The pattern is the union of the
 // patterns of a and aᵀ.
 func symmetrize(a *sparse.CSR) *sparse.CSR {
-	t := transpose(a)
+	t := transpose(nil, a, nil)
 	s := &sparse.CSR{Rows: a.Rows, Cols: a.Cols, RowPtr: make([]int32, a.Rows+1)}
 	s.Col = make([]int32, 0, a.NNZ())
 	s.Val = make([]float64, 0, a.NNZ())
@@ -261,13 +286,14 @@ func symmetrizeInPlace(a *sparse.CSR) bool {
 
 // galerkin returns the Galerkin coarse operator pᵀ·a·p, given r = pᵀ,
 // made exactly symmetric (see symmetrizeInPlace and symmetrize). It
-// computes a·p first, then r·(a·p), both with mul.
-func galerkin(a, p, r *sparse.CSR) (*sparse.CSR, error) {
-	ap, err := mul(a, p)
+// computes a·p first, into ws.ap, then r·(a·p), into dst (see mul).
+func galerkin(dst, a, p, r *sparse.CSR, ws *workspace) (*sparse.CSR, error) {
+	ap, err := mul(ws.ap, a, p, ws)
 	if err != nil {
 		return nil, err
 	}
-	c, err := mul(r, ap)
+	ws.ap = ap
+	c, err := mul(dst, r, ap, ws)
 	if err != nil {
 		return nil, err
 	}
