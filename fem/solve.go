@@ -116,7 +116,16 @@ func (sys *System) Prepare(kind Preconditioner) (*Prepared, error) {
 			// counts this gives).
 			st.Theta = 0.1
 		}
-		pre, err = amg.New(sys.A.csr(), st)
+		if w := sys.work; w != nil {
+			// The hierarchy is rebuilt in the memory of the previous one.
+			if w.amg == nil {
+				w.amg = new(amg.Hierarchy)
+			}
+			err = w.amg.Reset(sys.A.csr(), st)
+			pre = w.amg
+		} else {
+			pre, err = amg.New(sys.A.csr(), st)
+		}
 	case Diagonal:
 		pre, err = sparse.NewJacobi(sys.A.csr())
 	default:

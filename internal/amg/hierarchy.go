@@ -205,8 +205,7 @@ func New(a *sparse.CSR, s Settings) (*Hierarchy, error) {
 // that no longer needs the old hierarchy (an adaptive loop solving on a new
 // mesh at each step): the arrays of the old levels and the scratch arrays
 // of the setup, which h keeps, are reused where they are large enough, and
-// replaced by arrays with a quarter more room where not, so that a
-// sequence of growing matrices reallocates rarely. a is kept, not copied,
+// replaced by arrays with half as much room again where not (see resize). a is kept, not copied,
 // as by New; the old matrix is no longer referenced. The errors are those
 // of New; on an error h holds no hierarchy (Levels returns 0, Apply takes
 // only empty vectors) until a Reset succeeds, and it keeps its memory.

@@ -3,21 +3,22 @@ package amg
 import (
 	"runtime"
 
+	"github.com/posteriori-fem/posteriori/internal/spare"
 	"github.com/posteriori-fem/posteriori/internal/sparse"
 )
 
 // resize returns s[:n], reusing the array of s if its capacity suffices,
 // else a new array: of capacity n for an s without one (a first build),
-// of capacity n + n/4 for an s that had one (a Reset for a larger matrix,
-// which an adaptive loop follows with larger ones still, about 1.3 times
-// per step). The contents are not cleared.
+// of capacity n·(1 + spare.Headroom) for an s that had one (a Reset for a
+// larger matrix, which an adaptive loop follows with larger ones still,
+// about 1.3 times per step). The contents are not cleared.
 func resize[T any](s []T, n int) []T {
 	if n <= cap(s) {
 		return s[:n]
 	}
 	c := n
 	if cap(s) > 0 {
-		c += n / 4
+		c += int(spare.Headroom * float64(n))
 	}
 	return make([]T, n, c)
 }
