@@ -295,9 +295,10 @@ type equilibration struct {
 	vstart []int32
 	vtri   []int32
 	// terms writes the terms of one triangle (see termCount).
-	terms func(tw *termWork, t int, v []float64) error
-	tdat  []float64 // fast path: per-triangle data (see solveP1)
-	arena []float64 // scratch from which take cuts the arrays
+	terms  func(tw *termWork, t int, v []float64) error
+	tdat   []float64 // fast path: per-triangle data (see solveP1)
+	arena  []float64 // scratch from which take cuts the arrays
+	iarena []int32   // scratch from which takeInt cuts the arrays
 }
 
 // take returns n float64s, not cleared: cut from the arena while it has
@@ -308,6 +309,16 @@ func (eq *equilibration) take(n int) []float64 {
 	}
 	s := eq.arena[:n:n]
 	eq.arena = eq.arena[n:]
+	return s
+}
+
+// takeInt returns n int32s, not cleared, as take does.
+func (eq *equilibration) takeInt(n int) []int32 {
+	if len(eq.iarena) < n {
+		return make([]int32, n)
+	}
+	s := eq.iarena[:n:n]
+	eq.iarena = eq.iarena[n:]
 	return s
 }
 
@@ -357,9 +368,11 @@ func (q Equilibrated) equilibrate(u *fem.Function, p *fem.Problem, dst *Indicato
 	eq.vstart, eq.vtri = m.VertexTriangles()
 	if dst != nil {
 		// Room for the arrays of either path: σ_a, the residual parts, the
-		// terms, f at the rule's points or the data of solveP1, r̃ and the
-		// Neumann moments.
-		eq.arena = dst.scratch(nt*(3*eq.nloc+3+termCount+max(p1Stride, eq.rule.Len())) + nv + 2*(k+1)*ne)
+		// terms, f at the rule's points or the data of solveP1, the five of
+		// treeBound (sub, flux, share), r̃ and the Neumann moments;
+		// and the two integer arrays of treeBound.
+		eq.arena = dst.scratch(nt*(3*eq.nloc+3+termCount+max(p1Stride, eq.rule.Len())+5) + nv + 2*(k+1)*ne)
+		eq.iarena = dst.scratchInt(2 * nt)
 	}
 	if err := eq.dispatch(); err != nil {
 		return nil, err
