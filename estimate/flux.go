@@ -265,7 +265,6 @@ func (fr FluxRecovery) system(dst *Indicators, u *fem.Function, p *fem.Problem) 
 	// the system from the two sides of each edge. Otherwise the general
 	// path: element data by quadrature, rows gathered and sorted.
 	if fast {
-		pr.sidesP1(sides)
 		if err := pr.elementsP1(dst); err != nil {
 			return nil, err
 		}

@@ -88,32 +88,23 @@ func (pr *projection) elementsP1(dst *Indicators) error {
 	})
 }
 
-// sidesP1 writes, for each edge e, 3t + i for its triangles t = EdgeTri[2e]
-// and EdgeTri[2e+1], with i the local index of e in t, into sides[2e] and
-// sides[2e+1] (−1 for the missing side of a boundary edge).
-func (pr *projection) sidesP1(sides []int32) {
-	m := pr.m
-	_ = parallel.For(m.NumEdges(), 4096, func(lo, hi int) error {
-		for e := lo; e < hi; e++ {
-			for s := range 2 {
-				t := int(m.EdgeTri[2*e+s])
-				sides[2*e+s] = -1
-				if t >= 0 {
-					sides[2*e+s] = int32(3*t + localEdge(m, t, e))
-				}
-			}
-		}
-		return nil
-	})
-}
-
 // assembleP1 is assemble for RT_0: the row of a free edge e holds e and
 // the free edges of its triangles other than e (at most five entries).
+// It writes, for each edge e, 3t + i for its triangles t = EdgeTri[2e] and
+// EdgeTri[2e+1], with i the local index of e in t, into sides[2e] and
+// sides[2e+1] (−1 for the missing side of a boundary edge), for guessP1.
 func (pr *projection) assembleP1(rowPtr, cols []int32, vals []float64, sides []int32) {
 	m, n := pr.m, pr.n
 	triEdge, fixed := m.TriEdge, pr.fixed
 	_ = parallel.For(n, 4096, func(lo, hi int) error {
 		for r := lo; r < hi; r++ {
+			for s := range 2 {
+				t := int(m.EdgeTri[2*r+s])
+				sides[2*r+s] = -1
+				if t >= 0 {
+					sides[2*r+s] = int32(3*t + localEdge(m, t, r))
+				}
+			}
 			c := int32(1)
 			if fixed[r] == 0 {
 				for _, sd := range sides[2*r : 2*r+2] {
