@@ -87,16 +87,20 @@ import (
 // for P1 and by the Dunavant rule of degree 2k + 2 (exact) for P2.
 //
 // Cost, measured (BenchmarkFluxRecovery, the sine problem, uniform meshes,
-// 2 cores, three runs of go test -run XXX -bench
-// 'FluxRecovery/(P1|spmv)' -benchtime 3x): P1 394–442 ns per triangle at
-// 1e6 triangles (313–332 at 1e5), about 215 products with the P1
-// stiffness matrix of the same mesh (1.92–3.17 ns per triangle at 1e6);
-// P2 4,200–8,500 ns per triangle (on a machine shared with other work). About a quarter of the
-// P1 time is the source f at six points per triangle for the oscillation;
-// the rest is assembly of the sparse matrix (sorted rows), CG (4–7
-// iterations plus two residual products) and the element passes. Memory:
-// about 280 bytes per triangle for P1 (element data, matrix, CG vectors)
-// and 1,600 for P2, kept in dst's scratch except CG's vectors.
+// 2 cores shared with other work at a load average of 2.5 to 6, so the
+// figures are upper values; three runs of go test -run XXX -bench
+// 'FluxRecovery/(P1|spmv)/n=(100000|1000000)$' -benchtime 3x): P1 465–721
+// ns per triangle at 1e6 triangles (294–423 at 1e5), in the quietest runs
+// about 240 products with the P1 stiffness matrix of the same mesh
+// (1.92–3.80 ns per triangle at 1e6, 3.04–3.56 at 1e5); P2 4,200–8,500 ns
+// per triangle (an earlier run, on a machine shared with other work). The
+// P1 path assembles the system from the two triangles of each edge
+// (flux_p1.go). About a quarter of the P1 time is the source f at six
+// points per triangle for the oscillation; the rest is the assembly, CG (4–7
+// iterations plus two residual products) and the element passes. Memory
+// (an earlier measurement): about 280 bytes per triangle for P1 (element
+// data, matrix, CG vectors), and two int32s per edge for the sides of the
+// edges, and 1,600 for P2, kept in dst's scratch except CG's vectors.
 //
 // The data oscillation is computed as by Residual and Osc2 holds it, by the
 // package convention. The reaction term c u is not part of the flux: with
