@@ -14,21 +14,23 @@ func cholesky(a []float64, n int, tol float64) bool {
 		dmax = max(dmax, a[i*n+i])
 	}
 	for j := range n {
-		d := a[j*n+j]
-		for k := range j {
-			d -= a[j*n+k] * a[j*n+k]
+		rj := a[j*n : j*n+j+1 : j*n+j+1] // row j up to the diagonal
+		d := rj[j]
+		for _, v := range rj[:j] {
+			d -= v * v
 		}
 		if !(d > tol*dmax) {
 			return false
 		}
 		inv := 1 / math.Sqrt(d)
-		a[j*n+j] = inv
+		rj[j] = inv
 		for i := j + 1; i < n; i++ {
-			s := a[i*n+j]
-			for k := range j {
-				s -= a[i*n+k] * a[j*n+k]
+			ri := a[i*n : i*n+j+1 : i*n+j+1]
+			s := ri[j]
+			for k, v := range rj[:j] {
+				s -= ri[k] * v
 			}
-			a[i*n+j] = s * inv
+			ri[j] = s * inv
 		}
 	}
 	return true
@@ -36,12 +38,14 @@ func cholesky(a []float64, n int, tol float64) bool {
 
 // cholSolve solves L Lᵀ x = b with the factor from cholesky; x may be b.
 func cholSolve(a []float64, n int, b, x []float64) {
+	b, x = b[:n], x[:n]
 	for i := range n {
+		ri := a[i*n : i*n+i+1 : i*n+i+1]
 		s := b[i]
-		for k := range i {
-			s -= a[i*n+k] * x[k]
+		for k, v := range ri[:i] {
+			s -= v * x[k]
 		}
-		x[i] = s * a[i*n+i]
+		x[i] = s * ri[i]
 	}
 	for i := n - 1; i >= 0; i-- {
 		s := x[i]

@@ -154,19 +154,23 @@ import (
 // goroutines; every value is summed in a fixed order, so the result does
 // not depend on GOMAXPROCS. The cost is linear in the number of triangles
 // for bounded vertex degree. Measured with BenchmarkEquilibrated (uniform
-// meshes of the unit square, 2 cores, three runs, go test -run XXX -bench
-// 'Equilibrated/(P1|spmv)' -benchtime 3x): P1 770–792 ns per triangle at
-// 1e6 triangles and 718–765 at 1e5, about 400 products with the P1
-// stiffness matrix of the same mesh (1.91–2.04 ns per triangle at 1e6);
-// about a tenth of it evaluates f at the 12 points of each triangle; the
-// general path takes some 10 times as long on P1 meshes; P2 36–38 µs per
-// triangle at 1e4 triangles. Memory, in float64s per triangle: for
-// P1, 24 for the three patch contributions to σ_h, 14 of geometry and
-// divergence data, 3 residual parts and 7 terms; for P2, 45, 16 values of
-// f at the quadrature points, 3 and 7; and 2(p+1) per edge and one per
-// vertex. One Estimate with a nil dst allocates 471 bytes per triangle for
-// P1 and 680 for P2 (BenchmarkEquilibrated, 100352 triangles); a dst used
-// again keeps these arrays as scratch.
+// meshes of the unit square, 2 cores shared with other work at a load
+// average of 2.5 to 6, so the figures are upper values: go test -run XXX
+// -bench 'Equilibrated/(P1|spmv)/n=(100000|1000000)$' -benchtime 3x, three
+// runs): P1 599–1141 ns per triangle at 1e6 triangles and 609–1135 at
+// 1e5, in the quietest runs about 300 products with the P1 stiffness
+// matrix of the same mesh (1.93–3.51 ns per triangle at 1e6); evaluating f
+// at the 12 points of each triangle takes about a tenth of it; the general
+// path takes some 10 times as long on P1 meshes; P2 (the general path)
+// 37–38 µs per triangle at 1e4 triangles (-bench 'Equilibrated/P2/n=10000$'
+// -count 3). Memory, in float64s per triangle: for P1, 24 for the three
+// patch contributions to σ_h, 14 of geometry and divergence data, 3
+// residual parts, 7 terms and 5 for the algebraic bound; for P2, 45, 16
+// values of f at the quadrature points, 3, 7 and 5; two int32s per
+// triangle; and 2(p+1) per edge and one per vertex. One Estimate with a
+// nil dst allocates 519 bytes per triangle for P1 (100352 triangles) and
+// 748–750 for P2 (10082 triangles); a dst used again keeps these arrays as
+// scratch.
 //
 // Degree of the flux: σ_h ∈ RT_p for u_h ∈ P_p (Ern and Vohralík 2015),
 // because ψ_a a∇u_h ∈ P_p² lies in RT_p and not in RT_{p−1}: with RT_{p−1}
@@ -295,9 +299,10 @@ type equilibration struct {
 	vstart []int32
 	vtri   []int32
 	// terms writes the terms of one triangle (see termCount).
-	terms func(tw *termWork, t int, v []float64) error
-	tdat  []float64 // fast path: per-triangle data (see solveP1)
-	arena []float64 // scratch from which take cuts the arrays
+	terms  func(tw *termWork, t int, v []float64) error
+	tdat   []float64 // fast path: per-triangle data (see solveP1)
+	arena  []float64 // scratch from which take cuts the arrays
+	iarena []int32   // scratch from which takeInt cuts the arrays
 }
 
 // take returns n float64s, not cleared: cut from the arena while it has
@@ -308,6 +313,16 @@ func (eq *equilibration) take(n int) []float64 {
 	}
 	s := eq.arena[:n:n]
 	eq.arena = eq.arena[n:]
+	return s
+}
+
+// takeInt returns n int32s, not cleared, as take does.
+func (eq *equilibration) takeInt(n int) []int32 {
+	if len(eq.iarena) < n {
+		return make([]int32, n)
+	}
+	s := eq.iarena[:n:n]
+	eq.iarena = eq.iarena[n:]
 	return s
 }
 
@@ -357,9 +372,11 @@ func (q Equilibrated) equilibrate(u *fem.Function, p *fem.Problem, dst *Indicato
 	eq.vstart, eq.vtri = m.VertexTriangles()
 	if dst != nil {
 		// Room for the arrays of either path: σ_a, the residual parts, the
-		// terms, f at the rule's points or the data of solveP1, r̃ and the
-		// Neumann moments.
-		eq.arena = dst.scratch(nt*(3*eq.nloc+3+termCount+max(p1Stride, eq.rule.Len())) + nv + 2*(k+1)*ne)
+		// terms, f at the rule's points or the data of solveP1, the five of
+		// treeBound (sub, flux, share), r̃ and the Neumann moments;
+		// and the two integer arrays of treeBound.
+		eq.arena = dst.scratch(nt*(3*eq.nloc+3+termCount+max(p1Stride, eq.rule.Len())+5) + nv + 2*(k+1)*ne)
+		eq.iarena = dst.scratchInt(2 * nt)
 	}
 	if err := eq.dispatch(); err != nil {
 		return nil, err

@@ -4,6 +4,7 @@ import (
 	"math"
 
 	"github.com/posteriori-fem/posteriori/fem"
+	"github.com/posteriori-fem/posteriori/internal/parallel"
 	"github.com/posteriori-fem/posteriori/mesh"
 )
 
@@ -44,15 +45,12 @@ func (eq *equilibration) treeBound(share []float64) (float64, bool) {
 	nt := m.NumTriangles()
 	// parent[t] is the local index of the edge through which t sends its
 	// mass; order lists the triangles in breadth-first order.
-	parent := make([]int8, nt)
-	for t := range parent {
-		parent[t] = -1
-	}
-	order := make([]int32, 0, nt)
+	parent, order := eq.takeInt(nt), eq.takeInt(nt)[:0]
 	for t := range nt {
+		parent[t] = -1
 		for i := range 3 {
 			if eq.dirE[m.TriEdge[3*t+i]] {
-				parent[t] = int8(i)
+				parent[t] = int32(i)
 				order = append(order, int32(t))
 				break
 			}
@@ -66,7 +64,7 @@ func (eq *equilibration) treeBound(share []float64) (float64, bool) {
 		}
 		for i := range 3 {
 			if _, ok := eq.robinRoot(int(m.TriEdge[3*t+i])); ok {
-				parent[t] = int8(i)
+				parent[t] = int32(i)
 				order = append(order, int32(t))
 				break
 			}
@@ -82,7 +80,7 @@ func (eq *equilibration) treeBound(share []float64) (float64, bool) {
 			if o < 0 || parent[o] >= 0 {
 				continue
 			}
-			parent[o] = int8(j)
+			parent[o] = int32(j)
 			order = append(order, int32(o))
 		}
 	}
@@ -91,22 +89,26 @@ func (eq *equilibration) treeBound(share []float64) (float64, bool) {
 	}
 	// sub[t] starts as (ρ, 1)_T and becomes the mass of t's subtree; flux
 	// holds the outward fluxes of σ_ρ through the three edges of each t.
-	sub := make([]float64, nt)
-	flux := make([]float64, 3*nt)
-	poinc := 0.0
-	for t := range nt {
-		var r [3]float64
-		for i := range 3 {
-			r[i] = eq.rtilde[m.Tri[3*t+i]]
+	// The per-triangle values are computed in parallel, the sums in
+	// triangle order.
+	sub, flux := eq.take(nt), eq.take(3*nt)
+	_ = parallel.For(nt, 1024, func(lo, hi int) error {
+		for t := lo; t < hi; t++ {
+			var r [3]float64
+			for i := range 3 {
+				r[i] = eq.rtilde[m.Tri[3*t+i]]
+			}
+			s := r[0] + r[1] + r[2]
+			area := m.Area(t)
+			sub[t] = area * s / 3
+			// ‖ρ − ρ_T‖²_T for ρ linear with vertex values r_i.
+			d2 := max(area/36*(3*(r[0]*r[0]+r[1]*r[1]+r[2]*r[2])-s*s), 0)
+			share[t] = eq.meanWeight(t) * d2
+			flux[3*t], flux[3*t+1], flux[3*t+2] = 0, 0, 0
 		}
-		s := r[0] + r[1] + r[2]
-		area := m.Area(t)
-		sub[t] = area * s / 3
-		// ‖ρ − ρ_T‖²_T for ρ linear with vertex values r_i.
-		d2 := max(area/36*(3*(r[0]*r[0]+r[1]*r[1]+r[2]*r[2])-s*s), 0)
-		share[t] = eq.meanWeight(t) * d2
-		poinc += share[t]
-	}
+		return nil
+	})
+	poinc := sum(share)
 	for h := nt - 1; h >= 0; h-- {
 		t := int(order[h])
 		i := int(parent[t])
@@ -118,24 +120,31 @@ func (eq *equilibration) treeBound(share []float64) (float64, bool) {
 		sub[o] += sub[t]
 		flux[3*o+j] = -sub[t]
 	}
-	tree := 0.0
-	for t := range nt {
-		f2 := rt0Energy(eq.m.Tri[3*t:3*t+3], eq.m.X, m.Area(t), flux[3*t:3*t+3], eq.co.At(m.Region[t]))
-		// A root on a Robin edge E: σ_ρ·n = μ/|E| there, μ the mass it
-		// sends out, and ‖α^{−½} σ_ρ·n‖²_E = μ²/(|E| α).
-		e := int(m.TriEdge[3*t+int(parent[t])])
-		if alpha, ok := eq.robinRoot(e); ok {
-			mu := flux[3*t+int(parent[t])]
-			f2 += mu * mu / (m.EdgeLength(e) * alpha)
+	// sub now holds the energy of σ_ρ on each triangle.
+	_ = parallel.For(nt, 1024, func(lo, hi int) error {
+		for t := lo; t < hi; t++ {
+			f2 := rt0Energy(eq.m.Tri[3*t:3*t+3], eq.m.X, m.Area(t), flux[3*t:3*t+3], eq.co.At(m.Region[t]))
+			// A root on a Robin edge E: σ_ρ·n = μ/|E| there, μ the mass it
+			// sends out, and ‖α^{−½} σ_ρ·n‖²_E = μ²/(|E| α).
+			e := int(m.TriEdge[3*t+int(parent[t])])
+			if alpha, ok := eq.robinRoot(e); ok {
+				mu := flux[3*t+int(parent[t])]
+				f2 += mu * mu / (m.EdgeLength(e) * alpha)
+			}
+			sub[t] = f2
+			share[t] += f2
 		}
-		tree += f2
-		share[t] += f2
-	}
+		return nil
+	})
+	tree := sum(sub)
 	eta := math.Sqrt(tree) + math.Sqrt(poinc)
 	if total := tree + poinc; total > 0 {
-		for t := range share {
-			share[t] /= total
-		}
+		_ = parallel.For(nt, 4096, func(lo, hi int) error {
+			for t := lo; t < hi; t++ {
+				share[t] /= total
+			}
+			return nil
+		})
 	}
 	return eta, true
 }

@@ -73,7 +73,7 @@ func (eq *equilibration) indicators(dst *Indicators) (EquilibratedParts, error) 
 		if c, ok := eq.algebraicConstant(amin); ok {
 			best = c * math.Sqrt(rho2)
 		}
-		sh := make([]float64, nt)
+		sh := eq.take(nt)
 		if et, ok := eq.treeBound(sh); ok && et < best {
 			best, tshare = et, sh
 		}

@@ -87,16 +87,20 @@ import (
 // for P1 and by the Dunavant rule of degree 2k + 2 (exact) for P2.
 //
 // Cost, measured (BenchmarkFluxRecovery, the sine problem, uniform meshes,
-// 2 cores, three runs of go test -run XXX -bench
-// 'FluxRecovery/(P1|spmv)' -benchtime 3x): P1 394–442 ns per triangle at
-// 1e6 triangles (313–332 at 1e5), about 215 products with the P1
-// stiffness matrix of the same mesh (1.92–3.17 ns per triangle at 1e6);
-// P2 4,200–8,500 ns per triangle (on a machine shared with other work). About a quarter of the
-// P1 time is the source f at six points per triangle for the oscillation;
-// the rest is assembly of the sparse matrix (sorted rows), CG (4–7
-// iterations plus two residual products) and the element passes. Memory:
-// about 280 bytes per triangle for P1 (element data, matrix, CG vectors)
-// and 1,600 for P2, kept in dst's scratch except CG's vectors.
+// 2 cores shared with other work at a load average of 2.5 to 6, so the
+// figures are upper values; three runs of go test -run XXX -bench
+// 'FluxRecovery/(P1|spmv)/n=(100000|1000000)$' -benchtime 3x): P1 465–721
+// ns per triangle at 1e6 triangles (294–423 at 1e5), in the quietest runs
+// about 240 products with the P1 stiffness matrix of the same mesh
+// (1.92–3.80 ns per triangle at 1e6, 3.04–3.56 at 1e5); P2 4,200–8,500 ns
+// per triangle (an earlier run, on a machine shared with other work). The
+// P1 path assembles the system from the two triangles of each edge
+// (flux_p1.go). About a quarter of the P1 time is the source f at six
+// points per triangle for the oscillation; the rest is the assembly, CG (4–7
+// iterations plus two residual products) and the element passes. Memory
+// (an earlier measurement): about 280 bytes per triangle for P1 (element
+// data, matrix, CG vectors), and two int32s per edge for the sides of the
+// edges, and 1,600 for P2, kept in dst's scratch except CG's vectors.
 //
 // The data oscillation is computed as by Residual and Osc2 holds it, by the
 // package convention. The reaction term c u is not part of the flux: with
@@ -165,6 +169,9 @@ type projection struct {
 	loc   []float64 // per triangle: the element matrix (nloc²) and right-hand side (nloc)
 	b, x  []float64
 	a     *sparse.CSR
+	// local writes ‖a^{−½}(σ + a∇u_h)‖²_T per triangle (localGeneral,
+	// localP1).
+	local func(eta2 []float64)
 }
 
 // run is the path of Estimate, after prepare.
@@ -196,50 +203,10 @@ func (fr FluxRecovery) Flux(u *fem.Function, p *fem.Problem) (*fem.RTFunction, F
 
 // project assembles and solves the projection, with the scratch of dst.
 func (fr FluxRecovery) project(dst *Indicators, u *fem.Function, p *fem.Problem) (*projection, FluxStats, error) {
-	if !p.PiecewiseConstant() {
-		return nil, FluxStats{}, fmt.Errorf("estimate: FluxRecovery: diffusion given by AFunc: %w", ErrUnsupported)
-	}
-	m := u.Space.Mesh
-	k := u.Space.Degree - 1
-	rt, err := fem.NewRTSpace(m, k)
+	pr, err := fr.system(dst, u, p)
 	if err != nil {
 		return nil, FluxStats{}, err
 	}
-	pr := &projection{u: u, p: p, m: m, rt: rt, k: k, nloc: rt.LocalDOFs(), n: rt.NumDOF(), rtab: fem.NewRegionTable(p)}
-	nt, ne := m.NumTriangles(), m.NumEdges()
-	nl := pr.nloc
-	// Scratch: element data, then b and x, then the values of the matrix.
-	rowLen := 2*nl - (k + 1)
-	nnzMax := ne*(k+1)*rowLen + nt*rt.InteriorDOFs()*nl
-	work := dst.scratch(nt*(nl*nl+nl) + 2*pr.n + nnzMax)
-	pr.loc = work[:nt*(nl*nl+nl)]
-	pr.b = work[len(pr.loc) : len(pr.loc)+pr.n]
-	pr.x = work[len(pr.loc)+pr.n : len(pr.loc)+2*pr.n]
-	vals := work[len(pr.loc)+2*pr.n:]
-	iw := dst.scratchInt(ne + pr.n + 1 + nnzMax)
-	pr.fixed = iw[:ne]
-	rowPtr := iw[ne : ne+pr.n+1]
-	cols := iw[ne+pr.n+1:]
-	for e := range ne {
-		pr.fixed[e] = 0
-		if m.IsBoundary(e) {
-			if _, ok := p.Dirichlet[m.EdgeTag[e]]; !ok {
-				pr.fixed[e] = 1
-			}
-		}
-	}
-	elements := pr.elements
-	if k == 0 && !fr.general {
-		elements = pr.elementsP1
-	}
-	if err := elements(dst); err != nil {
-		return nil, FluxStats{}, err
-	}
-	if err := pr.neumann(); err != nil {
-		return nil, FluxStats{}, err
-	}
-	pr.assemble(rowPtr, cols, vals)
-	pr.guess()
 	st := FluxStats{Unknowns: pr.n, Guess: math.Sqrt(pr.energy(dst.Eta2))}
 	tol := fr.Tol
 	if tol == 0 {
@@ -255,6 +222,74 @@ func (fr FluxRecovery) project(dst *Indicators, u *fem.Function, p *fem.Problem)
 		return nil, FluxStats{}, fmt.Errorf("estimate: FluxRecovery: projection: %w", err)
 	}
 	return pr, st, nil
+}
+
+// system assembles the projection's system, with the local guess in x and
+// the fixed Neumann moments, in the scratch of dst.
+func (fr FluxRecovery) system(dst *Indicators, u *fem.Function, p *fem.Problem) (*projection, error) {
+	if !p.PiecewiseConstant() {
+		return nil, fmt.Errorf("estimate: FluxRecovery: diffusion given by AFunc: %w", ErrUnsupported)
+	}
+	m := u.Space.Mesh
+	k := u.Space.Degree - 1
+	rt, err := fem.NewRTSpace(m, k)
+	if err != nil {
+		return nil, err
+	}
+	pr := &projection{u: u, p: p, m: m, rt: rt, k: k, nloc: rt.LocalDOFs(), n: rt.NumDOF(), rtab: fem.NewRegionTable(p)}
+	nt, ne := m.NumTriangles(), m.NumEdges()
+	nl := pr.nloc
+	// Scratch: element data, then b and x, then the values of the matrix.
+	rowLen := 2*nl - (k + 1)
+	nnzMax := ne*(k+1)*rowLen + nt*rt.InteriorDOFs()*nl
+	work := dst.scratch(nt*(nl*nl+nl) + 2*pr.n + nnzMax)
+	pr.loc = work[:nt*(nl*nl+nl)]
+	pr.b = work[len(pr.loc) : len(pr.loc)+pr.n]
+	pr.x = work[len(pr.loc)+pr.n : len(pr.loc)+2*pr.n]
+	vals := work[len(pr.loc)+2*pr.n:]
+	fast := k == 0 && !fr.general
+	nside := 0
+	if fast {
+		nside = 2 * ne
+	}
+	iw := dst.scratchInt(ne + pr.n + 1 + nnzMax + nside)
+	pr.fixed = iw[:ne]
+	rowPtr := iw[ne : ne+pr.n+1]
+	cols := iw[ne+pr.n+1 : ne+pr.n+1+nnzMax]
+	sides := iw[ne+pr.n+1+nnzMax:]
+	for e := range ne {
+		pr.fixed[e] = 0
+		if m.IsBoundary(e) {
+			if _, ok := p.Dirichlet[m.EdgeTag[e]]; !ok {
+				pr.fixed[e] = 1
+			}
+		}
+	}
+	// Fast path for P1 (RT_0, flux_p1.go): the element data in closed form,
+	// the system from the two sides of each edge. Otherwise the general
+	// path: element data by quadrature, rows gathered and sorted.
+	if fast {
+		if err := pr.elementsP1(dst); err != nil {
+			return nil, err
+		}
+		if err := pr.neumann(); err != nil {
+			return nil, err
+		}
+		pr.assembleP1(rowPtr, cols, vals, sides)
+		pr.guessP1(sides)
+		pr.local = pr.localP1
+	} else {
+		if err := pr.elements(dst); err != nil {
+			return nil, err
+		}
+		if err := pr.neumann(); err != nil {
+			return nil, err
+		}
+		pr.assemble(rowPtr, cols, vals)
+		pr.guess()
+		pr.local = pr.localGeneral
+	}
+	return pr, nil
 }
 
 // invTensor returns a⁻¹.
@@ -324,77 +359,6 @@ func (pr *projection) elements(dst *Indicators) error {
 			}
 			h := m.Diameter(t)
 			dst.Osc2[t] = h * h * oscillation(ev, orule, fq[:orule.Len()])
-		}
-		return nil
-	})
-}
-
-// elementsP1 is elements for P1 solutions (RT_0), in closed form. With
-// d = 2|T|, e_l = x_l − x_T (x_T the centroid), s_i the sign of edge i
-// (opposite vertex i) and |E_i| n_i its global normal times its length,
-//
-//	φ_i = s_i (x − x_i)/d,
-//	A_ij = s_i s_j/(2d) (e_i·a⁻¹e_j + Σ_l e_l·a⁻¹e_l / 12),
-//	c_i = −a∇u_h·n_i |E_i|,
-//
-// from ∫_T (x − x_T)(x − x_T)ᵀ = |T|/12 Σ_l e_l e_lᵀ.
-func (pr *projection) elementsP1(dst *Indicators) error {
-	m, p := pr.m, pr.p
-	var orule *quadrature.Triangle
-	if p.HasSource() {
-		var err error
-		if orule, err = quadrature.ForTriangle(4); err != nil {
-			return err
-		}
-	}
-	x, tri, uu := m.X, m.Tri, pr.u.U
-	return parallel.For(m.NumTriangles(), 2048, func(lo, hi int) error {
-		for t := lo; t < hi; t++ {
-			v := tri[3*t : 3*t+3 : 3*t+3]
-			d, gx, gy := p1Grad(x, uu, v[0], v[1], v[2])
-			a := pr.rtab.At(m.Region[t])
-			ai := invTensor(a)
-			fx, fy := a.Apply(gx, gy)
-			xs, ys := corners(x, v)
-			cx, cy := (xs[0]+xs[1]+xs[2])/3, (ys[0]+ys[1]+ys[2])/3
-			var ex, ey, s, c [3]float64
-			sum := 0.0
-			for i := range 3 {
-				ex[i], ey[i] = xs[i]-cx, ys[i]-cy
-				ax, ay := ai.Apply(ex[i], ey[i])
-				sum += ex[i]*ax + ey[i]*ay
-				lo, hi := v[(i+1)%3], v[(i+2)%3]
-				s[i] = 1
-				if lo > hi {
-					s[i], lo, hi = -1, hi, lo
-				}
-				// |E| n_E = (Δy, −Δx) from the low to the high vertex.
-				c[i] = -(fx*(x[2*hi+1]-x[2*lo+1]) - fy*(x[2*hi]-x[2*lo]))
-			}
-			loc := pr.loc[12*t : 12*t+12 : 12*t+12]
-			for i := range 3 {
-				ax, ay := ai.Apply(ex[i], ey[i])
-				for j := i; j < 3; j++ {
-					aij := s[i] * s[j] / (2 * d) * (ax*ex[j] + ay*ey[j] + sum/12)
-					loc[3*i+j], loc[3*j+i] = aij, aij
-				}
-			}
-			loc[9], loc[10], loc[11] = c[0], c[1], c[2]
-			if orule == nil {
-				zero(dst.Osc2, t)
-				continue
-			}
-			var fq [quadrature.MaxTrianglePoints]float64
-			for q := range orule.Len() {
-				l0, l1, l2 := orule.Bary[3*q], orule.Bary[3*q+1], orule.Bary[3*q+2]
-				px, py := l0*xs[0]+l1*xs[1]+l2*xs[2], l0*ys[0]+l1*ys[1]+l2*ys[2]
-				fq[q] = p.Source(px, py, m.Region[t])
-				if math.IsNaN(fq[q]) || math.IsInf(fq[q], 0) {
-					return fmt.Errorf("estimate: FluxRecovery: triangle %d at (%g, %g): source f = %g: %w", t, px, py, fq[q], ErrNotFinite)
-				}
-			}
-			h := diameter(&xs, &ys)
-			dst.Osc2[t] = h * h * (oscP0(orule, fq[:orule.Len()]) * 0.5 * d)
 		}
 		return nil
 	})
@@ -624,10 +588,10 @@ func (pr *projection) energy(eta2 []float64) float64 {
 	return sum(eta2)
 }
 
-// local writes ‖a^{−½}(σ + a∇u_h)‖²_T per triangle into eta2: as
+// localGeneral writes ‖a^{−½}(σ + a∇u_h)‖²_T per triangle into eta2: as
 // −a∇u_h is the field of RT_k(T) with coefficients c_T, σ + a∇u_h has the
 // coefficients δ = x_T − c_T on T and the norm is δᵀ A_T δ.
-func (pr *projection) local(eta2 []float64) {
+func (pr *projection) localGeneral(eta2 []float64) {
 	nl := pr.nloc
 	_ = parallel.For(pr.m.NumTriangles(), 1024, func(lo, hi int) error {
 		var d [15]int32

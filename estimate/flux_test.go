@@ -280,3 +280,78 @@ func TestFluxGOMAXPROCS(t *testing.T) {
 		}
 	}
 }
+
+// The P1 path of FluxRecovery (flux_p1.go) gives the element data of the
+// general path to rounding (closed form against the exact Dunavant rule),
+// and, from the same element data, the matrix, right-hand side, local guess
+// and indicators of the general path bit for bit (same values, same
+// summation order), on every kind of mesh and problem of the P1 fast
+// paths.
+func TestFluxFastMatchesGeneral(t *testing.T) {
+	t.Parallel()
+	const tol = 1e-12 // rounding of the element data, relative to the largest entry of the triangle
+	for _, c := range fastCases(t) {
+		df, err := prepare("test", nil, c.u, c.p)
+		if err != nil {
+			t.Fatal(err)
+		}
+		dg, err := prepare("test", nil, c.u, c.p)
+		if err != nil {
+			t.Fatal(err)
+		}
+		fast, err := FluxRecovery{}.system(df, c.u, c.p)
+		if err != nil {
+			t.Fatal(err)
+		}
+		gen, err := FluxRecovery{general: true}.system(dg, c.u, c.p)
+		if err != nil {
+			t.Fatal(err)
+		}
+		for k := range c.u.Space.Mesh.NumTriangles() {
+			lf, lg := fast.loc[12*k:12*k+12], gen.loc[12*k:12*k+12]
+			ms, cs := 0.0, 0.0
+			for i := range 9 {
+				ms = max(ms, math.Abs(lg[i]))
+			}
+			for i := 9; i < 12; i++ {
+				cs = max(cs, math.Abs(lg[i]))
+			}
+			for i := range 12 {
+				s := ms
+				if i >= 9 {
+					s = cs
+				}
+				if math.Abs(lf[i]-lg[i]) > tol*s {
+					t.Fatalf("%s: triangle %d: element data %v, general path %v", c.name, k, lf, lg)
+				}
+			}
+		}
+		// The general assembly on the fast path's element data.
+		ref := *fast
+		ref.b, ref.x = make([]float64, fast.n), make([]float64, fast.n)
+		for r := range fast.n {
+			if fast.fixed[r] != 0 {
+				ref.x[r] = fast.x[r]
+			}
+		}
+		nnz := len(fast.a.Val)
+		ref.assemble(make([]int32, fast.n+1), make([]int32, 4*nnz), make([]float64, 4*nnz))
+		ref.guess()
+		if !slices.Equal(ref.a.RowPtr, fast.a.RowPtr) || !slices.Equal(ref.a.Col, fast.a.Col) || !slices.Equal(ref.a.Val, fast.a.Val) {
+			t.Errorf("%s: the matrices differ", c.name)
+		}
+		if err := fast.a.Validate(); err != nil {
+			t.Errorf("%s: %v", c.name, err)
+		}
+		if !slices.Equal(ref.b, fast.b) || !slices.Equal(ref.x, fast.x) {
+			t.Errorf("%s: the right-hand sides or the guesses differ", c.name)
+		}
+		nt := c.u.Space.Mesh.NumTriangles()
+		ef, eg := make([]float64, nt), make([]float64, nt)
+		fast.local(ef)
+		ref.localGeneral(eg)
+		if !slices.Equal(ef, eg) {
+			t.Errorf("%s: the indicators of the guess differ", c.name)
+		}
+	}
+}
