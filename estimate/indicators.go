@@ -80,13 +80,10 @@ func sum(v []float64) float64 {
 }
 
 // resize returns dst with length n, reusing its storage if it has room;
-// the values are not cleared. New storage has room for n + n/2 values, so
-// that an adaptive loop, whose meshes grow by a factor of about 1.3 per
-// step with Dörfler marking at θ = 0.5, allocates at every other step
-// rather than at every step.
+// the values are not cleared.
 func resize[T any](dst []T, n int) []T {
 	if cap(dst) < n {
-		return make([]T, n, n+n/2)
+		return make([]T, n)
 	}
 	return dst[:n]
 }

@@ -21,9 +21,10 @@ import (
 // A Workspace pays where the systems keep about the same size (repeated
 // solves on one mesh, say for a nonlinear or time-dependent problem): on
 // a P1 matrix of 1e6 rows, rebuilding the multigrid hierarchy in the old
-// one's memory took 442 ns/row against 1,077 for a fresh build, and
-// allocated 0.8 MB instead of 432 MB (medians of six runs on a loaded
-// two-core machine: go test -run XXX -bench New -count 6 ./internal/amg).
+// one's memory allocated 0.8 MB instead of 453 MB, and took 327–382 ns/row
+// against 333–388 for a fresh build on a quiet two-core machine (three
+// runs each; internal/amg's BenchmarkNew); on a loaded machine, where
+// fresh memory costs more, medians of 442 against 1,077 (six runs).
 // On meshes that grow by a good factor at each step, arrays must be
 // replaced often anyway, and the memory kept between systems adds to the
 // peak; the adaptive loop of package adapt therefore does not use one

@@ -216,14 +216,19 @@
 // the Hierarchy keeps both. Reset reuses them all: an array is replaced
 // only where the new matrix needs more room, and then by one with half as
 // much room again (spare.Headroom), so that a sequence of matrices growing
-// by about 1.3 times per step reallocates at about every other step. Fresh memory is slow
-// to fault in (about 0.35 GB/s on the two-core machine of the
-// measurements), and New allocates about 450 MB on the P1 Laplacian of
-// the unit square with 10⁶ unknowns, a Reset for the same matrix 0.8 MB.
-// Measured there with six interleaved runs on a loaded machine (medians,
-// in units of one product with the fine matrix timed in the same run;
-// spreads ±20–60%), New costs 140 products and Reset 72; on the graded
-// L-shape mesh with 840881 unknowns, New 166 and Reset 94:
+// by about 1.3 times per step reallocates at about every other step. New
+// allocates 453 MB on the P1 Laplacian of the unit square with 10⁶
+// unknowns, a Reset for the same matrix 0.8 MB; on a quiet two-core
+// machine (three runs each) New took 333–388 ns/row (median 347; 73–110
+// products with the matrix timed in the same run) and Reset 327–382
+// (median 330; 67–77 products):
+//
+//	go test -run XXX -bench 'New/square/n=1e\+06' -benchtime 3x -count 3 ./internal/amg
+//
+// On a machine loaded by other work the allocation weighs more: six
+// interleaved runs there gave medians of 140 products for New, 72 for
+// Reset (graded L-shape mesh with 840881 unknowns: 166 and 94), with
+// spreads of ±20–60%:
 //
 //	go test -run XXX -bench New -count 6 ./internal/amg
 //
