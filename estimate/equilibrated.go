@@ -154,12 +154,11 @@ import (
 // goroutines; every value is summed in a fixed order, so the result does
 // not depend on GOMAXPROCS. The cost is linear in the number of triangles
 // for bounded vertex degree. Measured with BenchmarkEquilibrated (uniform
-// meshes of the unit square, 2 cores shared with other work at a load
-// average of 2.5 to 6, so the figures are upper values: go test -run XXX
-// -bench 'Equilibrated/(P1|spmv)/n=(100000|1000000)$' -benchtime 3x, three
-// runs): P1 599–1141 ns per triangle at 1e6 triangles and 609–1135 at
-// 1e5, in the quietest runs about 300 products with the P1 stiffness
-// matrix of the same mesh (1.93–3.51 ns per triangle at 1e6); evaluating f
+// meshes of the unit square, a quiet two-core machine, three runs: go test
+// -run XXX -bench 'Equilibrated/(P1|spmv)/n=(100000|1000000)$' -benchtime
+// 3x -count 3): P1 580–651 ns per triangle at 1e6 triangles (median 608;
+// about 300 products with the P1 stiffness matrix of the same mesh, which
+// took 1.99–2.28 ns per triangle) and 788–845 at 1e5; evaluating f
 // at the 12 points of each triangle takes about a tenth of it; the general
 // path takes some 10 times as long on P1 meshes; P2 (the general path)
 // 37–38 µs per triangle at 1e4 triangles (-bench 'Equilibrated/P2/n=10000$'
@@ -169,8 +168,8 @@ import (
 // values of f at the quadrature points, 3, 7 and 5; two int32s per
 // triangle; and 2(p+1) per edge and one per vertex. One Estimate with a
 // nil dst allocates 519 bytes per triangle for P1 (100352 triangles) and
-// 748–750 for P2 (10082 triangles); a dst used again keeps these arrays as
-// scratch.
+// 748–750 for P2 (10082 triangles) (BenchmarkEquilibrated's
+// alloc-B/triangle); a dst used again keeps these arrays as scratch.
 //
 // Degree of the flux: σ_h ∈ RT_p for u_h ∈ P_p (Ern and Vohralík 2015),
 // because ψ_a a∇u_h ∈ P_p² lies in RT_p and not in RT_{p−1}: with RT_{p−1}

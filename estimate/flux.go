@@ -87,12 +87,11 @@ import (
 // for P1 and by the Dunavant rule of degree 2k + 2 (exact) for P2.
 //
 // Cost, measured (BenchmarkFluxRecovery, the sine problem, uniform meshes,
-// 2 cores shared with other work at a load average of 2.5 to 6, so the
-// figures are upper values; three runs of go test -run XXX -bench
-// 'FluxRecovery/(P1|spmv)/n=(100000|1000000)$' -benchtime 3x): P1 465–721
-// ns per triangle at 1e6 triangles (294–423 at 1e5), in the quietest runs
-// about 240 products with the P1 stiffness matrix of the same mesh
-// (1.92–3.80 ns per triangle at 1e6, 3.04–3.56 at 1e5); P2 4,200–8,500 ns
+// a quiet two-core machine, three runs of go test -run XXX -bench
+// 'FluxRecovery/(P1|spmv)/n=(100000|1000000)$' -benchtime 3x -count 3): P1
+// 279–506 ns per triangle at 1e6 triangles (median 340: about 170 products
+// with the P1 stiffness matrix of the same mesh, which took 1.96–2.01 ns
+// per triangle) and 279–313 at 1e5 (median 283); P2 4,200–8,500 ns
 // per triangle (an earlier run, on a machine shared with other work). The
 // P1 path assembles the system from the two triangles of each edge
 // (flux_p1.go). About a quarter of the P1 time is the source f at six
