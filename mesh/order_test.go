@@ -1,6 +1,7 @@
 package mesh
 
 import (
+	"cmp"
 	"errors"
 	"math/rand/v2"
 	"slices"
@@ -406,4 +407,36 @@ func BenchmarkHilbertSort(b *testing.B) {
 		}
 		b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/float64(m.NumVertices()), "ns/vertex")
 	})
+}
+
+// radixSort equals a stable sort of the (key, index) pairs (the standard
+// library's slices.SortStableFunc), by comparisons below radixMin keys and
+// by digits above, with many equal keys and keys that differ only in the
+// high digits.
+func TestRadixSort(t *testing.T) {
+	t.Parallel()
+	r := rand.New(rand.NewPCG(5, 5))
+	for _, n := range []int{0, 1, 2, 100, radixMin, radixMin + 1, 20000} {
+		keys := make([]uint64, n)
+		idx := make([]int32, n)
+		for i := range keys {
+			keys[i] = uint64(r.IntN(50)) << (16 * uint(r.IntN(4)))
+			idx[i] = int32(7 * i)
+		}
+		type pair struct {
+			k uint64
+			i int32
+		}
+		want := make([]pair, n)
+		for i := range keys {
+			want[i] = pair{keys[i], idx[i]}
+		}
+		slices.SortStableFunc(want, func(a, b pair) int { return cmp.Compare(a.k, b.k) })
+		sk, si := radixSort(slices.Clone(keys), slices.Clone(idx))
+		for i := range want {
+			if sk[i] != want[i].k || si[i] != want[i].i {
+				t.Fatalf("n = %d: position %d holds (%d, %d), want (%d, %d)", n, i, sk[i], si[i], want[i].k, want[i].i)
+			}
+		}
+	}
 }
