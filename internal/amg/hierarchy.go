@@ -15,7 +15,7 @@ import (
 const (
 	DefaultTheta      = 0.08 // strength threshold θ
 	DefaultMaxLevels  = 20   // most levels, the fine one included
-	DefaultCoarseSize = 300  // coarsening stops at or below this many unknowns
+	DefaultCoarseSize = 100  // coarsening stops at or below this many unknowns
 	DefaultSmoothing  = 1    // smoothing steps before and after the coarse correction
 )
 
@@ -67,7 +67,7 @@ type Settings struct {
 	// CoarseSize stops the coarsening at the first level with at most this
 	// many unknowns, which is solved by a dense Cholesky factorisation
 	// (when it has at most 2000 unknowns; a larger last level, left by
-	// MaxLevels, is smoothed instead). Zero means DefaultCoarseSize (300);
+	// MaxLevels, is smoothed instead). Zero means DefaultCoarseSize (100);
 	// negative values are invalid.
 	CoarseSize int
 
