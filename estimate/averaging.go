@@ -3,7 +3,6 @@ package estimate
 import (
 	"cmp"
 	"fmt"
-	"math"
 	"runtime"
 	"slices"
 
@@ -159,17 +158,11 @@ func averagingP1(dst *Indicators, u *fem.Function, p *fem.Problem) error {
 				continue
 			}
 			xs, ys := corners(x, tri[3*k:3*k+3])
-			var fq [quadrature.MaxTrianglePoints]float64
-			for q := range orule.Len() {
-				l0, l1, l2 := orule.Bary[3*q], orule.Bary[3*q+1], orule.Bary[3*q+2]
-				px, py := l0*xs[0]+l1*xs[1]+l2*xs[2], l0*ys[0]+l1*ys[1]+l2*ys[2]
-				fq[q] = p.Source(px, py, m.Region[k])
-				if math.IsNaN(fq[q]) || math.IsInf(fq[q], 0) {
-					return fmt.Errorf("estimate: triangle %d at (%g, %g): source f = %g: %w", k, px, py, fq[q], ErrNotFinite)
-				}
+			o, err := osc2P0(p, orule, &xs, &ys, m.Region[k], k, area)
+			if err != nil {
+				return fmt.Errorf("estimate: %w", err)
 			}
-			h := diameter(&xs, &ys)
-			dst.Osc2[k] = h * h * (oscP0(orule, fq[:orule.Len()]) * area)
+			dst.Osc2[k] = o
 		}
 		return nil
 	})

@@ -3,7 +3,6 @@ package estimate
 import (
 	"cmp"
 	"fmt"
-	"math"
 	"slices"
 
 	"github.com/posteriori-fem/posteriori/internal/parallel"
@@ -72,17 +71,11 @@ func (pr *projection) elementsP1(dst *Indicators) error {
 				zero(dst.Osc2, t)
 				continue
 			}
-			var fq [quadrature.MaxTrianglePoints]float64
-			for q := range orule.Len() {
-				l0, l1, l2 := orule.Bary[3*q], orule.Bary[3*q+1], orule.Bary[3*q+2]
-				px, py := l0*xs[0]+l1*xs[1]+l2*xs[2], l0*ys[0]+l1*ys[1]+l2*ys[2]
-				fq[q] = p.Source(px, py, m.Region[t])
-				if math.IsNaN(fq[q]) || math.IsInf(fq[q], 0) {
-					return fmt.Errorf("estimate: FluxRecovery: triangle %d at (%g, %g): source f = %g: %w", t, px, py, fq[q], ErrNotFinite)
-				}
+			o, err := osc2P0(p, orule, &xs, &ys, m.Region[t], t, 0.5*d)
+			if err != nil {
+				return fmt.Errorf("estimate: FluxRecovery: %w", err)
 			}
-			h := diameter(&xs, &ys)
-			dst.Osc2[t] = h * h * (oscP0(orule, fq[:orule.Len()]) * 0.5 * d)
+			dst.Osc2[t] = o
 		}
 		return nil
 	})

@@ -1,6 +1,7 @@
 package estimate
 
 import (
+	"fmt"
 	"math"
 
 	"github.com/posteriori-fem/posteriori/fem"
@@ -114,6 +115,24 @@ func oscP0(rule *quadrature.Triangle, f []float64) float64 {
 		o += rule.W[q] * (v - mean) * (v - mean)
 	}
 	return o
+}
+
+// osc2P0 returns the oscillation h_T² ‖f − Π_0 f‖²_T of triangle k with
+// corners xs, ys, region and area, f taken at the points of rule; for an f
+// that is NaN or infinite there it returns an error wrapping ErrNotFinite
+// that names the triangle and the point (the caller adds its context).
+func osc2P0(p *fem.Problem, rule *quadrature.Triangle, xs, ys *[3]float64, region int32, k int, area float64) (float64, error) {
+	var fq [quadrature.MaxTrianglePoints]float64
+	for q := range rule.Len() {
+		l0, l1, l2 := rule.Bary[3*q], rule.Bary[3*q+1], rule.Bary[3*q+2]
+		px, py := l0*xs[0]+l1*xs[1]+l2*xs[2], l0*ys[0]+l1*ys[1]+l2*ys[2]
+		fq[q] = p.Source(px, py, region)
+		if math.IsNaN(fq[q]) || math.IsInf(fq[q], 0) {
+			return 0, fmt.Errorf("triangle %d at (%g, %g): source f = %g: %w", k, px, py, fq[q], ErrNotFinite)
+		}
+	}
+	h := diameter(xs, ys)
+	return h * h * (oscP0(rule, fq[:rule.Len()]) * area), nil
 }
 
 // localEdge returns i such that edge e is edge i (opposite vertex i) of
