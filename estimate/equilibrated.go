@@ -374,7 +374,7 @@ func (q Equilibrated) equilibrate(u *fem.Function, p *fem.Problem, dst *Indicato
 		// terms, f at the rule's points or the data of solveP1, the five of
 		// treeBound (sub, flux, share), r̃ and the Neumann moments;
 		// and the two integer arrays of treeBound.
-		eq.arena = dst.scratch(nt*(3*eq.nloc+3+termCount+max(p1Stride, eq.rule.Len())+5) + nv + 2*(k+1)*ne)
+		eq.arena = dst.scratch(nt*(3*eq.nloc+3+termCount+max(p1Stride, eq.rule.Len()+p2Stride)+5) + nv + 2*(k+1)*ne)
 		eq.iarena = dst.scratchInt(2 * nt)
 	}
 	if err := eq.dispatch(); err != nil {
@@ -402,6 +402,9 @@ func (eq *equilibration) dispatch() error {
 		if err := eq.solveP1(); err != errNotFan {
 			return err
 		}
+	}
+	if eq.k == 2 && !eq.q.generalOnly {
+		return eq.solveP2()
 	}
 	return eq.solveGeneral()
 }
@@ -431,7 +434,8 @@ func (eq *equilibration) solveGeneral() error {
 }
 
 // triangleData evaluates f at the rule's points, the diffusion, and the
-// residual contributions (g_a, 1)_T of the three vertices of each triangle.
+// residual contributions (g_a, 1)_T of the three vertices of each triangle;
+// if eq.tdat is set (the P2 path), also the data of solveP2 there.
 func (eq *equilibration) triangleData() error {
 	m, p, rule := eq.m, eq.p, eq.rule
 	nt, nq := m.NumTriangles(), rule.Len()
@@ -439,8 +443,14 @@ func (eq *equilibration) triangleData() error {
 	eq.rt3 = eq.take(3 * nt)
 	return parallel.For(nt, 256, func(lo, hi int) error {
 		ev := fem.NewEvaluator(eq.u)
+		var mono [6]float64
 		for t := lo; t < hi; t++ {
 			ev.Load(t)
+			var d []float64
+			if eq.tdat != nil {
+				d = eq.tdat[p2Stride*t : p2Stride*(t+1) : p2Stride*(t+1)]
+				eq.p2Geometry(ev, t, d)
+			}
 			cx, cy := ev.Point([3]float64{1. / 3, 1. / 3, 1. / 3})
 			a := p.Diffusion(cx, cy, ev.Region())
 			area := ev.Area()
@@ -456,9 +466,19 @@ func (eq *equilibration) triangleData() error {
 				v, gx, gy := ev.Eval(l)
 				fx, fy := a.Apply(gx, gy)
 				w := rule.W[q] * area
+				var g [3]float64
 				for i := range 3 {
 					bx, by := ev.BaryGrad(i)
-					r[i] += w * (l[i]*(f-p.C*v) - (fx*bx + fy*by))
+					g[i] = w * (l[i]*(f-p.C*v) - (fx*bx + fy*by))
+					r[i] += g[i]
+				}
+				if d != nil {
+					monomials(l[1], l[2], 2, mono[:])
+					for i := range 3 {
+						for mm := range 6 {
+							d[tdP2Gm+6*i+mm] += g[i] * mono[mm]
+						}
+					}
 				}
 			}
 			eq.rt3[3*t], eq.rt3[3*t+1], eq.rt3[3*t+2] = r[0], r[1], r[2]

@@ -3,6 +3,7 @@ package estimate
 import (
 	"math"
 	"math/rand/v2"
+	"strconv"
 	"testing"
 
 	"github.com/posteriori-fem/posteriori/fem"
@@ -49,25 +50,35 @@ func equilibratedCases(t *testing.T, deg int) []fastCase {
 	return cases
 }
 
-// The P1 path (solveP1) gives the flux σ_h and the indicators of the
-// general path (solveGeneral) to rounding: each patch problem has one
-// minimiser, which both compute. The Friedrichs constant 1 only serves the
-// problems with ρ ≠ 0 and Neumann edges, and is the same on both paths.
+// The P1 path (solveP1) and the P2 path (solveP2) give the flux σ_h and
+// the indicators of the general path (solveGeneral) to rounding: each patch
+// problem has one minimiser, which both compute. The Friedrichs constant 1
+// only serves the problems with ρ ≠ 0 and Neumann edges, and is the same on
+// both paths.
 func TestEquilibratedFastMatchesGeneral(t *testing.T) {
 	t.Parallel()
+	for _, deg := range []int{1, 2} {
+		t.Run("P"+strconv.Itoa(deg), func(t *testing.T) {
+			t.Parallel()
+			fastMatchesGeneral(t, deg)
+		})
+	}
+}
+
+func fastMatchesGeneral(t *testing.T, deg int) {
 	const (
 		tol   = 1e-10 // rounding of the patch solves, relative
 		floor = 1e-14 // rounding, relative to the largest η_T²
 	)
 	reused := &Indicators{}
-	for _, c := range equilibratedCases(t, 1) {
+	for _, c := range equilibratedCases(t, deg) {
 		fast, general := Equilibrated{Friedrichs: 1}, Equilibrated{Friedrichs: 1, generalOnly: true}
 		eq, err := fast.equilibrate(c.u, c.p, nil)
 		if err != nil {
 			t.Fatalf("%s: %v", c.name, err)
 		}
 		if eq.tdat == nil {
-			t.Fatalf("%s: the P1 path was not taken", c.name)
+			t.Fatalf("%s: the P%d path was not taken", c.name, deg)
 		}
 		sf, err := fast.Flux(c.u, c.p)
 		if err != nil {

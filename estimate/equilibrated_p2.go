@@ -1,0 +1,166 @@
+package estimate
+
+import (
+	"sync"
+
+	"github.com/posteriori-fem/posteriori/fem"
+	"github.com/posteriori-fem/posteriori/internal/parallel"
+	"github.com/posteriori-fem/posteriori/internal/quadrature"
+	"github.com/posteriori-fem/posteriori/mesh"
+)
+
+// The data solveP2 keeps per triangle in equilibration.tdat, at these
+// offsets: G₀₀, G₁₁, G₀₁ of G = Jᵀ a⁻¹ J divided by det J; the reference
+// gradients ĝ_m = Jᵀ ∇u_h at the vertices m = 0, 1, 2; the moments
+// (g_i, q̂_m)_T of g_i = ψ_i (f − c u_h) − a∇u_h·∇ψ_i for the vertices
+// i = 0, 1, 2 and the monomials q̂_m = 1, x̂, ŷ, x̂², x̂ŷ, ŷ² of the
+// reference coordinates; the area.
+const (
+	tdP2Gs   = 0
+	tdP2Grad = 3
+	tdP2Gm   = 9
+	tdP2Area = 27
+	p2Stride = 28
+)
+
+// rt2Reference holds the reference-element tables of RT_2 that the P2 path
+// of Equilibrated uses, in the local DOF order of fem.RTSpace and without
+// the global signs (the global basis function of local DOF i is s_i times
+// the Piola image of the reference function φ̂_i). With the contravariant
+// Piola map of a triangle with Jacobian J (det J > 0) and constant
+// diffusion a, and ψ the hat function of local vertex i,
+//
+//	(a⁻¹ φ_i, φ_j)_T  = s_i s_j (G₀₀ M̂₀₀ + G₁₁ M̂₁₁ + G₀₁ M̂₀₁)_{ij} / det J,   G = Jᵀ a⁻¹ J,
+//	(div φ_i, q_m)_T  = s_i ∫_T̂ div̂ φ̂_i q̂_m dx̂,
+//	(ψ ∇u_h, φ_j)_T   = s_j Σ_{m,c} ĝ_{m,c} ∫_T̂ λ_i λ_m φ̂_{j,c} dx̂,   ĝ_m = Jᵀ ∇u_h(x_m),
+//
+// the last because ∇u_h is linear for u_h ∈ P_2, so Jᵀ∇u_h = Σ_m λ_m ĝ_m.
+// The tables are computed once, on the one-triangle mesh (0,0), (1,0),
+// (0,1), with fem's RT_2 basis and a rule exact for these polynomials.
+type rt2Reference struct {
+	mass [3][15][15]float64   // M̂₀₀, M̂₁₁, M̂₀₁ + M̂₁₀
+	div  [6][15]float64       // ∫_T̂ div̂ φ̂_i q̂_m
+	lam  [3][3][2][15]float64 // ∫_T̂ λ_i λ_m φ̂_{j,c}
+	lamq [3][6]float64        // ∫_T λ_i q̂_m / |T|
+}
+
+var rt2Ref = sync.OnceValue(buildRT2Reference)
+
+func buildRT2Reference() *rt2Reference {
+	r := &rt2Reference{}
+	m, _, err := mesh.New(mesh.Arrays{X: []float64{0, 0, 1, 0, 0, 1}, Tri: []int32{0, 1, 2}})
+	if err != nil {
+		panic(err) // a fixed, valid mesh
+	}
+	s, err := fem.NewRTSpace(m, 2)
+	if err != nil {
+		panic(err)
+	}
+	el := s.NewElement()
+	sign := el.Signs()
+	rule, err := quadrature.ForTriangle(8)
+	if err != nil {
+		panic(err)
+	}
+	var val [15][2]float64
+	var dv [15]float64
+	var mono [6]float64
+	for q := range rule.Len() {
+		l := [3]float64{rule.Bary[3*q], rule.Bary[3*q+1], rule.Bary[3*q+2]}
+		el.Basis(l, val[:])
+		el.Div(l, dv[:])
+		w := 0.5 * rule.W[q]
+		monomials(l[1], l[2], 2, mono[:])
+		for i := range 15 {
+			vi := [2]float64{sign[i] * val[i][0], sign[i] * val[i][1]}
+			for j := range 15 {
+				vj := [2]float64{sign[j] * val[j][0], sign[j] * val[j][1]}
+				r.mass[0][i][j] += w * vi[0] * vj[0]
+				r.mass[1][i][j] += w * vi[1] * vj[1]
+				r.mass[2][i][j] += w * (vi[0]*vj[1] + vi[1]*vj[0])
+			}
+			for mm := range 6 {
+				r.div[mm][i] += w * sign[i] * dv[i] * mono[mm]
+			}
+			for a := range 3 {
+				for b := range 3 {
+					for c := range 2 {
+						r.lam[a][b][c][i] += w * l[a] * l[b] * vi[c]
+					}
+				}
+			}
+		}
+		for a := range 3 {
+			for mm := range 6 {
+				r.lamq[a][mm] += rule.W[q] * l[a] * mono[mm]
+			}
+		}
+	}
+	return r
+}
+
+// solveP2 is the P2 path of dispatch. It computes the same σ_h as
+// solveGeneral, up to rounding: the data are the same (f at the points of
+// the same rule), and each patch problem is the same saddle-point system,
+// with a unique flux, solved in another way. The element matrices come
+// from the reference tables of rt2Reference through the Piola map, and on
+// each triangle of a patch the unknowns that only it sees (the six
+// interior DOFs of σ and the five multipliers of the non-constant
+// monomials, whose 11×11 block is regular: the divergence maps the
+// interior fields of RT_2 onto the polynomials of P_2 with mean zero) are
+// eliminated by their Schur complement. What remains per patch is a
+// system in the free edge moments and one constant multiplier per
+// triangle, about 4n unknowns for n triangles instead of 15n, solved by LU
+// factorisation; the interior DOFs follow triangle by triangle.
+func (eq *equilibration) solveP2() error {
+	m := eq.m
+	nt := m.NumTriangles()
+	eq.tdat = eq.take(p2Stride * nt)
+	if err := eq.triangleData(); err != nil {
+		return err
+	}
+	if err := eq.neumannData(); err != nil {
+		return err
+	}
+	eq.vertexResiduals()
+	eq.sig = eq.take(3 * nt * eq.nloc)
+	eq.terms = (*termWork).triangle
+	ref := rt2Ref()
+	return parallel.For(m.NumVertices(), 64, func(lo, hi int) error {
+		w := &p2Patch{pw: newPatchWork(eq), ref: ref}
+		for a := lo; a < hi; a++ {
+			if err := w.solve(a); err != nil {
+				return err
+			}
+		}
+		return nil
+	})
+}
+
+// p2Geometry clears the solveP2 data d of triangle t and writes its
+// geometry, diffusion and the reference gradients of u_h at its vertices;
+// ev holds triangle t.
+func (eq *equilibration) p2Geometry(ev *fem.Evaluator, t int, d []float64) {
+	m := eq.m
+	clear(d)
+	x, tri := m.X, m.Tri[3*t:3*t+3:3*t+3]
+	x0, y0 := x[2*tri[0]], x[2*tri[0]+1]
+	j00, j10 := x[2*tri[1]]-x0, x[2*tri[1]+1]-y0
+	j01, j11 := x[2*tri[2]]-x0, x[2*tri[2]+1]-y0
+	det := j00*j11 - j10*j01
+	a := eq.co.At(m.Region[t])
+	da := a.XX*a.YY - a.XY*a.XY
+	ixx, ixy, iyy := a.YY/da, -a.XY/da, a.XX/da
+	q := func(ux, uy, vx, vy float64) float64 { return ux*(ixx*vx+ixy*vy) + uy*(ixy*vx+iyy*vy) }
+	d[tdP2Gs] = q(j00, j10, j00, j10) / det
+	d[tdP2Gs+1] = q(j01, j11, j01, j11) / det
+	d[tdP2Gs+2] = q(j00, j10, j01, j11) / det
+	for v := range 3 {
+		var l [3]float64
+		l[v] = 1
+		_, gx, gy := ev.Eval(l)
+		d[tdP2Grad+2*v] = j00*gx + j10*gy
+		d[tdP2Grad+2*v+1] = j01*gx + j11*gy
+	}
+	d[tdP2Area] = 0.5 * det
+}
