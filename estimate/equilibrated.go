@@ -413,7 +413,7 @@ func (eq *equilibration) dispatch() error {
 // which the fast path is tested: the data by quadrature, and each patch
 // problem as a dense saddle-point system solved by LU factorisation.
 func (eq *equilibration) solveGeneral() error {
-	if err := eq.triangleData(); err != nil {
+	if err := eq.triangleData(false); err != nil {
 		return err
 	}
 	if err := eq.neumannData(); err != nil {
@@ -435,8 +435,8 @@ func (eq *equilibration) solveGeneral() error {
 
 // triangleData evaluates f at the rule's points, the diffusion, and the
 // residual contributions (g_a, 1)_T of the three vertices of each triangle;
-// if eq.tdat is set (the P2 path), also the data of solveP2 there.
-func (eq *equilibration) triangleData() error {
+// with p2 (the P2 path), also the data of solveP2 in eq.tdat.
+func (eq *equilibration) triangleData(p2 bool) error {
 	m, p, rule := eq.m, eq.p, eq.rule
 	nt, nq := m.NumTriangles(), rule.Len()
 	eq.fq = eq.take(nt * nq)
@@ -447,7 +447,7 @@ func (eq *equilibration) triangleData() error {
 		for t := lo; t < hi; t++ {
 			ev.Load(t)
 			var d []float64
-			if eq.tdat != nil {
+			if p2 {
 				d = eq.tdat[p2Stride*t : p2Stride*(t+1) : p2Stride*(t+1)]
 				eq.p2Geometry(ev, t, d)
 			}

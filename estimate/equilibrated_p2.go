@@ -116,7 +116,7 @@ func (eq *equilibration) solveP2() error {
 	m := eq.m
 	nt := m.NumTriangles()
 	eq.tdat = eq.take(p2Stride * nt)
-	if err := eq.triangleData(); err != nil {
+	if err := eq.triangleData(true); err != nil {
 		return err
 	}
 	if err := eq.neumannData(); err != nil {
