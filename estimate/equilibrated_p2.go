@@ -11,16 +11,19 @@ import (
 
 // The data solveP2 keeps per triangle in equilibration.tdat, at these
 // offsets: G₀₀, G₁₁, G₀₁ of G = Jᵀ a⁻¹ J divided by det J; the reference
-// gradients ĝ_m = Jᵀ ∇u_h at the vertices m = 0, 1, 2; the moments
+// gradients ĝ_m = Jᵀ ∇u_h at the vertices m = 0, 1, 2; the reference
+// fluxes ŵ_m = adj(J) a∇u_h there (the Piola pull-back of a∇u_h, which is
+// linear, is Σ_m λ_m ŵ_m); the moments
 // (g_i, q̂_m)_T of g_i = ψ_i (f − c u_h) − a∇u_h·∇ψ_i for the vertices
 // i = 0, 1, 2 and the monomials q̂_m = 1, x̂, ŷ, x̂², x̂ŷ, ŷ² of the
 // reference coordinates; the area.
 const (
 	tdP2Gs   = 0
 	tdP2Grad = 3
-	tdP2Gm   = 9
-	tdP2Area = 27
-	p2Stride = 28
+	tdP2W    = 9
+	tdP2Gm   = 15
+	tdP2Area = 33
+	p2Stride = 34
 )
 
 // rt2Reference holds the reference-element tables of RT_2 that the P2 path
@@ -39,6 +42,8 @@ const (
 // (0,1), with fem's RT_2 basis and a rule exact for these polynomials.
 type rt2Reference struct {
 	mass [3][15][15]float64   // M̂₀₀, M̂₁₁, M̂₀₁ + M̂₁₀
+	pack [3][120]float64      // mass[kl][i][j] for i ≤ j, row by row, off-diagonal entries doubled
+	ldof [3][2][15]float64    // DOFs of λ_m e_c
 	div  [6][15]float64       // ∫_T̂ div̂ φ̂_i q̂_m
 	lam  [3][3][2][15]float64 // ∫_T̂ λ_i λ_m φ̂_{j,c}
 	lamq [3][6]float64        // ∫_T λ_i q̂_m / |T|
@@ -96,7 +101,85 @@ func buildRT2Reference() *rt2Reference {
 			}
 		}
 	}
+	for kl := range 3 {
+		p := 0
+		for i := range 15 {
+			for j := i; j < 15; j++ {
+				r.pack[kl][p] = r.mass[kl][i][j]
+				if j > i {
+					r.pack[kl][p] *= 2
+				}
+				p++
+			}
+		}
+	}
+	dofs := el.DOFs()
+	for mv := range 3 {
+		for c := range 2 {
+			v, err := fem.InterpolateRT(s, func(x, y float64) (float64, float64) {
+				l := [3]float64{1 - x - y, x, y}[mv]
+				if c == 0 {
+					return l, 0
+				}
+				return 0, l
+			})
+			if err != nil {
+				panic(err)
+			}
+			for i, d := range dofs {
+				r.ldof[mv][c][i] = sign[i] * v.U[d]
+			}
+		}
+	}
 	return r
+}
+
+// rt2Signs returns the sign of each local RT_2 DOF of triangle t (see
+// fem.RTElement.Signs): s_E^{j+1} for moment j of edge E, 1 inside.
+func rt2Signs(tri []int32, t int) [15]float64 {
+	es := edgeSigns(tri, t)
+	var sign [15]float64
+	for e, s := range es {
+		sign[3*e], sign[3*e+1], sign[3*e+2] = s, 1, s
+	}
+	for i := 9; i < 15; i++ {
+		sign[i] = 1
+	}
+	return sign
+}
+
+// triangleP2 writes the terms of triangle t into v (see termCount) for the
+// P2 path: the flux term as the quadratic form of the weighted RT_2 mass
+// matrix (the rule of triangle is exact for it), the oscillations as
+// triangle does.
+func (tw *termWork) triangleP2(t int, v []float64) error {
+	eq := tw.eq
+	ref := rt2Ref()
+	d := eq.tdat[p2Stride*t : p2Stride*(t+1) : p2Stride*(t+1)]
+	sign := rt2Signs(eq.m.Tri, t)
+	var c [15]float64
+	eq.local(t, c[:])
+	// Local DOFs of σ_h + a∇u_h, without the signs.
+	wh := d[tdP2W : tdP2W+6]
+	for j := range 15 {
+		c[j] = sign[j]*c[j] + wh[0]*ref.ldof[0][0][j] + wh[1]*ref.ldof[0][1][j] +
+			wh[2]*ref.ldof[1][0][j] + wh[3]*ref.ldof[1][1][j] + wh[4]*ref.ldof[2][0][j] + wh[5]*ref.ldof[2][1][j]
+	}
+	g0, g1, g2 := d[tdP2Gs], d[tdP2Gs+1], d[tdP2Gs+2]
+	p0, p1, p2 := &ref.pack[0], &ref.pack[1], &ref.pack[2]
+	var acc [4]float64
+	q := 0
+	for i := range 15 {
+		for j := i; j < 15; j++ {
+			acc[q%4] += (g0*p0[q] + g1*p1[q] + g2*p2[q]) * (c[i] * c[j])
+			q++
+		}
+	}
+	flux2 := (acc[0] + acc[1]) + (acc[2] + acc[3])
+	nq := eq.rule.Len()
+	area := d[tdP2Area]
+	f := eq.fq[t*nq : (t+1)*nq]
+	return tw.finish(t, flux2, tw.projectionError(f, 2, area), tw.projectionError(f, 1, area), area, v)
 }
 
 // solveP2 is the P2 path of dispatch. It computes the same σ_h as
@@ -124,7 +207,7 @@ func (eq *equilibration) solveP2() error {
 	}
 	eq.vertexResiduals()
 	eq.sig = eq.take(3 * nt * eq.nloc)
-	eq.terms = (*termWork).triangle
+	eq.terms = (*termWork).triangleP2
 	ref := rt2Ref()
 	return parallel.For(m.NumVertices(), 64, func(lo, hi int) error {
 		w := &p2Patch{pw: newPatchWork(eq), ref: ref}
@@ -161,6 +244,9 @@ func (eq *equilibration) p2Geometry(ev *fem.Evaluator, t int, d []float64) {
 		_, gx, gy := ev.Eval(l)
 		d[tdP2Grad+2*v] = j00*gx + j10*gy
 		d[tdP2Grad+2*v+1] = j01*gx + j11*gy
+		wx, wy := a.Apply(gx, gy)
+		d[tdP2W+2*v] = j11*wx - j01*wy
+		d[tdP2W+2*v+1] = -j10*wx + j00*wy
 	}
 	d[tdP2Area] = 0.5 * det
 }

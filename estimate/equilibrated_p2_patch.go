@@ -3,10 +3,6 @@ package estimate
 import (
 	"fmt"
 	"math"
-
-	"gonum.org/v1/gonum/blas"
-	"gonum.org/v1/gonum/blas/blas64"
-	"gonum.org/v1/gonum/lapack/lapack64"
 )
 
 // The sizes of the condensed element system of solveP2: the unknowns that
@@ -75,11 +71,10 @@ func (w *p2Patch) solve(a int) error {
 		w.element(int(t), ia, rt, z)
 		w.keep(pt, ia, nflux, drop, sys, fix, &idx, &val)
 		// Eliminate: K_LL Z = [K_LG | r_L].
-		g := blas64.General{Rows: p2Local, Cols: p2Local, Stride: p2Local, Data: w.kll[:]}
-		if !lapack64.Getrf(g, w.lpiv[:]) {
+		if !luFactor(w.kll[:], p2Local, w.lpiv[:]) {
 			return fmt.Errorf("estimate: Equilibrated: the patch problem of vertex %d is singular: %w", a, ErrNotFinite)
 		}
-		lapack64.Getrs(blas.NoTrans, g, blas64.General{Rows: p2Local, Cols: p2Cols, Stride: p2Cols, Data: z}, w.lpiv[:])
+		luSolve(w.kll[:], p2Local, w.lpiv[:], z, p2Cols)
 		// The Schur complement K_GG − K_LGᵀ K_LL⁻¹ K_LG and its load
 		// r_G − K_LGᵀ K_LL⁻¹ r_L, into the patch system. K_LG is kept in
 		// w.klg by element.
@@ -107,11 +102,10 @@ func (w *p2Patch) solve(a int) error {
 			w.rhs[I] += r
 		}
 	}
-	g := blas64.General{Rows: n, Cols: n, Stride: n, Data: w.kkt}
-	if !lapack64.Getrf(g, w.ipiv[:n]) {
+	if !luFactor(w.kkt, n, w.ipiv[:n]) {
 		return fmt.Errorf("estimate: Equilibrated: the patch problem of vertex %d is singular: %w", a, ErrNotFinite)
 	}
-	lapack64.Getrs(blas.NoTrans, g, blas64.General{Rows: n, Cols: 1, Stride: 1, Data: w.rhs}, w.ipiv[:n])
+	luSolve(w.kkt, n, w.ipiv[:n], w.rhs, 1)
 	for _, v := range w.rhs {
 		if math.IsNaN(v) || math.IsInf(v, 0) {
 			return fmt.Errorf("estimate: Equilibrated: the patch problem of vertex %d: %w", a, ErrNotFinite)
@@ -178,15 +172,7 @@ func (w *p2Patch) keep(pt, ia, nflux, drop int, sys []int, fix []float64, idx *[
 func (w *p2Patch) element(t, ia int, rt float64, z []float64) {
 	eq, ref := w.pw.eq, w.ref
 	d := eq.tdat[p2Stride*t : p2Stride*(t+1) : p2Stride*(t+1)]
-	es := edgeSigns(eq.m.Tri, t)
-	var sign [15]float64
-	for e := range 3 {
-		s := es[e]
-		sign[3*e], sign[3*e+1], sign[3*e+2] = s, 1, s // s^(j+1)
-	}
-	for i := 9; i < 15; i++ {
-		sign[i] = 1
-	}
+	sign := rt2Signs(eq.m.Tri, t)
 	// The local DOFs of the kept edge moments and of the interior.
 	var dof [p2Kept - 1 + 6]int
 	for s := range 2 {
@@ -265,4 +251,87 @@ func (w *p2Patch) element(t, ia int, rt float64, z []float64) {
 		w.rg[k] = load(dof[k])
 	}
 	w.rg[6] = cons(0)
+}
+
+// luFactor overwrites the n×n matrix a (row major, stride n) with its LU
+// factorisation with partial pivoting, P a = L U (L unit lower triangular,
+// below the diagonal; the row exchanges in piv, as LAPACK's getrf), and
+// reports whether every pivot is nonzero. For the small dense systems of
+// solveP2, where the call overhead of the general routines dominates.
+func luFactor(a []float64, n int, piv []int) bool {
+	for k := range n {
+		p, pmax := k, math.Abs(a[k*n+k])
+		for i := k + 1; i < n; i++ {
+			if v := math.Abs(a[i*n+k]); v > pmax {
+				p, pmax = i, v
+			}
+		}
+		if !(pmax > 0) {
+			return false
+		}
+		piv[k] = p
+		rk := a[k*n : (k+1)*n : (k+1)*n]
+		if p != k {
+			rp := a[p*n : (p+1)*n : (p+1)*n]
+			for j := range rk {
+				rk[j], rp[j] = rp[j], rk[j]
+			}
+		}
+		inv := 1 / rk[k]
+		uk := rk[k+1:]
+		for i := k + 1; i < n; i++ {
+			ri := a[i*n : (i+1)*n : (i+1)*n]
+			l := ri[k] * inv
+			ri[k] = l
+			if l == 0 {
+				continue
+			}
+			ui := ri[k+1:]
+			for j, v := range uk {
+				ui[j] -= l * v
+			}
+		}
+	}
+	return true
+}
+
+// luSolve solves a x = b with the factorisation of luFactor for the nrhs
+// columns of b (row major, n × nrhs), overwriting b with x.
+func luSolve(a []float64, n int, piv []int, b []float64, nrhs int) {
+	row := func(i int) []float64 { return b[i*nrhs : (i+1)*nrhs : (i+1)*nrhs] }
+	for k := range n {
+		if p := piv[k]; p != k {
+			bk, bp := row(k), row(p)
+			for c := range bk {
+				bk[c], bp[c] = bp[c], bk[c]
+			}
+		}
+	}
+	for i := 1; i < n; i++ {
+		bi := row(i)
+		for k, l := range a[i*n : i*n+i] {
+			if l == 0 {
+				continue
+			}
+			for c, v := range row(k) {
+				bi[c] -= l * v
+			}
+		}
+	}
+	for i := n - 1; i >= 0; i-- {
+		bi := row(i)
+		for k := i + 1; k < n; k++ {
+			u := a[i*n+k]
+			if u == 0 {
+				continue
+			}
+			for c, v := range row(k) {
+				bi[c] -= u * v
+			}
+		}
+		inv := 1 / a[i*n+i]
+		for c := range bi {
+			bi[c] *= inv
+		}
+	}
 }
