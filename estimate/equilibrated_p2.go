@@ -1,6 +1,7 @@
 package estimate
 
 import (
+	"math"
 	"sync"
 
 	"github.com/posteriori-fem/posteriori/fem"
@@ -47,6 +48,14 @@ type rt2Reference struct {
 	div  [6][15]float64       // ∫_T̂ div̂ φ̂_i q̂_m
 	lam  [3][3][2][15]float64 // ∫_T̂ λ_i λ_m φ̂_{j,c}
 	lamq [3][6]float64        // ∫_T λ_i q̂_m / |T|
+	// The interior block B of div (rows q̂_1..q̂_5, the interior DOFs; the
+	// row of q̂_0 is zero there): its right inverse P = Bᵀ(BBᵀ)⁻¹, a unit
+	// vector n₀ spanning its null space, and for each local vertex ia the
+	// products P B_E with the columns of the moments of the edges ia+1 and
+	// ia+2 (see p2Patch.element).
+	pinv [6][5]float64
+	n0   [6]float64
+	q    [3][6][6]float64
 }
 
 var rt2Ref = sync.OnceValue(buildRT2Reference)
@@ -113,6 +122,7 @@ func buildRT2Reference() *rt2Reference {
 			}
 		}
 	}
+	r.nullSpace()
 	dofs := el.DOFs()
 	for mv := range 3 {
 		for c := range 2 {
@@ -249,4 +259,70 @@ func (eq *equilibration) p2Geometry(ev *fem.Evaluator, t int, d []float64) {
 		d[tdP2W+2*v+1] = -j10*wx + j00*wy
 	}
 	d[tdP2Area] = 0.5 * det
+}
+
+// nullSpace sets pinv, n0 and q from div.
+func (r *rt2Reference) nullSpace() {
+	var bbt [25]float64
+	for i := range 5 {
+		for j := range 5 {
+			for k := 9; k < 15; k++ {
+				bbt[5*i+j] += r.div[1+i][k] * r.div[1+j][k]
+			}
+		}
+	}
+	var piv [5]int
+	if !luFactor(bbt[:], 5, piv[:]) {
+		panic("estimate: singular interior divergence block of RT_2") // broken internal invariant
+	}
+	// (BBᵀ)⁻¹ B, then its transpose P.
+	var x [5 * 6]float64
+	for i := range 5 {
+		for k := range 6 {
+			x[6*i+k] = r.div[1+i][9+k]
+		}
+	}
+	luSolve(bbt[:], 5, piv[:], x[:], 6)
+	for k := range 6 {
+		for i := range 5 {
+			r.pinv[k][i] = x[6*i+k]
+		}
+	}
+	// n₀: the largest column of I − P B, normalised.
+	best := -1.0
+	for c := range 6 {
+		var v [6]float64
+		s := 0.0
+		for k := range 6 {
+			v[k] = 0
+			if k == c {
+				v[k] = 1
+			}
+			for i := range 5 {
+				v[k] -= r.pinv[k][i] * r.div[1+i][9+c]
+			}
+			s += v[k] * v[k]
+		}
+		if s > best {
+			best = s
+			for k := range 6 {
+				r.n0[k] = v[k] / math.Sqrt(s)
+			}
+		}
+	}
+	for ia := range 3 {
+		for s := range 2 {
+			e := (ia + 1 + s) % 3
+			for j := range 3 {
+				col := 3*e + j
+				for k := range 6 {
+					v := 0.0
+					for i := range 5 {
+						v += r.pinv[k][i] * r.div[1+i][col]
+					}
+					r.q[ia][k][3*s+j] = v
+				}
+			}
+		}
+	}
 }

@@ -5,35 +5,23 @@ import (
 	"math"
 )
 
-// The sizes of the condensed element system of solveP2: the unknowns that
-// stay in the patch system (the six moments of the two edges at the vertex
-// and the constant multiplier), the eliminated ones (six interior DOFs and
-// five multipliers), and the columns of the eliminated block's right-hand
-// sides (one per kept unknown, then the load).
-const (
-	p2Kept  = 7
-	p2Local = 11
-	p2Cols  = p2Kept + 1
-)
-
 // p2Patch is the scratch of one goroutine solving P2 patch problems (see
 // solveP2).
 type p2Patch struct {
 	pw  *patchWork // the edges of the patch and the DOF map of its triangles
 	ref *rt2Reference
-	// Per patch triangle: Z = K_LL⁻¹ [K_LG | r_L], p2Local × p2Cols.
+	// Per patch triangle: c₀ and C of x_I = c₀ + C x_E (6 + 6×6).
 	z    []float64
-	ia   []int8
 	kkt  []float64
 	rhs  []float64
 	ipiv []int
-	// One triangle.
-	kll  [p2Local * p2Local]float64
-	kgg  [p2Kept * p2Kept]float64
-	klg  [p2Local * p2Kept]float64
-	rg   [p2Kept]float64
-	lpiv [p2Local]int
+	// One triangle: the condensed element system (see element).
+	kgg [7 * 7]float64
+	rg  [7]float64
 }
+
+// p2Z is the length of the data of one patch triangle in p2Patch.z.
+const p2Z = 6 + 6*6
 
 // solve solves the patch problem of vertex a and writes σ_a into the
 // vertex slots of its triangles.
@@ -54,7 +42,7 @@ func (w *p2Patch) solve(a int) error {
 	if cap(w.ipiv) < n {
 		w.ipiv = make([]int, n)
 	}
-	w.z, w.ia = resize(w.z, nt*p2Local*p2Cols), resize(w.ia, nt)
+	w.z = resize(w.z, nt*p2Z)
 	nloc := eq.nloc
 	if cap(pw.sys) < nloc {
 		pw.sys = make([]int, nloc)
@@ -62,37 +50,20 @@ func (w *p2Patch) solve(a int) error {
 	}
 	sys, fix := pw.sys[:nloc], pw.fix[:nloc]
 	rt := eq.rtilde[a]
-	var idx [p2Kept]int // system index of each kept unknown: ≥ 0, −1 prescribed, −2 dropped
-	var val [p2Kept]float64
+	var idx [7]int // system index of each kept unknown: ≥ 0, −1 prescribed, −2 dropped
+	var val [7]float64
 	for pt, t := range tris {
 		ia := pw.local(int(t), a, pt, 0, sys, fix)
-		w.ia[pt] = int8(ia)
-		z := w.z[pt*p2Local*p2Cols : (pt+1)*p2Local*p2Cols]
-		w.element(int(t), ia, rt, z)
+		w.element(int(t), ia, rt, w.z[pt*p2Z:(pt+1)*p2Z])
 		w.keep(pt, ia, nflux, drop, sys, fix, &idx, &val)
-		// Eliminate: K_LL Z = [K_LG | r_L].
-		if !luFactor(w.kll[:], p2Local, w.lpiv[:]) {
-			return fmt.Errorf("estimate: Equilibrated: the patch problem of vertex %d is singular: %w", a, ErrNotFinite)
-		}
-		luSolve(w.kll[:], p2Local, w.lpiv[:], z, p2Cols)
-		// The Schur complement K_GG − K_LGᵀ K_LL⁻¹ K_LG and its load
-		// r_G − K_LGᵀ K_LL⁻¹ r_L, into the patch system. K_LG is kept in
-		// w.klg by element.
-		for i := range p2Kept {
-			I := idx[i]
+		for i, I := range idx {
 			if I < 0 {
 				continue
 			}
 			r := w.rg[i]
-			for l := range p2Local {
-				r -= w.klg[l*p2Kept+i] * z[l*p2Cols+p2Kept]
-			}
-			for j := range p2Kept {
-				s := w.kgg[i*p2Kept+j]
-				for l := range p2Local {
-					s -= w.klg[l*p2Kept+i] * z[l*p2Cols+j]
-				}
-				switch J := idx[j]; {
+			for j, J := range idx {
+				s := w.kgg[i*7+j]
+				switch {
 				case J >= 0:
 					w.kkt[I*n+J] += s
 				case J == -1:
@@ -129,14 +100,15 @@ func (w *p2Patch) solve(a int) error {
 				out[3*e+j] = val[3*s+j]
 			}
 		}
-		// The interior DOFs: x_L = K_LL⁻¹ r_L − K_LL⁻¹ K_LG x_G.
-		z := w.z[pt*p2Local*p2Cols : (pt+1)*p2Local*p2Cols]
-		for l := range 6 {
-			v := z[l*p2Cols+p2Kept]
-			for j := range p2Kept {
-				v -= z[l*p2Cols+j] * val[j]
+		// The interior DOFs: x_I = c₀ + C x_E.
+		z := w.z[pt*p2Z : (pt+1)*p2Z]
+		for i := range 6 {
+			v := z[i]
+			c := z[6+6*i : 12+6*i]
+			for j := range 6 {
+				v += c[j] * val[j]
 			}
-			out[9+l] = v
+			out[9+i] = v
 		}
 	}
 	return nil
@@ -146,7 +118,7 @@ func (w *p2Patch) solve(a int) error {
 // ia, the system index of each kept unknown (idx: the moments of the edges
 // ia+1 and ia+2, then the constant multiplier) and the prescribed values
 // (val; 0 for the dropped multiplier).
-func (w *p2Patch) keep(pt, ia, nflux, drop int, sys []int, fix []float64, idx *[p2Kept]int, val *[p2Kept]float64) {
+func (w *p2Patch) keep(pt, ia, nflux, drop int, sys []int, fix []float64, idx *[7]int, val *[7]float64) {
 	for s := range 2 {
 		e := (ia + 1 + s) % 3
 		for j := range 3 {
@@ -163,18 +135,31 @@ func (w *p2Patch) keep(pt, ia, nflux, drop int, sys []int, fix []float64, idx *[
 	}
 }
 
-// element fills the blocks of the element system of triangle t for the
-// vertex at local index ia, in the global signs: K_LL (kll), K_LG (klg),
-// K_GG (kgg), r_G (rg) and [K_LG | r_L] (z, which the elimination
-// overwrites). The system is that of patchWork.element: the weighted mass
-// matrix, the divergence moments and the loads −(ψ_a ∇u_h, φ_i) and
-// (g_a − ρ_a, q̂_m), from the tables of rt2Reference.
+// element writes the condensed element system of triangle t for the vertex
+// at local index ia, in the global signs: the patch problem restricted to
+// t (that of patchWork.element: the weighted mass matrix M, the loads
+// f_i = −(ψ_a ∇u_h, φ_i) and the divergence moments against the monomials
+// q̂_m, with data g_m = (g_a − ρ_a, q̂_m), from the tables of rt2Reference)
+// with its interior DOFs x_I eliminated. The constraints of q̂_1..q̂_5 read
+// B x_I = g_R − B_E x_E with B the constant 5×6 interior block, whose null
+// space is spanned by n₀; with P = Bᵀ(BBᵀ)⁻¹,
+//
+//	x_I = P (g_R − B_E x_E) + α n₀,   α minimising the energy for given x_E,
+//
+// so x_I = c₀ + C x_E (written to z: c₀, then C by rows), and the energy
+// in x_E has the Hessian and load
+//
+//	S = M_EE + M_EI C + Cᵀ (M_IE + M_II C),   r = f_E − M_EI c₀ + Cᵀ (f_I − M_II c₀).
+//
+// The element system (kgg, rg) is [[S, b₀], [b₀ᵀ, 0]] and [r, g₀] with b₀
+// the moments (div φ_i, 1) of the kept edge DOFs (those of the interior
+// DOFs are zero: a field with zero normal trace has zero mean divergence).
 func (w *p2Patch) element(t, ia int, rt float64, z []float64) {
 	eq, ref := w.pw.eq, w.ref
 	d := eq.tdat[p2Stride*t : p2Stride*(t+1) : p2Stride*(t+1)]
 	sign := rt2Signs(eq.m.Tri, t)
-	// The local DOFs of the kept edge moments and of the interior.
-	var dof [p2Kept - 1 + 6]int
+	// The local DOFs: the kept edge moments, then the interior.
+	var dof [12]int
 	for s := range 2 {
 		e := (ia + 1 + s) % 3
 		for j := range 3 {
@@ -185,72 +170,102 @@ func (w *p2Patch) element(t, ia int, rt float64, z []float64) {
 		dof[6+l] = 9 + l
 	}
 	g0, g1, g2 := d[tdP2Gs], d[tdP2Gs+1], d[tdP2Gs+2]
-	mass := func(i, j int) float64 {
-		return sign[i] * sign[j] * (g0*ref.mass[0][i][j] + g1*ref.mass[1][i][j] + g2*ref.mass[2][i][j])
+	var m [12][12]float64
+	for i, di := range dof {
+		m0, m1, m2 := &ref.mass[0][di], &ref.mass[1][di], &ref.mass[2][di]
+		for j := i; j < 12; j++ {
+			dj := dof[j]
+			v := sign[di] * sign[dj] * (g0*m0[dj] + g1*m1[dj] + g2*m2[dj])
+			m[i][j], m[j][i] = v, v
+		}
 	}
-	div := func(mm, i int) float64 { return sign[i] * ref.div[mm][i] }
 	gr := d[tdP2Grad : tdP2Grad+6]
-	load := func(i int) float64 {
+	var f [12]float64
+	for i, di := range dof {
 		s := 0.0
 		for mv := range 3 {
-			s += gr[2*mv]*ref.lam[ia][mv][0][i] + gr[2*mv+1]*ref.lam[ia][mv][1][i]
+			s += gr[2*mv]*ref.lam[ia][mv][0][di] + gr[2*mv+1]*ref.lam[ia][mv][1][di]
 		}
-		return -sign[i] * s
+		f[i] = -sign[di] * s
 	}
 	area := d[tdP2Area]
 	gm := d[tdP2Gm+6*ia : tdP2Gm+6*ia+6]
-	cons := func(mm int) float64 { return gm[mm] - rt*area*ref.lamq[ia][mm] }
-	// Eliminated unknowns l: interior DOFs 0..5, multipliers of q̂_1..q̂_5.
-	for l := range p2Local {
-		for l2 := range p2Local {
-			v := 0.0
-			switch {
-			case l < 6 && l2 < 6:
-				v = mass(dof[6+l], dof[6+l2])
-			case l < 6:
-				v = div(l2-5, dof[6+l])
-			case l2 < 6:
-				v = div(l-5, dof[6+l2])
-			}
-			w.kll[l*p2Local+l2] = v
+	var gR [5]float64
+	for k := range 5 {
+		gR[k] = gm[k+1] - rt*area*ref.lamq[ia][k+1]
+	}
+	// x_I = c₀ + C x_E: the particular part P g_R − Q_s x_E with Q_s = P B_E,
+	// and α = (n₀·(f_I − M_IE x_E − M_II x_p))/(n₀·M_II n₀).
+	n0, pinv, q := &ref.n0, &ref.pinv, &ref.q[ia]
+	var c0 [6]float64
+	var c [6][6]float64
+	var h [6]float64
+	nu := 0.0
+	for i := range 6 {
+		for k := range 5 {
+			c0[i] += pinv[i][k] * gR[k]
 		}
-		for k := range p2Kept {
-			v := 0.0
-			switch {
-			case l < 6 && k < 6:
-				v = mass(dof[6+l], dof[k])
-			case l < 6:
-				v = div(0, dof[6+l])
-			case k < 6:
-				v = div(l-5, dof[k])
-			}
-			w.klg[l*p2Kept+k] = v
-			z[l*p2Cols+k] = v
-		}
-		if l < 6 {
-			z[l*p2Cols+p2Kept] = load(dof[6+l])
-		} else {
-			z[l*p2Cols+p2Kept] = cons(l - 5)
+		for j := range 6 {
+			c[i][j] = -q[i][j] * sign[dof[j]]
+			h[i] += m[6+i][6+j] * n0[j]
 		}
 	}
-	for k := range p2Kept {
-		for k2 := range p2Kept {
-			v := 0.0
-			switch {
-			case k < 6 && k2 < 6:
-				v = mass(dof[k], dof[k2])
-			case k < 6:
-				v = div(0, dof[k])
-			case k2 < 6:
-				v = div(0, dof[k2])
-			}
-			w.kgg[k*p2Kept+k2] = v
+	for i := range 6 {
+		nu += n0[i] * h[i]
+	}
+	a0 := 0.0
+	var kv [6]float64
+	for i := range 6 {
+		a0 += n0[i]*f[6+i] - h[i]*c0[i]
+		for j := range 6 {
+			kv[j] += n0[i]*m[6+i][j] + h[i]*c[i][j]
 		}
 	}
-	for k := range 6 {
-		w.rg[k] = load(dof[k])
+	a0 /= nu
+	for i := range 6 {
+		c0[i] += a0 * n0[i]
+		for j := range 6 {
+			c[i][j] -= n0[i] * kv[j] / nu
+		}
 	}
-	w.rg[6] = cons(0)
+	for i := range 6 {
+		z[i] = c0[i]
+		copy(z[6+6*i:12+6*i], c[i][:])
+	}
+	// T = M_IE + M_II C and u = f_I − M_II c₀.
+	var tt [6][6]float64
+	var u [6]float64
+	for i := range 6 {
+		u[i] = f[6+i]
+		for j := range 6 {
+			tt[i][j] = m[6+i][j]
+		}
+		for k := range 6 {
+			mik := m[6+i][6+k]
+			u[i] -= mik * c0[k]
+			for j := range 6 {
+				tt[i][j] += mik * c[k][j]
+			}
+		}
+	}
+	for i := range 6 {
+		r := f[i]
+		for k := range 6 {
+			r += -m[i][6+k]*c0[k] + c[k][i]*u[k]
+		}
+		w.rg[i] = r
+		for j := range 6 {
+			s := m[i][j]
+			for k := range 6 {
+				s += m[i][6+k]*c[k][j] + c[k][i]*tt[k][j]
+			}
+			w.kgg[i*7+j] = s
+		}
+		b := sign[dof[i]] * ref.div[0][dof[i]]
+		w.kgg[i*7+6], w.kgg[6*7+i] = b, b
+	}
+	w.kgg[6*7+6] = 0
+	w.rg[6] = gm[0] - rt*area*ref.lamq[ia][0]
 }
 
 // luFactor overwrites the n×n matrix a (row major, stride n) with its LU
