@@ -254,12 +254,12 @@ func (w *p2Patch) element(t, ia int, rt float64, z []float64) {
 			r += -m[i][6+k]*c0[k] + c[k][i]*u[k]
 		}
 		w.rg[i] = r
-		for j := range 6 {
+		for j := i; j < 6; j++ { // S is symmetric: the upper triangle, mirrored
 			s := m[i][j]
 			for k := range 6 {
 				s += m[i][6+k]*c[k][j] + c[k][i]*tt[k][j]
 			}
-			w.kgg[i*7+j] = s
+			w.kgg[i*7+j], w.kgg[j*7+i] = s, s
 		}
 		b := sign[dof[i]] * ref.div[0][dof[i]]
 		w.kgg[i*7+6], w.kgg[6*7+i] = b, b
