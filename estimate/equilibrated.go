@@ -146,11 +146,17 @@ import (
 // so the minimisation is a symmetric positive definite system of n + 1
 // unknowns (at most n + 2 on the boundary) for n triangles around the vertex,
 // assembled in closed form from reference-element tables through the
-// contravariant Piola map and solved by Cholesky factorisation. For P2
-// (and P1 meshes where two pieces touch at a vertex) as a dense
-// saddle-point system of size about 15n (7n) assembled by quadrature and
-// solved by LU factorisation with partial pivoting (gonum's
-// lapack64.Getrf). One patch per vertex, split over GOMAXPROCS
+// contravariant Piola map and solved by Cholesky factorisation. For P2,
+// from reference-element tables through the Piola map as well, with the
+// six interior DOFs of each triangle eliminated in closed form (the
+// constraints fix them up to one divergence-free interior field, whose
+// multiple minimises the energy), which leaves a saddle-point system in
+// the free edge moments and one constant multiplier per triangle, of size
+// about 4n, solved by LU factorisation with partial pivoting. In general
+// (P1 meshes where two pieces touch at a vertex, and the reference of the
+// tests) as the whole saddle-point system of size about 15n (7n for P1)
+// assembled by quadrature and solved by LU factorisation with partial
+// pivoting (gonum's lapack64.Getrf). One patch per vertex, split over GOMAXPROCS
 // goroutines; every value is summed in a fixed order, so the result does
 // not depend on GOMAXPROCS. The cost is linear in the number of triangles
 // for bounded vertex degree. Measured with BenchmarkEquilibrated (uniform
@@ -160,15 +166,18 @@ import (
 // about 300 products with the P1 stiffness matrix of the same mesh, which
 // took 1.99–2.28 ns per triangle) and 788–845 at 1e5; evaluating f
 // at the 12 points of each triangle takes about a tenth of it; the general
-// path takes some 10 times as long on P1 meshes; P2 (the general path)
-// 37–38 µs per triangle at 1e4 triangles (-bench 'Equilibrated/P2/n=10000$'
-// -count 3). Memory, in float64s per triangle: for P1, 24 for the three
-// patch contributions to σ_h, 14 of geometry and divergence data, 3
-// residual parts, 7 terms and 5 for the algebraic bound; for P2, 45, 16
-// values of f at the quadrature points, 3, 7 and 5; two int32s per
-// triangle; and 2(p+1) per edge and one per vertex. One Estimate with a
-// nil dst allocates 519 bytes per triangle for P1 (100352 triangles) and
-// 748–750 for P2 (10082 triangles) (BenchmarkEquilibrated's
+// path takes some 10 times as long on P1 meshes. P2: 3.26–3.42 µs per
+// triangle at 1e4 triangles (median 3.39; go test -run XXX -bench
+// 'Equilibrated/P2/n=10000$' -benchtime 3x -count 3, on a two-core machine
+// shared with other work), where the general path, run beside it with the
+// same flags, took 37.1–38.0 (median 37.5). Memory, in float64s per
+// triangle: for P1, 24 for the three patch contributions to σ_h, 14 of
+// geometry and divergence data, 3 residual parts, 7 terms and 5 for the
+// algebraic bound; for P2, 45, 34 of geometry and data moments, 16 values
+// of f at the quadrature points, 3, 7 and 5; two int32s per triangle; and
+// 2(p+1) per edge and one per vertex. One Estimate with a nil dst
+// allocates 519 bytes per triangle for P1 (100352 triangles) and
+// 1004–1008 for P2 (10082 triangles) (BenchmarkEquilibrated's
 // alloc-B/triangle); a dst used again keeps these arrays as scratch.
 //
 // Degree of the flux: σ_h ∈ RT_p for u_h ∈ P_p (Ern and Vohralík 2015),
@@ -395,8 +404,13 @@ func (q Equilibrated) equilibrate(u *fem.Function, p *fem.Problem, dst *Indicato
 //     reference tables; the path declines a mesh in which the triangles
 //     of some vertex do not form one fan (a vertex where two pieces touch),
 //     which then takes the general path.
-//   - otherwise (P2, and Equilibrated.generalOnly) the general path
-//     (solveGeneral): dense saddle-point systems assembled by quadrature.
+//   - P2 (solveP2, equilibrated_p2.go): element matrices from reference
+//     tables, the interior DOFs of each triangle eliminated in closed
+//     form, and a system of about 4n unknowns per patch solved by LU
+//     factorisation; it takes every mesh.
+//   - otherwise (P1 meshes that solveP1 declines, and
+//     Equilibrated.generalOnly) the general path (solveGeneral): dense
+//     saddle-point systems assembled by quadrature.
 func (eq *equilibration) dispatch() error {
 	if eq.k == 1 && !eq.q.generalOnly {
 		if err := eq.solveP1(); err != errNotFan {
