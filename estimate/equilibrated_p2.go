@@ -14,10 +14,10 @@ import (
 // offsets: G₀₀, G₁₁, G₀₁ of G = Jᵀ a⁻¹ J divided by det J; the reference
 // gradients ĝ_m = Jᵀ ∇u_h at the vertices m = 0, 1, 2; the reference
 // fluxes ŵ_m = adj(J) a∇u_h there (the Piola pull-back of a∇u_h, which is
-// linear, is Σ_m λ_m ŵ_m); the moments
-// (g_i, q̂_m)_T of g_i = ψ_i (f − c u_h) − a∇u_h·∇ψ_i for the vertices
-// i = 0, 1, 2 and the monomials q̂_m = 1, x̂, ŷ, x̂², x̂ŷ, ŷ² of the
-// reference coordinates; the area.
+// linear, is Σ_m λ_m ŵ_m); the moments (g_i, q̂_m)_T of
+// g_i = ψ_i (f − c u_h) − a∇u_h·∇ψ_i for the vertices i = 0, 1, 2 and the
+// monomials q̂_m = 1, x̂, ŷ, x̂², x̂ŷ, ŷ² of the reference coordinates; the
+// area.
 const (
 	tdP2Gs   = 0
 	tdP2Grad = 3
@@ -49,7 +49,8 @@ type rt2Reference struct {
 	lam  [3][3][2][15]float64 // ∫_T̂ λ_i λ_m φ̂_{j,c}
 	lamq [3][6]float64        // ∫_T λ_i q̂_m / |T|
 	// The interior block B of div (rows q̂_1..q̂_5, the interior DOFs; the
-	// row of q̂_0 is zero there): its right inverse P = Bᵀ(BBᵀ)⁻¹, a unit
+	// row of q̂_0 is zero there, and is taken as zero where the table holds
+	// the rounding of fem's basis, about 1e-14): its right inverse P = Bᵀ(BBᵀ)⁻¹, a unit
 	// vector n₀ spanning its null space, and for each local vertex ia the
 	// products P B_E with the columns of the moments of the edges ia+1 and
 	// ia+2 (see p2Patch.element).
