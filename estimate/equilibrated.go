@@ -146,11 +146,17 @@ import (
 // so the minimisation is a symmetric positive definite system of n + 1
 // unknowns (at most n + 2 on the boundary) for n triangles around the vertex,
 // assembled in closed form from reference-element tables through the
-// contravariant Piola map and solved by Cholesky factorisation. For P2
-// (and P1 meshes where two pieces touch at a vertex) as a dense
-// saddle-point system of size about 15n (7n) assembled by quadrature and
-// solved by LU factorisation with partial pivoting (gonum's
-// lapack64.Getrf). One patch per vertex, split over GOMAXPROCS
+// contravariant Piola map and solved by Cholesky factorisation. For P2,
+// from reference-element tables through the Piola map as well, with the
+// six interior DOFs of each triangle eliminated in closed form (the
+// constraints fix them up to one divergence-free interior field, whose
+// multiple minimises the energy), which leaves a saddle-point system in
+// the free edge moments and one constant multiplier per triangle, of size
+// about 4n, solved by LU factorisation with partial pivoting. In general
+// (P1 meshes where two pieces touch at a vertex, and the reference of the
+// tests) as the whole saddle-point system of size about 15n (7n for P1)
+// assembled by quadrature and solved by LU factorisation with partial
+// pivoting (gonum's lapack64.Getrf). One patch per vertex, split over GOMAXPROCS
 // goroutines; every value is summed in a fixed order, so the result does
 // not depend on GOMAXPROCS. The cost is linear in the number of triangles
 // for bounded vertex degree. Measured with BenchmarkEquilibrated (uniform
@@ -160,15 +166,18 @@ import (
 // about 300 products with the P1 stiffness matrix of the same mesh, which
 // took 1.99–2.28 ns per triangle) and 788–845 at 1e5; evaluating f
 // at the 12 points of each triangle takes about a tenth of it; the general
-// path takes some 10 times as long on P1 meshes; P2 (the general path)
-// 37–38 µs per triangle at 1e4 triangles (-bench 'Equilibrated/P2/n=10000$'
-// -count 3). Memory, in float64s per triangle: for P1, 24 for the three
-// patch contributions to σ_h, 14 of geometry and divergence data, 3
-// residual parts, 7 terms and 5 for the algebraic bound; for P2, 45, 16
-// values of f at the quadrature points, 3, 7 and 5; two int32s per
-// triangle; and 2(p+1) per edge and one per vertex. One Estimate with a
-// nil dst allocates 519 bytes per triangle for P1 (100352 triangles) and
-// 748–750 for P2 (10082 triangles) (BenchmarkEquilibrated's
+// path takes some 10 times as long on P1 meshes. P2: 3.26–3.42 µs per
+// triangle at 1e4 triangles (median 3.39; go test -run XXX -bench
+// 'Equilibrated/P2/n=10000$' -benchtime 3x -count 3, on a two-core machine
+// shared with other work), where the general path, run beside it with the
+// same flags, took 37.1–38.0 (median 37.5). Memory, in float64s per
+// triangle: for P1, 24 for the three patch contributions to σ_h, 14 of
+// geometry and divergence data, 3 residual parts, 7 terms and 5 for the
+// algebraic bound; for P2, 45, 34 of geometry and data moments, 16 values
+// of f at the quadrature points, 3, 7 and 5; two int32s per triangle; and
+// 2(p+1) per edge and one per vertex. One Estimate with a nil dst
+// allocates 519 bytes per triangle for P1 (100352 triangles) and
+// 1004–1008 for P2 (10082 triangles) (BenchmarkEquilibrated's
 // alloc-B/triangle); a dst used again keeps these arrays as scratch.
 //
 // Degree of the flux: σ_h ∈ RT_p for u_h ∈ P_p (Ern and Vohralík 2015),
@@ -374,7 +383,7 @@ func (q Equilibrated) equilibrate(u *fem.Function, p *fem.Problem, dst *Indicato
 		// terms, f at the rule's points or the data of solveP1, the five of
 		// treeBound (sub, flux, share), r̃ and the Neumann moments;
 		// and the two integer arrays of treeBound.
-		eq.arena = dst.scratch(nt*(3*eq.nloc+3+termCount+max(p1Stride, eq.rule.Len())+5) + nv + 2*(k+1)*ne)
+		eq.arena = dst.scratch(nt*(3*eq.nloc+3+termCount+max(p1Stride, eq.rule.Len()+p2Stride)+5) + nv + 2*(k+1)*ne)
 		eq.iarena = dst.scratchInt(2 * nt)
 	}
 	if err := eq.dispatch(); err != nil {
@@ -395,13 +404,21 @@ func (q Equilibrated) equilibrate(u *fem.Function, p *fem.Problem, dst *Indicato
 //     reference tables; the path declines a mesh in which the triangles
 //     of some vertex do not form one fan (a vertex where two pieces touch),
 //     which then takes the general path.
-//   - otherwise (P2, and Equilibrated.generalOnly) the general path
-//     (solveGeneral): dense saddle-point systems assembled by quadrature.
+//   - P2 (solveP2, equilibrated_p2.go): element matrices from reference
+//     tables, the interior DOFs of each triangle eliminated in closed
+//     form, and a system of about 4n unknowns per patch solved by LU
+//     factorisation; it takes every mesh.
+//   - otherwise (P1 meshes that solveP1 declines, and
+//     Equilibrated.generalOnly) the general path (solveGeneral): dense
+//     saddle-point systems assembled by quadrature.
 func (eq *equilibration) dispatch() error {
 	if eq.k == 1 && !eq.q.generalOnly {
 		if err := eq.solveP1(); err != errNotFan {
 			return err
 		}
+	}
+	if eq.k == 2 && !eq.q.generalOnly {
+		return eq.solveP2()
 	}
 	return eq.solveGeneral()
 }
@@ -410,7 +427,7 @@ func (eq *equilibration) dispatch() error {
 // which the fast path is tested: the data by quadrature, and each patch
 // problem as a dense saddle-point system solved by LU factorisation.
 func (eq *equilibration) solveGeneral() error {
-	if err := eq.triangleData(); err != nil {
+	if err := eq.triangleData(false); err != nil {
 		return err
 	}
 	if err := eq.neumannData(); err != nil {
@@ -431,16 +448,23 @@ func (eq *equilibration) solveGeneral() error {
 }
 
 // triangleData evaluates f at the rule's points, the diffusion, and the
-// residual contributions (g_a, 1)_T of the three vertices of each triangle.
-func (eq *equilibration) triangleData() error {
+// residual contributions (g_a, 1)_T of the three vertices of each triangle;
+// with p2 (the P2 path), also the data of solveP2 in eq.tdat.
+func (eq *equilibration) triangleData(p2 bool) error {
 	m, p, rule := eq.m, eq.p, eq.rule
 	nt, nq := m.NumTriangles(), rule.Len()
 	eq.fq = eq.take(nt * nq)
 	eq.rt3 = eq.take(3 * nt)
 	return parallel.For(nt, 256, func(lo, hi int) error {
 		ev := fem.NewEvaluator(eq.u)
+		var mono [6]float64
 		for t := lo; t < hi; t++ {
 			ev.Load(t)
+			var d []float64
+			if p2 {
+				d = eq.tdat[p2Stride*t : p2Stride*(t+1) : p2Stride*(t+1)]
+				eq.p2Geometry(ev, t, d)
+			}
 			cx, cy := ev.Point([3]float64{1. / 3, 1. / 3, 1. / 3})
 			a := p.Diffusion(cx, cy, ev.Region())
 			area := ev.Area()
@@ -456,9 +480,19 @@ func (eq *equilibration) triangleData() error {
 				v, gx, gy := ev.Eval(l)
 				fx, fy := a.Apply(gx, gy)
 				w := rule.W[q] * area
+				var g [3]float64
 				for i := range 3 {
 					bx, by := ev.BaryGrad(i)
-					r[i] += w * (l[i]*(f-p.C*v) - (fx*bx + fy*by))
+					g[i] = w * (l[i]*(f-p.C*v) - (fx*bx + fy*by))
+					r[i] += g[i]
+				}
+				if d != nil {
+					monomials(l[1], l[2], 2, mono[:])
+					for i := range 3 {
+						for mm := range 6 {
+							d[tdP2Gm+6*i+mm] += g[i] * mono[mm]
+						}
+					}
 				}
 			}
 			eq.rt3[3*t], eq.rt3[3*t+1], eq.rt3[3*t+2] = r[0], r[1], r[2]

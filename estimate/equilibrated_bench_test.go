@@ -16,7 +16,7 @@ import (
 // timed; the residual r_a of the interpolant is not zero, so the algebraic
 // term is computed too), beside one product with the P1 stiffness matrix
 // of the same mesh (spmv), the unit of cost of the loop's solver. P1 takes
-// the fast path of Equilibrated, P2 the general one.
+// the P1 path of Equilibrated, P2 the P2 path.
 func BenchmarkEquilibrated(b *testing.B) {
 	_, p := sine()
 	for _, n := range []int{1e4, 1e5, 1e6} {

@@ -3,22 +3,38 @@ package estimate
 import (
 	"math"
 	"math/rand/v2"
+	"strconv"
 	"testing"
 
 	"github.com/posteriori-fem/posteriori/fem"
 	"github.com/posteriori-fem/posteriori/mesh"
 )
 
-// equilibratedCases returns the cases of fastCases (noisy interpolants:
-// r_a ≠ 0, so ρ and the algebraic term are exercised) and discrete
+// equilibratedCases returns the cases of fastCases (noisy interpolants of
+// degree deg on the same meshes: r_a ≠ 0, so ρ and the algebraic term are
+// exercised; for deg 2 also a mesh with a pinched vertex) and discrete
 // solutions of the bound's model problems, on uniform, adaptively graded,
 // jiggled and permuted meshes, Kellogg's contrast 161, Dirichlet, Neumann,
 // Robin and untagged edges, c > 0.
 func equilibratedCases(t *testing.T, deg int) []fastCase {
 	t.Helper()
 	var cases []fastCase
-	if deg == 1 {
-		cases = fastCases(t)
+	rn := rand.New(rand.NewPCG(6, 5))
+	for _, c := range fastCases(t) {
+		if deg != 1 {
+			c.u = noisy(t, c.u.Space.Mesh, deg, rn)
+		}
+		cases = append(cases, c)
+	}
+	if deg != 1 {
+		// Two triangles touching at a vertex, whose patch is not one fan:
+		// the P1 path declines it, the P2 path does not need a fan.
+		pinched, _, err := mesh.New(mesh.Arrays{X: []float64{0, 0, 1, 0, 1, 1, -1, 0, -1, -1}, Tri: []int32{0, 1, 2, 0, 3, 4}})
+		if err != nil {
+			t.Fatal(err)
+		}
+		cases = append(cases, fastCase{"pinched vertex", noisy(t, pinched, deg, rn),
+			&fem.Problem{F: func(x, y float64) float64 { return 1 + x }, Dirichlet: map[int32]fem.Func{0: nil}}})
 	}
 	r := rand.New(rand.NewPCG(6, 3))
 	for _, bc := range boundCases {
@@ -49,25 +65,35 @@ func equilibratedCases(t *testing.T, deg int) []fastCase {
 	return cases
 }
 
-// The P1 path (solveP1) gives the flux σ_h and the indicators of the
-// general path (solveGeneral) to rounding: each patch problem has one
-// minimiser, which both compute. The Friedrichs constant 1 only serves the
-// problems with ρ ≠ 0 and Neumann edges, and is the same on both paths.
+// The P1 path (solveP1) and the P2 path (solveP2) give the flux σ_h and
+// the indicators of the general path (solveGeneral) to rounding: each patch
+// problem has one minimiser, which both compute. The Friedrichs constant 1
+// only serves the problems with ρ ≠ 0 and Neumann edges, and is the same on
+// both paths.
 func TestEquilibratedFastMatchesGeneral(t *testing.T) {
 	t.Parallel()
+	for _, deg := range []int{1, 2} {
+		t.Run("P"+strconv.Itoa(deg), func(t *testing.T) {
+			t.Parallel()
+			fastMatchesGeneral(t, deg)
+		})
+	}
+}
+
+func fastMatchesGeneral(t *testing.T, deg int) {
 	const (
 		tol   = 1e-10 // rounding of the patch solves, relative
 		floor = 1e-14 // rounding, relative to the largest η_T²
 	)
 	reused := &Indicators{}
-	for _, c := range equilibratedCases(t, 1) {
+	for _, c := range equilibratedCases(t, deg) {
 		fast, general := Equilibrated{Friedrichs: 1}, Equilibrated{Friedrichs: 1, generalOnly: true}
 		eq, err := fast.equilibrate(c.u, c.p, nil)
 		if err != nil {
 			t.Fatalf("%s: %v", c.name, err)
 		}
 		if eq.tdat == nil {
-			t.Fatalf("%s: the P1 path was not taken", c.name)
+			t.Fatalf("%s: the P%d path was not taken", c.name, deg)
 		}
 		sf, err := fast.Flux(c.u, c.p)
 		if err != nil {

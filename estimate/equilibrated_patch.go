@@ -56,40 +56,11 @@ func monomials(x, y float64, d int, mono []float64) {
 // vertex slots of its triangles.
 func (w *patchWork) solve(a int) error {
 	eq := w.eq
-	m, k := eq.m, eq.k
+	k := eq.k
 	tris := eq.vtri[eq.vstart[a]:eq.vstart[a+1]]
 	nm := numMono(k)
 	ni := k * (k + 1)
-	// The edges at a: free unless a Neumann (or natural) boundary edge.
-	w.edge, w.ebas, w.efix = w.edge[:0], w.ebas[:0], w.efix[:0]
-	nflux := 0
-	for _, t := range tris {
-		ia := localVertex(m, int(t), int32(a))
-		for i := range 3 {
-			e := m.TriEdge[3*int(t)+i]
-			if i == ia || indexOf(w.edge, e) >= 0 {
-				continue
-			}
-			w.edge = append(w.edge, e)
-			if m.IsBoundary(int(e)) && !eq.dirE[e] {
-				w.ebas = append(w.ebas, -1)
-				end := 0
-				if m.Edge[2*e+1] == int32(a) {
-					end = 1
-				}
-				s := eq.rt.Sign(int(t), i) // n_E·n_out
-				for j := range k + 1 {
-					w.efix = append(w.efix, -s*eq.neu[(2*int(e)+end)*(k+1)+j])
-				}
-				continue
-			}
-			w.ebas = append(w.ebas, nflux)
-			nflux += k + 1
-			for range k + 1 {
-				w.efix = append(w.efix, 0)
-			}
-		}
-	}
+	nflux := w.gather(a, tris)
 	ibase := nflux
 	nflux += len(tris) * ni
 	drop := 0
@@ -172,6 +143,46 @@ func (w *patchWork) solve(a int) error {
 		}
 	}
 	return nil
+}
+
+// gather lists the edges of the patch of vertex a at a (w.edge), with the
+// first system index of the moments of each free edge (w.ebas, −1 if
+// prescribed) and the prescribed moments (w.efix), and returns the number
+// of free edge moments.
+func (w *patchWork) gather(a int, tris []int32) int {
+	eq := w.eq
+	m, k := eq.m, eq.k
+	// The edges at a: free unless a Neumann (or natural) boundary edge.
+	w.edge, w.ebas, w.efix = w.edge[:0], w.ebas[:0], w.efix[:0]
+	nflux := 0
+	for _, t := range tris {
+		ia := localVertex(m, int(t), int32(a))
+		for i := range 3 {
+			e := m.TriEdge[3*int(t)+i]
+			if i == ia || indexOf(w.edge, e) >= 0 {
+				continue
+			}
+			w.edge = append(w.edge, e)
+			if m.IsBoundary(int(e)) && !eq.dirE[e] {
+				w.ebas = append(w.ebas, -1)
+				end := 0
+				if m.Edge[2*e+1] == int32(a) {
+					end = 1
+				}
+				s := eq.rt.Sign(int(t), i) // n_E·n_out
+				for j := range k + 1 {
+					w.efix = append(w.efix, -s*eq.neu[(2*int(e)+end)*(k+1)+j])
+				}
+				continue
+			}
+			w.ebas = append(w.ebas, nflux)
+			nflux += k + 1
+			for range k + 1 {
+				w.efix = append(w.efix, 0)
+			}
+		}
+	}
+	return nflux
 }
 
 // local fills, for triangle t at position pt of the patch of a, the system

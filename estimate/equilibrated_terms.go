@@ -144,9 +144,10 @@ type termWork struct {
 	val   [15][2]float64
 	c     [15]float64
 	mono  [6]float64
-	gram  [36]float64
+	gram  [3][36]float64 // per degree d: the LU factors of the Gram matrix of the monomials under the rule
+	ipiv  [3][6]int
+	gdone [3]bool // gram[d] is set
 	proj  [6]float64
-	ipiv  [6]int
 }
 
 func newTermWork(eq *equilibration, panel *quadrature.Line) *termWork {
@@ -232,22 +233,32 @@ func (tw *termWork) finish(t int, flux2, osc, oscConv, area float64, v []float64
 func (tw *termWork) projectionError(f []float64, d int, area float64) float64 {
 	rule := tw.eq.rule
 	n := numMono(d)
-	clear(tw.gram[:n*n])
+	gram, ipiv := tw.gram[d][:n*n], tw.ipiv[d][:n]
+	g := blas64.General{Rows: n, Cols: n, Stride: n, Data: gram}
+	if !tw.gdone[d] {
+		// The Gram matrix does not depend on the triangle: factorised once.
+		clear(gram)
+		for q := range f {
+			monomials(rule.Bary[3*q+1], rule.Bary[3*q+2], d, tw.mono[:])
+			for i := range n {
+				for j := range n {
+					gram[i*n+j] += rule.W[q] * tw.mono[i] * tw.mono[j]
+				}
+			}
+		}
+		if !lapack64.Getrf(g, ipiv) {
+			panic("estimate: singular Gram matrix of monomials") // broken internal invariant
+		}
+		tw.gdone[d] = true
+	}
 	clear(tw.proj[:n])
 	for q, fv := range f {
 		monomials(rule.Bary[3*q+1], rule.Bary[3*q+2], d, tw.mono[:])
 		for i := range n {
 			tw.proj[i] += rule.W[q] * fv * tw.mono[i]
-			for j := range n {
-				tw.gram[i*n+j] += rule.W[q] * tw.mono[i] * tw.mono[j]
-			}
 		}
 	}
-	g := blas64.General{Rows: n, Cols: n, Stride: n, Data: tw.gram[:n*n]}
-	if !lapack64.Getrf(g, tw.ipiv[:n]) {
-		panic("estimate: singular Gram matrix of monomials") // broken internal invariant
-	}
-	lapack64.Getrs(blas.NoTrans, g, blas64.General{Rows: n, Cols: 1, Stride: 1, Data: tw.proj[:n]}, tw.ipiv[:n])
+	lapack64.Getrs(blas.NoTrans, g, blas64.General{Rows: n, Cols: 1, Stride: 1, Data: tw.proj[:n]}, ipiv)
 	s := 0.0
 	for q, fv := range f {
 		monomials(rule.Bary[3*q+1], rule.Bary[3*q+2], d, tw.mono[:])
