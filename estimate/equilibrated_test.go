@@ -356,7 +356,7 @@ func TestEquilibratedReactionNeumann(t *testing.T) {
 
 // Results do not depend on GOMAXPROCS: every sum has a fixed order. The
 // indicators and the flux σ_h are compared bit for bit, on the P1 path
-// and on the general path (P2), on meshes large enough for several chunks.
+// and on the P2 path, on meshes large enough for several chunks.
 func TestEquilibratedDeterministic(t *testing.T) {
 	defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(0))
 	ex, p := known.Kellogg()
