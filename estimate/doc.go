@@ -55,10 +55,11 @@
 //
 // Use Equilibrated when the number itself matters: a certified error, a
 // stopping test, a report. It costs the most: per triangle of a P1
-// solution 600–701 ns, 6.3 to 7.1 times the residual estimator (three
+// solution 553–569 ns, 5.0 to 5.5 times the residual estimator (three
 // runs of BenchmarkEstimate and BenchmarkEquilibrated side by side, 1e5
-// triangles), and of a P2 solution 36–38 µs, about 80 times the residual
-// estimator's (1e4 triangles, three runs); FluxRecovery P1 333–558 ns. Use Residual to steer refinement
+// triangles), and of a P2 solution 3.20–3.23 µs, 6.4 to 6.8 times the
+// residual estimator's (1e4 triangles, three runs); FluxRecovery P1
+// 279–313 ns at 1e5 triangles. Use Residual to steer refinement
 // cheaply: it is reliable (an upper bound up to an unknown constant) and
 // its rates follow the error's, but its total is off by the factor in the
 // table. Use FluxRecovery or the gradient recoveries for a cheap total
