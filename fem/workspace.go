@@ -54,6 +54,7 @@ func (w *Workspace) Assemble(s *Space, p *Problem) (*System, error) {
 		w.f64.Give(w.last.A.Val, w.last.B)
 		w.last = nil
 	}
+	w.i32.Room, w.f64.Room = spare.Headroom, spare.Headroom
 	sys, err := assemble(s, p, w)
 	if err != nil {
 		return nil, err

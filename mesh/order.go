@@ -87,9 +87,11 @@ func (m *Mesh) Reorder() (*Mesh, *Order, error) {
 
 // Renumber renumbers m in place, exactly as Reorder renumbers a copy, and
 // returns the renumbering. Each array of m is replaced by a renumbered
-// one, and the arrays replaced are reused for the next ones, so Renumber
-// allocates about a third of what Reorder does: for a mesh that nothing
-// else refers to yet, such as one that Refine has just returned. Slices of
+// one, and a replaced array takes the next one of about its size (at most
+// a quarter longer), so Renumber allocates less than half of what Reorder
+// does (edges, edge tags, regions and coordinates: 30 of 66 bytes per
+// triangle). It is meant for a mesh that nothing else refers to yet, such
+// as one that Refine has just returned. Slices of
 // m's arrays taken before the call (by a fem.Space made on m, say) must
 // not be used after it. On error (ErrEmpty, ErrLength, ErrIndex: the
 // checks of Reorder) m is not modified.
@@ -98,7 +100,9 @@ func (m *Mesh) Renumber() (*Order, error) {
 		return nil, err
 	}
 	perm, _ := m.renumbering(true)
-	perm.apply(m, m, new(spare.Bin[int32]))
+	// Arrays taken from the bin must not be much longer than needed: they
+	// become the mesh's.
+	perm.apply(m, m, &spare.Bin[int32]{Fit: 0.25})
 	return perm.o, nil
 }
 

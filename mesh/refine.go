@@ -228,10 +228,14 @@ func (m *Mesh) Refine(marked []bool) (*Mesh, *Parents, error) {
 	return r.m, p, nil
 }
 
-// grow returns a copy of s with length n (n ≥ len(s)), the new entries
-// zero. (The append form copies s without zeroing that part first.)
+// grow returns a copy of s with length and capacity n (n ≥ len(s)), the
+// new entries zero. The capacity is exact: append's growth rule would add
+// up to a quarter more, which the refined mesh (renumbered in place by the
+// adaptive loop) would keep.
 func grow[T any](s []T, n int) []T {
-	return append(s[:len(s):len(s)], make([]T, n-len(s))...)
+	r := make([]T, n)
+	copy(r, s)
+	return r
 }
 
 // refiner holds the state of one call of Refine.

@@ -7,19 +7,29 @@
 // drops.
 package spare
 
-// Headroom is the extra capacity of a new array, as a fraction of its
-// length: an adaptive loop's meshes grow by a factor of about 1.3 per step
+// Headroom is the usual Bin.Room for arrays that are given back to the
+// bin and taken again for larger uses: an adaptive loop's meshes grow by a factor of about 1.3 per step
 // with Dörfler marking at θ = 0.5, so with half as much again an array
 // serves the next step too.
 const Headroom = 0.5
 
 // Bin holds spare arrays of one element type.
 type Bin[T any] struct {
+	// Room is the extra capacity of a new array that Take makes, as a
+	// fraction of its length: Headroom for arrays that come back to the
+	// bin for larger uses, 0 (exact) for arrays that leave it.
+	Room float64
+	// Fit, if positive, limits reuse to spare arrays whose capacity is at
+	// most n·(1 + Fit) for a Take of n, so that a short array does not
+	// keep a long one's memory; zero takes any spare array long enough.
+	Fit float64
+
 	free [][]T
 }
 
 // Take returns an array of length n: the spare array with the least
-// capacity of at least n, or else a new one with capacity n·(1 + Headroom).
+// capacity of at least n (and within b.Fit), or else a new one with
+// capacity n·(1 + b.Room).
 // Its values are those it had before: the caller sets each of them, or
 // uses TakeZero.
 func (b *Bin[T]) Take(n int) []T {
@@ -29,7 +39,7 @@ func (b *Bin[T]) Take(n int) []T {
 	{
 		best := -1
 		for i, s := range b.free {
-			if cap(s) >= n && (best < 0 || cap(s) < cap(b.free[best])) {
+			if cap(s) >= n && (b.Fit <= 0 || float64(cap(s)) <= float64(n)*(1+b.Fit)) && (best < 0 || cap(s) < cap(b.free[best])) {
 				best = i
 			}
 		}
@@ -42,7 +52,7 @@ func (b *Bin[T]) Take(n int) []T {
 			return s[:n]
 		}
 	}
-	return make([]T, n, n+int(Headroom*float64(n)))
+	return make([]T, n, n+int(b.Room*float64(n)))
 }
 
 // TakeZero is Take with every value set to the zero value.

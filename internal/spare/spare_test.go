@@ -3,7 +3,10 @@ package spare
 import "testing"
 
 func TestTakeGive(t *testing.T) {
-	var b Bin[int32]
+	b := Bin[int32]{Room: Headroom}
+	if e := (&Bin[int32]{}).Take(10); cap(e) != 10 {
+		t.Fatalf("Room 0: capacity %d, want 10", cap(e))
+	}
 	a := b.Take(10)
 	if len(a) != 10 || cap(a) != 15 {
 		t.Fatalf("new array: len %d cap %d, want 10 and 15", len(a), cap(a))
@@ -31,6 +34,15 @@ func TestTakeGive(t *testing.T) {
 	}
 	if b.Len() != 0 {
 		t.Fatalf("%d arrays left, want 0", b.Len())
+	}
+	fit := Bin[int32]{Fit: 0.25}
+	long := make([]int32, 100)
+	fit.Give(long)
+	if s := fit.Take(50); cap(s) == 100 {
+		t.Error("Fit 0.25: Take(50) reused a 100-array")
+	}
+	if s := fit.Take(90); cap(s) != 100 {
+		t.Error("Fit 0.25: Take(90) did not reuse the 100-array")
 	}
 	var nb *Bin[float64]
 	nb.Give(make([]float64, 3))
