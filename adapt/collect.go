@@ -21,7 +21,10 @@ import (
 // user time (three runs) with a peak resident set of 1.38–1.58 GB.
 //
 // So the loop collects right after those two points on meshes with more
-// than collectTriangles triangles. The loop's own arrays hold no
+// than collectTriangles triangles. On the same loop (three runs each,
+// alternated) that gave 8.1–8.6 s of wall time, 2.5–2.7 s of system time
+// and a peak of 1.01–1.02 GB, against 9.7–11.3 s, 3.5–3.7 s and 1.37–1.63
+// GB without. The loop's own arrays hold no
 // pointers, so the collector has little to scan and a collection takes
 // about a millisecond; but a collection also scans whatever the calling
 // program holds, so the loop collects only while the heap's scannable
