@@ -2,6 +2,7 @@ package mesh
 
 import (
 	"fmt"
+	"github.com/posteriori-fem/posteriori/internal/parallel"
 	"math"
 )
 
@@ -163,20 +164,34 @@ func (m *Mesh) Refine(marked []bool) (*Mesh, *Parents, error) {
 	}
 	r := &refiner{
 		old: m,
-		m: &Mesh{
-			X:       grow(m.X, 2*nv2),
-			Tri:     grow(m.Tri, 3*nt2)[:3*nt],
-			Region:  grow(m.Region, nt2)[:nt],
-			Edge:    grow(m.Edge, 2*ne2)[:2*ne],
-			TriEdge: grow(m.TriEdge, 3*nt2)[:3*nt],
-			EdgeTri: grow(m.EdgeTri, 2*ne2)[:2*ne],
-			EdgeTag: grow(m.EdgeTag, ne2)[:ne],
-			pieces:  m.pieces, // bisection keeps the connected pieces
-		},
+		m:   &Mesh{pieces: m.pieces}, // bisection keeps the connected pieces
 		mid: mid,
 		nv:  int32(nv),
 		ne:  int32(ne),
 	}
+	// The copies of the old arrays, with room for the new entries, made
+	// concurrently on large meshes (on fresh memory most of their time is
+	// the kernel's, which the cores share out); about equal halves by
+	// bytes: the first three, the other four.
+	copies := []func(){
+		func() { r.m.Tri = grow(m.Tri, 3*nt2)[:3*nt] },
+		func() { r.m.Edge = grow(m.Edge, 2*ne2)[:2*ne] },
+		func() { r.m.TriEdge = grow(m.TriEdge, 3*nt2)[:3*nt] },
+		func() { r.m.X = grow(m.X, 2*nv2) },
+		func() { r.m.Region = grow(m.Region, nt2)[:nt] },
+		func() { r.m.EdgeTri = grow(m.EdgeTri, 2*ne2)[:2*ne] },
+		func() { r.m.EdgeTag = grow(m.EdgeTag, ne2)[:ne] },
+	}
+	grain := len(copies)
+	if nt > refineParallel {
+		grain = 1
+	}
+	parallel.For(len(copies), grain, func(lo, hi int) error {
+		for _, c := range copies[lo:hi] {
+			c()
+		}
+		return nil
+	})
 	p := &Parents{Triangle: make([]int32, nt, nt2), Vertex: vertexMap(nv, ne, split), OldVertices: nv}
 	for k := range nt {
 		p.Triangle[k] = int32(k)
@@ -227,6 +242,11 @@ func (m *Mesh) Refine(marked []bool) (*Mesh, *Parents, error) {
 	}
 	return r.m, p, nil
 }
+
+// refineParallel is the number of triangles above which Refine copies
+// the old arrays concurrently (common practice, no source: enough work to
+// pay for a goroutine).
+const refineParallel = 1 << 16
 
 // grow returns a copy of s with length and capacity n (n ≥ len(s)), the
 // new entries zero. The capacity is exact: append's growth rule would add
