@@ -57,9 +57,10 @@ import (
 // marked must have one entry per triangle. A mesh with no triangles (such
 // as the zero Mesh) or with arrays of inconsistent lengths is rejected with
 // an error wrapping ErrEmpty, ErrLength or ErrIndex. Refine does not modify m. Its
-// cost is that of copying m's arrays and one scan of its edges and
-// triangles, plus time linear in the number of triangles refined: the
-// topology of the untouched part is not rebuilt.
+// cost is that of copying m's arrays (concurrently, on meshes of more
+// than 65,536 triangles) and one scan of its edges and triangles, plus
+// time linear in the number of triangles refined: the topology of the
+// untouched part is not rebuilt. The rest runs on one goroutine.
 //
 // Newest-vertex bisection produces only finitely many similarity classes
 // of triangles from each initial one (at most four per triangle), so the
