@@ -21,6 +21,8 @@
 //	assemble-p2   P2 assembly
 //	residual-p1   the residual estimator
 //	average-p1    the averaging recovery estimator
+//	equil-p1      the equilibrated-flux estimator (guaranteed bound)
+//	flux-p1       the interface-robust flux recovery estimator
 //	dorfler       Dörfler marking, θ = 0.5, of the residual indicators
 //	refine        newest-vertex bisection of that marking, with the new topology
 //	solve-p1      solver setup and a solve from zero to relative residual 1e-8
@@ -322,7 +324,7 @@ func measure(n, reps int, sysDir string) ([]Row, error) {
 	}
 	var sys2 *fem.System
 	var u *fem.Function
-	var in, rec *estimate.Indicators
+	var in, rec, eq, fl *estimate.Indicators
 	var marks []bool
 	stages := []struct {
 		name  string
@@ -341,6 +343,8 @@ func measure(n, reps int, sysDir string) ([]Row, error) {
 		}},
 		{"residual-p1", nt, "triangle", false, func() (err error) { in, err = estimate.Residual{}.Estimate(in, u, p); return }},
 		{"average-p1", nt, "triangle", false, func() (err error) { rec, err = estimate.Recovery{}.Estimate(rec, u, p); return }},
+		{"equil-p1", nt, "triangle", false, func() (err error) { eq, err = estimate.Equilibrated{}.Estimate(eq, u, p); return }},
+		{"flux-p1", nt, "triangle", false, func() (err error) { fl, err = estimate.FluxRecovery{}.Estimate(fl, u, p); return }},
 		{"dorfler", nt, "triangle", false, func() (err error) { marks, err = adapt.Dorfler{Theta: 0.5}.Mark(marks, in.Eta2); return }},
 		{"refine", nt, "triangle", false, func() error { _, _, err := m.Refine(marks); return err }},
 	}
