@@ -24,8 +24,10 @@ type connections struct {
 	diagF []float64
 	// valF holds the values of the filtered matrix A_F in the structure
 	// of the matrix: a_ij for a strong connection, diagF[i] on the
-	// diagonal, zero for a weak entry.
-	valF []float64
+	// diagonal, zero for a weak entry. When every weak entry of the
+	// matrix is zero, A_F is the matrix itself and valF is its Val (not a
+	// copy); else valF is valFMem.
+	valF, valFMem []float64
 	// gershgorin is max_i Σ_j |a^F_ij| / a_ii, a bound of ρ(D⁻¹A_F).
 	gershgorin float64
 }
@@ -39,19 +41,26 @@ type connections struct {
 // are never strong (θ > 0). The diagonal diag must be positive. For a
 // symmetric a the relation is symmetric. The rows are split over
 // goroutines; each row's results are independent of the split. The
-// arrays of c are reused (see resize) and its fields set.
+// arrays of c are reused (see resize) and its fields set. The values of
+// A_F are written out only if a weak entry is nonzero; else valF is a's
+// Val itself. That is the case of the finest level of the adaptive L-shape
+// loop's P1 matrices (newest-vertex bisections of right isosceles
+// triangles), whose weak entries are explicit zeros: the edges opposite a
+// right angle.
 func strength(c *connections, a *sparse.CSR, diag []float64, theta float64) {
-	c.strong, c.diagF, c.valF = resize(c.strong, a.NNZ()), resize(c.diagF, a.Rows), resize(c.valF, a.NNZ())
+	c.strong, c.diagF = resize(c.strong, a.NNZ()), resize(c.diagF, a.Rows)
 	t2 := theta * theta
-	gersh := make([]float64, max(1, runtime.GOMAXPROCS(0)))
-	strong, valF, diagF := c.strong, c.valF, c.diagF
+	nw := max(1, runtime.GOMAXPROCS(0))
+	gersh := make([]float64, nw)
+	lumped := make([]bool, nw) // a chunk has a nonzero weak entry
+	strong, diagF := c.strong, c.diagF
 	rowPtr, col, val := a.RowPtr, a.Col, a.Val
 	chunks(a.Rows, a.RowPtr, func(ch, lo, hi int) {
 		g := 0.0
+		nz := false
 		for i := lo; i < hi; i++ {
 			di := t2 * diag[i]
 			lump, abs := 0.0, 0.0
-			dk := -1
 			for k := rowPtr[i]; k < rowPtr[i+1]; k++ {
 				j := col[k]
 				v := val[k]
@@ -60,23 +69,42 @@ func strength(c *connections, a *sparse.CSR, diag []float64, theta float64) {
 				switch {
 				case s:
 					abs += math.Abs(v)
-					valF[k] = v
 				case int(j) != i:
 					lump += v
-					valF[k] = 0
-				default:
-					dk = int(k)
+					nz = nz || v != 0
 				}
 			}
 			diagF[i] = diag[i] + lump
-			if dk >= 0 {
-				valF[dk] = diagF[i]
-			}
 			g = max(g, (abs+math.Abs(diagF[i]))/diag[i])
 		}
 		gersh[ch] = g
+		lumped[ch] = nz
 	})
 	c.gershgorin = slices.Max(gersh)
+	if !slices.Contains(lumped, true) {
+		// Every weak entry is zero: a_ij on the strong entries, zero on
+		// the weak ones and diagF[i] = a_ii on the diagonal are a's own
+		// values, bit for bit.
+		c.valF = a.Val
+		return
+	}
+	c.valFMem = resize(c.valFMem, a.NNZ())
+	valF := c.valFMem
+	chunks(a.Rows, a.RowPtr, func(_, lo, hi int) {
+		for i := lo; i < hi; i++ {
+			for k := rowPtr[i]; k < rowPtr[i+1]; k++ {
+				switch {
+				case strong[k]:
+					valF[k] = val[k]
+				case int(col[k]) != i:
+					valF[k] = 0
+				default:
+					valF[k] = diagF[i]
+				}
+			}
+		}
+	})
+	c.valF = valF
 }
 
 // aggregate partitions the nodes (rows) of a into aggregates by the greedy
