@@ -168,6 +168,8 @@ type projection struct {
 	loc   []float64 // per triangle: the element matrix (nloc²) and right-hand side (nloc)
 	b, x  []float64
 	a     *sparse.CSR
+	diag  []float64 // the diagonal of a, for the Jacobi preconditioner
+	cg    []float64 // CG's work vectors (4n)
 	// local writes ‖a^{−½}(σ + a∇u_h)‖²_T per triangle (localGeneral,
 	// localP1).
 	local func(eta2 []float64)
@@ -211,11 +213,11 @@ func (fr FluxRecovery) project(dst *Indicators, u *fem.Function, p *fem.Problem)
 	if tol == 0 {
 		tol = defaultFluxTol
 	}
-	jac, err := sparse.NewJacobi(pr.a)
+	jac, err := sparse.NewJacobiDiag(pr.diag)
 	if err != nil {
 		return nil, FluxStats{}, fmt.Errorf("estimate: FluxRecovery: %w", err)
 	}
-	res, err := sparse.CG(pr.a, pr.b, pr.x, jac, sparse.CGSettings{Tol: fluxCGTol, EnergyTol: tol * st.Guess, MaxIter: 1000 + pr.n/10})
+	res, err := sparse.CG(pr.a, pr.b, pr.x, jac, sparse.CGSettings{Tol: fluxCGTol, EnergyTol: tol * st.Guess, MaxIter: 1000 + pr.n/10, Work: pr.cg})
 	st.Iterations = res.Iterations
 	if err != nil {
 		return nil, FluxStats{}, fmt.Errorf("estimate: FluxRecovery: projection: %w", err)
@@ -238,14 +240,15 @@ func (fr FluxRecovery) system(dst *Indicators, u *fem.Function, p *fem.Problem) 
 	pr := &projection{u: u, p: p, m: m, rt: rt, k: k, nloc: rt.LocalDOFs(), n: rt.NumDOF(), rtab: fem.NewRegionTable(p)}
 	nt, ne := m.NumTriangles(), m.NumEdges()
 	nl := pr.nloc
-	// Scratch: element data, then b and x, then the values of the matrix.
+	// Scratch: element data; b, x, the diagonal and CG's four work
+	// vectors; the values of the matrix.
 	rowLen := 2*nl - (k + 1)
 	nnzMax := ne*(k+1)*rowLen + nt*rt.InteriorDOFs()*nl
-	work := dst.scratch(nt*(nl*nl+nl) + 2*pr.n + nnzMax)
-	pr.loc = work[:nt*(nl*nl+nl)]
-	pr.b = work[len(pr.loc) : len(pr.loc)+pr.n]
-	pr.x = work[len(pr.loc)+pr.n : len(pr.loc)+2*pr.n]
-	vals := work[len(pr.loc)+2*pr.n:]
+	work := dst.scratch(nt*(nl*nl+nl) + 7*pr.n + nnzMax)
+	pr.loc, work = work[:nt*(nl*nl+nl)], work[nt*(nl*nl+nl):]
+	pr.b, pr.x, pr.diag = work[:pr.n], work[pr.n:2*pr.n], work[2*pr.n:3*pr.n]
+	pr.cg, work = work[3*pr.n:7*pr.n], work[7*pr.n:]
+	vals := work
 	fast := k == 0 && !fr.general
 	nside := 0
 	if fast {
@@ -275,7 +278,6 @@ func (fr FluxRecovery) system(dst *Indicators, u *fem.Function, p *fem.Problem) 
 			return nil, err
 		}
 		pr.assembleP1(rowPtr, cols, vals, sides)
-		pr.guessP1(sides)
 		pr.local = pr.localP1
 	} else {
 		if err := pr.elements(dst); err != nil {
@@ -508,8 +510,8 @@ func (pr *projection) freeCols(t, skip int) int32 {
 	return c
 }
 
-// assemble builds the matrix and right-hand side of the projection in the
-// given arrays: rows of the fixed Neumann moments are m_ii x_i = m_ii g_i,
+// assemble builds the matrix, its diagonal and the right-hand side of the
+// projection in the given arrays: rows of the fixed Neumann moments are m_ii x_i = m_ii g_i,
 // and the fixed columns of the other rows move to the right-hand side.
 func (pr *projection) assemble(rowPtr, cols []int32, vals []float64) {
 	n := pr.n
@@ -552,6 +554,7 @@ func (pr *projection) assemble(rowPtr, cols []int32, vals []float64) {
 		return nil
 	})
 	pr.a = &sparse.CSR{Rows: n, Cols: n, RowPtr: rowPtr, Col: cols, Val: vals}
+	pr.a.Diagonal(pr.diag)
 }
 
 // guess sets the free unknowns of x to the local guess: inside each
