@@ -377,15 +377,16 @@ func (q Equilibrated) equilibrate(u *fem.Function, p *fem.Problem, dst *Indicato
 			eq.free[m.Edge[2*e+1]] = false
 		}
 	}
-	eq.vstart, eq.vtri = m.VertexTriangles()
 	if dst != nil {
 		// Room for the arrays of either path: σ_a, the residual parts, the
 		// terms, f at the rule's points or the data of solveP1, the five of
 		// treeBound (sub, flux, share), r̃ and the Neumann moments;
-		// and the two integer arrays of treeBound.
+		// and the triangles of the vertices and the two integer arrays of
+		// treeBound.
 		eq.arena = dst.scratch(nt*(3*eq.nloc+3+termCount+max(p1Stride, eq.rule.Len()+p2Stride)+5) + nv + 2*(k+1)*ne)
-		eq.iarena = dst.scratchInt(2 * nt)
+		eq.iarena = dst.scratchInt(nv + 2 + 3*nt + 2*nt)
 	}
+	eq.vstart, eq.vtri = m.VertexTrianglesTo(eq.takeInt(nv+2), eq.takeInt(3*nt))
 	if err := eq.dispatch(); err != nil {
 		return nil, err
 	}
