@@ -300,7 +300,7 @@ type equilibration struct {
 	co     *fem.RegionTable // the diffusion of each region
 	dirE   []bool           // edge is a Dirichlet edge
 	free   []bool           // vertex touches no Dirichlet edge
-	neu    []float64        // per boundary edge: ∫_E ψ_end g_N L_j ds, end 0 = Edge[2e]; 2(k+1) per edge
+	neu    []float64        // per boundary edge: ∫_E ψ_end g_N L_j ds, end 0 = Edge[2e]; 2(k+1) per edge (not set for interior edges)
 	rt3    []float64        // per triangle and local vertex i: (ψ_i (f − c u_h) − a∇u_h·∇ψ_i, 1)_T
 	rtilde []float64        // per vertex: r_a / (ψ_a, 1)_{ω_a} (0 on Dirichlet vertices)
 	sig    []float64        // per triangle, per local vertex slot: the local coefficients of σ_a
@@ -532,9 +532,13 @@ func (eq *equilibration) neumannEdge(e int) (gn func(t float64) (float64, error)
 // Neumann edge, and ∫_E ψ (g_R − α u_h) L_j ds on each Robin edge.
 func (eq *equilibration) neumannData() error {
 	m, k := eq.m, eq.k
+	// Only the entries of the boundary edges are read, and cleared.
 	eq.neu = eq.take(2 * (k + 1) * m.NumEdges())
-	clear(eq.neu)
 	for e := range m.NumEdges() {
+		if !m.IsBoundary(e) {
+			continue
+		}
+		clear(eq.neu[2*e*(k+1) : 2*(e+1)*(k+1)])
 		gn, le := eq.neumannEdge(e)
 		if gn == nil {
 			continue
