@@ -160,12 +160,13 @@ import (
 // goroutines; every value is summed in a fixed order, so the result does
 // not depend on GOMAXPROCS. The cost is linear in the number of triangles
 // for bounded vertex degree. Measured with BenchmarkEquilibrated (uniform
-// meshes of the unit square, a quiet two-core machine, three runs: go test
-// -run XXX -bench 'Equilibrated/(P1|spmv)/n=(100000|1000000)$' -benchtime
-// 3x -count 3): P1 580–651 ns per triangle at 1e6 triangles (median 608;
-// about 300 products with the P1 stiffness matrix of the same mesh, which
-// took 1.99–2.28 ns per triangle) and 788–845 at 1e5; evaluating f
-// at the 12 points of each triangle takes about a tenth of it; the general
+// meshes of the unit square, a two-core machine shared with other work,
+// six runs: go test -run XXX -bench
+// 'Equilibrated/(P1|spmv)/n=(100000|1000000)$' -benchtime 4x): P1 560–923
+// ns per triangle at 1e6 triangles (median 732; about 350 products with
+// the P1 stiffness matrix of the same mesh, which took 1.97–2.43 ns per
+// triangle, median 2.1) and 577–889 at 1e5 (median 829); evaluating f at
+// the 12 points of each triangle takes about a tenth of it; the general
 // path takes some 10 times as long on P1 meshes. P2: 3.26–3.42 µs per
 // triangle at 1e4 triangles (median 3.39; go test -run XXX -bench
 // 'Equilibrated/P2/n=10000$' -benchtime 3x -count 3, on a two-core machine
@@ -174,11 +175,14 @@ import (
 // triangle: for P1, 24 for the three patch contributions to σ_h, 14 of
 // geometry and divergence data, 3 residual parts, 7 terms and 5 for the
 // algebraic bound; for P2, 45, 34 of geometry and data moments, 16 values
-// of f at the quadrature points, 3, 7 and 5; two int32s per triangle; and
-// 2(p+1) per edge and one per vertex. One Estimate with a nil dst
-// allocates 519 bytes per triangle for P1 (100352 triangles) and
-// 1004–1008 for P2 (10082 triangles) (BenchmarkEquilibrated's
-// alloc-B/triangle); a dst used again keeps these arrays as scratch.
+// of f at the quadrature points, 3, 7 and 5; five int32s per triangle (the
+// triangles of each vertex, and two for the algebraic bound); and 2(p+1)
+// per edge and one per vertex. One Estimate with a nil dst allocates 772
+// bytes per triangle for P1 (100352 triangles) and 1006 for P2 (10082
+// triangles) (BenchmarkEquilibrated's alloc-B/triangle, -benchtime 1x); a
+// dst used again keeps these arrays as scratch, and an Estimate into it
+// allocates about 2 bytes per triangle (the flags of the Dirichlet edges
+// and vertices; 2.0 B/op per triangle at 1e6).
 //
 // Degree of the flux: σ_h ∈ RT_p for u_h ∈ P_p (Ern and Vohralík 2015),
 // because ψ_a a∇u_h ∈ P_p² lies in RT_p and not in RT_{p−1}: with RT_{p−1}

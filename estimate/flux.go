@@ -87,19 +87,22 @@ import (
 // for P1 and by the Dunavant rule of degree 2k + 2 (exact) for P2.
 //
 // Cost, measured (BenchmarkFluxRecovery, the sine problem, uniform meshes,
-// a quiet two-core machine, three runs of go test -run XXX -bench
-// 'FluxRecovery/(P1|spmv)/n=(100000|1000000)$' -benchtime 3x -count 3): P1
-// 279–506 ns per triangle at 1e6 triangles (median 340: about 170 products
-// with the P1 stiffness matrix of the same mesh, which took 1.96–2.01 ns
-// per triangle) and 279–313 at 1e5 (median 283); P2 4,200–8,500 ns
-// per triangle (an earlier run, on a machine shared with other work). The
-// P1 path assembles the system from the two triangles of each edge
-// (flux_p1.go). About a quarter of the P1 time is the source f at six
-// points per triangle for the oscillation; the rest is the assembly, CG (4–7
-// iterations plus two residual products) and the element passes. Memory
-// (an earlier measurement): about 280 bytes per triangle for P1 (element
-// data, matrix, CG vectors), and two int32s per edge for the sides of the
-// edges, and 1,600 for P2, kept in dst's scratch except CG's vectors.
+// a two-core machine shared with other work, six runs of go test -run XXX
+// -bench 'FluxRecovery/(P1|spmv)/n=(100000|1000000)$' -benchtime 4x, whose
+// timings include the first call, which allocates dst's scratch): P1
+// 344–582 ns per triangle at 1e6 triangles (median 475: about 190 products
+// with the P1 stiffness matrix of the same mesh, which took 1.97–2.59 ns
+// per triangle, median 2.5) and 379–1,063 at 1e5 (median 592); P2
+// 6,354 ns per triangle at 1e4 (one run, -benchtime 1x). The P1 path
+// assembles the system, its diagonal and the local guess in one pass over
+// the edges, from the two triangles of each edge (flux_p1.go). The source f
+// at six points per triangle for the oscillation is about a fifth of the
+// P1 time; the rest is the element pass, the assembly, CG (4–7 iterations
+// plus two residual products) and the indicators. Memory: 311 bytes per
+// triangle for P1 (element data, matrix, the sides of the edges, the
+// diagonal and CG's vectors) and 1,604 for P2, allocated by the first call
+// with a dst (-benchtime 1x, 100352 and 10082 triangles) and kept in its
+// scratch; a dst used again allocates about 4 kB per call.
 //
 // The data oscillation is computed as by Residual and Osc2 holds it, by the
 // package convention. The reaction term c u is not part of the flux: with
