@@ -160,12 +160,13 @@ import (
 // goroutines; every value is summed in a fixed order, so the result does
 // not depend on GOMAXPROCS. The cost is linear in the number of triangles
 // for bounded vertex degree. Measured with BenchmarkEquilibrated (uniform
-// meshes of the unit square, a quiet two-core machine, three runs: go test
-// -run XXX -bench 'Equilibrated/(P1|spmv)/n=(100000|1000000)$' -benchtime
-// 3x -count 3): P1 580–651 ns per triangle at 1e6 triangles (median 608;
-// about 300 products with the P1 stiffness matrix of the same mesh, which
-// took 1.99–2.28 ns per triangle) and 788–845 at 1e5; evaluating f
-// at the 12 points of each triangle takes about a tenth of it; the general
+// meshes of the unit square, a two-core machine shared with other work,
+// six runs: go test -run XXX -bench
+// 'Equilibrated/(P1|spmv)/n=(100000|1000000)$' -benchtime 4x): P1 560–923
+// ns per triangle at 1e6 triangles (median 732; about 350 products with
+// the P1 stiffness matrix of the same mesh, which took 1.97–2.43 ns per
+// triangle, median 2.1) and 577–889 at 1e5 (median 829); evaluating f at
+// the 12 points of each triangle takes about a tenth of it; the general
 // path takes some 10 times as long on P1 meshes. P2: 3.26–3.42 µs per
 // triangle at 1e4 triangles (median 3.39; go test -run XXX -bench
 // 'Equilibrated/P2/n=10000$' -benchtime 3x -count 3, on a two-core machine
@@ -174,11 +175,14 @@ import (
 // triangle: for P1, 24 for the three patch contributions to σ_h, 14 of
 // geometry and divergence data, 3 residual parts, 7 terms and 5 for the
 // algebraic bound; for P2, 45, 34 of geometry and data moments, 16 values
-// of f at the quadrature points, 3, 7 and 5; two int32s per triangle; and
-// 2(p+1) per edge and one per vertex. One Estimate with a nil dst
-// allocates 519 bytes per triangle for P1 (100352 triangles) and
-// 1004–1008 for P2 (10082 triangles) (BenchmarkEquilibrated's
-// alloc-B/triangle); a dst used again keeps these arrays as scratch.
+// of f at the quadrature points, 3, 7 and 5; five int32s per triangle (the
+// triangles of each vertex, and two for the algebraic bound); and 2(p+1)
+// per edge and one per vertex. One Estimate with a nil dst allocates 772
+// bytes per triangle for P1 (100352 triangles) and 1006 for P2 (10082
+// triangles) (BenchmarkEquilibrated's alloc-B/triangle, -benchtime 1x); a
+// dst used again keeps these arrays as scratch, and an Estimate into it
+// allocates about 2 bytes per triangle (the flags of the Dirichlet edges
+// and vertices; 2.0 B/op per triangle at 1e6).
 //
 // Degree of the flux: σ_h ∈ RT_p for u_h ∈ P_p (Ern and Vohralík 2015),
 // because ψ_a a∇u_h ∈ P_p² lies in RT_p and not in RT_{p−1}: with RT_{p−1}
@@ -300,7 +304,7 @@ type equilibration struct {
 	co     *fem.RegionTable // the diffusion of each region
 	dirE   []bool           // edge is a Dirichlet edge
 	free   []bool           // vertex touches no Dirichlet edge
-	neu    []float64        // per boundary edge: ∫_E ψ_end g_N L_j ds, end 0 = Edge[2e]; 2(k+1) per edge
+	neu    []float64        // per boundary edge: ∫_E ψ_end g_N L_j ds, end 0 = Edge[2e]; 2(k+1) per edge (not set for interior edges)
 	rt3    []float64        // per triangle and local vertex i: (ψ_i (f − c u_h) − a∇u_h·∇ψ_i, 1)_T
 	rtilde []float64        // per vertex: r_a / (ψ_a, 1)_{ω_a} (0 on Dirichlet vertices)
 	sig    []float64        // per triangle, per local vertex slot: the local coefficients of σ_a
@@ -377,15 +381,16 @@ func (q Equilibrated) equilibrate(u *fem.Function, p *fem.Problem, dst *Indicato
 			eq.free[m.Edge[2*e+1]] = false
 		}
 	}
-	eq.vstart, eq.vtri = m.VertexTriangles()
 	if dst != nil {
 		// Room for the arrays of either path: σ_a, the residual parts, the
 		// terms, f at the rule's points or the data of solveP1, the five of
 		// treeBound (sub, flux, share), r̃ and the Neumann moments;
-		// and the two integer arrays of treeBound.
+		// and the triangles of the vertices and the two integer arrays of
+		// treeBound.
 		eq.arena = dst.scratch(nt*(3*eq.nloc+3+termCount+max(p1Stride, eq.rule.Len()+p2Stride)+5) + nv + 2*(k+1)*ne)
-		eq.iarena = dst.scratchInt(2 * nt)
+		eq.iarena = dst.scratchInt(nv + 2 + 3*nt + 2*nt)
 	}
+	eq.vstart, eq.vtri = m.VertexTrianglesTo(eq.takeInt(nv+2), eq.takeInt(3*nt))
 	if err := eq.dispatch(); err != nil {
 		return nil, err
 	}
@@ -531,9 +536,13 @@ func (eq *equilibration) neumannEdge(e int) (gn func(t float64) (float64, error)
 // Neumann edge, and ∫_E ψ (g_R − α u_h) L_j ds on each Robin edge.
 func (eq *equilibration) neumannData() error {
 	m, k := eq.m, eq.k
+	// Only the entries of the boundary edges are read, and cleared.
 	eq.neu = eq.take(2 * (k + 1) * m.NumEdges())
-	clear(eq.neu)
 	for e := range m.NumEdges() {
+		if !m.IsBoundary(e) {
+			continue
+		}
+		clear(eq.neu[2*e*(k+1) : 2*(e+1)*(k+1)])
 		gn, le := eq.neumannEdge(e)
 		if gn == nil {
 			continue

@@ -2,7 +2,6 @@ package estimate
 
 import (
 	"errors"
-	"fmt"
 	"math"
 
 	"github.com/posteriori-fem/posteriori/internal/parallel"
@@ -145,12 +144,13 @@ func (g *p1Triangle) load(eq *equilibration, t int) {
 
 // edgeSigns returns RTSpace.Sign of the three edges of triangle t.
 func edgeSigns(tri []int32, t int) [3]float64 {
+	v := tri[3*t : 3*t+3 : 3*t+3]
 	var s [3]float64
 	for i := range 3 {
-		s[i] = 1
-		if tri[3*t+(i+1)%3] > tri[3*t+(i+2)%3] {
-			s[i] = -1
-		}
+		// −1 if the edge runs from the higher vertex to the lower, without
+		// a branch: the sign bit of the difference.
+		d := int64(v[(i+2)%3]) - int64(v[(i+1)%3])
+		s[i] = float64(1 + 2*(d>>63))
 	}
 	return s
 }
@@ -196,14 +196,14 @@ func (eq *equilibration) trianglesP1() error {
 			}
 			var mom [6]float64
 			var pr [3]float64
+			region := m.Region[t]
+			sf := 0.0 // not finite if some f is not (or the sum overflows)
 			for q := range nq {
 				l := rule.Bary[3*q : 3*q+3 : 3*q+3]
 				x := l[0]*xs[0] + l[1]*xs[1] + l[2]*xs[2]
 				y := l[0]*ys[0] + l[1]*ys[1] + l[2]*ys[2]
-				f := p.Source(x, y, m.Region[t])
-				if math.IsNaN(f) || math.IsInf(f, 0) {
-					return fmt.Errorf("estimate: Equilibrated: triangle %d at (%g, %g): source f = %g: %w", t, x, y, f, ErrNotFinite)
-				}
+				f := p.Source(x, y, region)
+				sf += f
 				fq[q] = f
 				wq := &wl[q]
 				for i := range mom {
@@ -213,13 +213,18 @@ func (eq *equilibration) trianglesP1() error {
 				pr[1] += f * wq[7]
 				pr[2] += f * wq[8]
 			}
+			if sf-sf != 0 {
+				if err := sourceNotFinite("Equilibrated", rule, fq[:nq], &xs, &ys, t); err != nil {
+					return err
+				}
+			}
 			area := g.area
 			for i := range mom {
 				mom[i] *= area
 			}
 			d := eq.tdat[p1Stride*t : p1Stride*(t+1) : p1Stride*(t+1)]
-			copy(d[tdGs:tdGs+3], g.gs[:])
-			copy(d[tdW:tdW+2], g.what[:])
+			d[tdGs], d[tdGs+1], d[tdGs+2] = g.gs[0], g.gs[1], g.gs[2]
+			d[tdW], d[tdW+1] = g.what[0], g.what[1]
 			d[tdArea] = area
 			// ‖f − Π_1 f‖² and ‖f − Π_0 f‖², as termWork.projectionError.
 			var c [3]float64

@@ -2,7 +2,6 @@ package estimate
 
 import (
 	"fmt"
-	"math"
 )
 
 // Kinds of the edges of a patch at its vertex.
@@ -241,10 +240,14 @@ func (w *p1Patch) solve(a int) error {
 		return fmt.Errorf("estimate: Equilibrated: the patch problem of vertex %d is singular: %w", a, ErrNotFinite)
 	}
 	cholSolve(w.k, nz, w.b, w.b)
+	// One check of the sum: it is not finite if a value is not (or if the
+	// sum overflows, which σ_a's values would then do as well).
+	sb := 0.0
 	for _, v := range w.b {
-		if math.IsNaN(v) || math.IsInf(v, 0) {
-			return fmt.Errorf("estimate: Equilibrated: the patch problem of vertex %d: %w", a, ErrNotFinite)
-		}
+		sb += v
+	}
+	if sb-sb != 0 {
+		return fmt.Errorf("estimate: Equilibrated: the patch problem of vertex %d: %w", a, ErrNotFinite)
 	}
 	nloc := eq.nloc
 	for pt, t := range tris {

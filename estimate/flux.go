@@ -87,19 +87,22 @@ import (
 // for P1 and by the Dunavant rule of degree 2k + 2 (exact) for P2.
 //
 // Cost, measured (BenchmarkFluxRecovery, the sine problem, uniform meshes,
-// a quiet two-core machine, three runs of go test -run XXX -bench
-// 'FluxRecovery/(P1|spmv)/n=(100000|1000000)$' -benchtime 3x -count 3): P1
-// 279–506 ns per triangle at 1e6 triangles (median 340: about 170 products
-// with the P1 stiffness matrix of the same mesh, which took 1.96–2.01 ns
-// per triangle) and 279–313 at 1e5 (median 283); P2 4,200–8,500 ns
-// per triangle (an earlier run, on a machine shared with other work). The
-// P1 path assembles the system from the two triangles of each edge
-// (flux_p1.go). About a quarter of the P1 time is the source f at six
-// points per triangle for the oscillation; the rest is the assembly, CG (4–7
-// iterations plus two residual products) and the element passes. Memory
-// (an earlier measurement): about 280 bytes per triangle for P1 (element
-// data, matrix, CG vectors), and two int32s per edge for the sides of the
-// edges, and 1,600 for P2, kept in dst's scratch except CG's vectors.
+// a two-core machine shared with other work, six runs of go test -run XXX
+// -bench 'FluxRecovery/(P1|spmv)/n=(100000|1000000)$' -benchtime 4x, whose
+// timings include the first call, which allocates dst's scratch): P1
+// 344–582 ns per triangle at 1e6 triangles (median 475: about 190 products
+// with the P1 stiffness matrix of the same mesh, which took 1.97–2.59 ns
+// per triangle, median 2.5) and 379–1,063 at 1e5 (median 592); P2
+// 6,354 ns per triangle at 1e4 (one run, -benchtime 1x). The P1 path
+// assembles the system, its diagonal and the local guess in one pass over
+// the edges, from the two triangles of each edge (flux_p1.go). The source f
+// at six points per triangle for the oscillation is about a fifth of the
+// P1 time; the rest is the element pass, the assembly, CG (4–7 iterations
+// plus two residual products) and the indicators. Memory: 311 bytes per
+// triangle for P1 (element data, matrix, the sides of the edges, the
+// diagonal and CG's vectors) and 1,604 for P2, allocated by the first call
+// with a dst (-benchtime 1x, 100352 and 10082 triangles) and kept in its
+// scratch; a dst used again allocates about 4 kB per call.
 //
 // The data oscillation is computed as by Residual and Osc2 holds it, by the
 // package convention. The reaction term c u is not part of the flux: with
@@ -168,6 +171,8 @@ type projection struct {
 	loc   []float64 // per triangle: the element matrix (nloc²) and right-hand side (nloc)
 	b, x  []float64
 	a     *sparse.CSR
+	diag  []float64 // the diagonal of a, for the Jacobi preconditioner
+	cg    []float64 // CG's work vectors (4n)
 	// local writes ‖a^{−½}(σ + a∇u_h)‖²_T per triangle (localGeneral,
 	// localP1).
 	local func(eta2 []float64)
@@ -211,11 +216,11 @@ func (fr FluxRecovery) project(dst *Indicators, u *fem.Function, p *fem.Problem)
 	if tol == 0 {
 		tol = defaultFluxTol
 	}
-	jac, err := sparse.NewJacobi(pr.a)
+	jac, err := sparse.NewJacobiDiag(pr.diag)
 	if err != nil {
 		return nil, FluxStats{}, fmt.Errorf("estimate: FluxRecovery: %w", err)
 	}
-	res, err := sparse.CG(pr.a, pr.b, pr.x, jac, sparse.CGSettings{Tol: fluxCGTol, EnergyTol: tol * st.Guess, MaxIter: 1000 + pr.n/10})
+	res, err := sparse.CG(pr.a, pr.b, pr.x, jac, sparse.CGSettings{Tol: fluxCGTol, EnergyTol: tol * st.Guess, MaxIter: 1000 + pr.n/10, Work: pr.cg})
 	st.Iterations = res.Iterations
 	if err != nil {
 		return nil, FluxStats{}, fmt.Errorf("estimate: FluxRecovery: projection: %w", err)
@@ -238,14 +243,15 @@ func (fr FluxRecovery) system(dst *Indicators, u *fem.Function, p *fem.Problem) 
 	pr := &projection{u: u, p: p, m: m, rt: rt, k: k, nloc: rt.LocalDOFs(), n: rt.NumDOF(), rtab: fem.NewRegionTable(p)}
 	nt, ne := m.NumTriangles(), m.NumEdges()
 	nl := pr.nloc
-	// Scratch: element data, then b and x, then the values of the matrix.
+	// Scratch: element data; b, x, the diagonal and CG's four work
+	// vectors; the values of the matrix.
 	rowLen := 2*nl - (k + 1)
 	nnzMax := ne*(k+1)*rowLen + nt*rt.InteriorDOFs()*nl
-	work := dst.scratch(nt*(nl*nl+nl) + 2*pr.n + nnzMax)
-	pr.loc = work[:nt*(nl*nl+nl)]
-	pr.b = work[len(pr.loc) : len(pr.loc)+pr.n]
-	pr.x = work[len(pr.loc)+pr.n : len(pr.loc)+2*pr.n]
-	vals := work[len(pr.loc)+2*pr.n:]
+	work := dst.scratch(nt*(nl*nl+nl) + 7*pr.n + nnzMax)
+	pr.loc, work = work[:nt*(nl*nl+nl)], work[nt*(nl*nl+nl):]
+	pr.b, pr.x, pr.diag = work[:pr.n], work[pr.n:2*pr.n], work[2*pr.n:3*pr.n]
+	pr.cg, work = work[3*pr.n:7*pr.n], work[7*pr.n:]
+	vals := work
 	fast := k == 0 && !fr.general
 	nside := 0
 	if fast {
@@ -275,7 +281,6 @@ func (fr FluxRecovery) system(dst *Indicators, u *fem.Function, p *fem.Problem) 
 			return nil, err
 		}
 		pr.assembleP1(rowPtr, cols, vals, sides)
-		pr.guessP1(sides)
 		pr.local = pr.localP1
 	} else {
 		if err := pr.elements(dst); err != nil {
@@ -508,8 +513,8 @@ func (pr *projection) freeCols(t, skip int) int32 {
 	return c
 }
 
-// assemble builds the matrix and right-hand side of the projection in the
-// given arrays: rows of the fixed Neumann moments are m_ii x_i = m_ii g_i,
+// assemble builds the matrix, its diagonal and the right-hand side of the
+// projection in the given arrays: rows of the fixed Neumann moments are m_ii x_i = m_ii g_i,
 // and the fixed columns of the other rows move to the right-hand side.
 func (pr *projection) assemble(rowPtr, cols []int32, vals []float64) {
 	n := pr.n
@@ -552,6 +557,7 @@ func (pr *projection) assemble(rowPtr, cols []int32, vals []float64) {
 		return nil
 	})
 	pr.a = &sparse.CSR{Rows: n, Cols: n, RowPtr: rowPtr, Col: cols, Val: vals}
+	pr.a.Diagonal(pr.diag)
 }
 
 // guess sets the free unknowns of x to the local guess: inside each

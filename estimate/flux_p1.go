@@ -81,11 +81,12 @@ func (pr *projection) elementsP1(dst *Indicators) error {
 	})
 }
 
-// assembleP1 is assemble for RT_0: the row of a free edge e holds e and
-// the free edges of its triangles other than e (at most five entries).
-// It writes, for each edge e, 3t + i for its triangles t = EdgeTri[2e] and
+// assembleP1 is assemble followed by guess, for RT_0: the row of a free
+// edge e holds e and the free edges of its triangles other than e (at most
+// five entries), and its guess comes from the same two sides. It writes,
+// for each edge e, 3t + i for its triangles t = EdgeTri[2e] and
 // EdgeTri[2e+1], with i the local index of e in t, into sides[2e] and
-// sides[2e+1] (−1 for the missing side of a boundary edge), for guessP1.
+// sides[2e+1] (−1 for the missing side of a boundary edge).
 func (pr *projection) assembleP1(rowPtr, cols []int32, vals []float64, sides []int32) {
 	m, n := pr.m, pr.n
 	triEdge, fixed := m.TriEdge, pr.fixed
@@ -131,17 +132,22 @@ func (pr *projection) assembleP1(rowPtr, cols []int32, vals []float64, sides []i
 				d := pr.loc[12*(sd/3)+4*(sd%3)]
 				cols[o], vals[o] = int32(r), d
 				pr.b[r] = d * pr.x[r]
+				pr.diag[r] = d
 				continue
 			}
 			// The entries and the right-hand side in the order of rowOf: the
 			// triangles in the order of EdgeTri, their DOFs in local order.
+			// The guess as in guess: the coefficients c of the sides
+			// weighted by their diagonal entries w.
 			nr, diag, rhs := 1, 0.0, 0.0
-			for _, sd := range sides[2*r : 2*r+2] {
+			var w, c [2]float64
+			for s, sd := range sides[2*r : 2*r+2] {
 				if sd < 0 {
 					continue
 				}
 				t, l := sd/3, sd%3
 				loc := pr.loc[12*t : 12*t+12 : 12*t+12]
+				w[s], c[s] = loc[4*l], loc[9+l]
 				for j := range int32(3) {
 					v := loc[3*l+j]
 					rhs += v * loc[9+j]
@@ -164,32 +170,16 @@ func (pr *projection) assembleP1(rowPtr, cols []int32, vals []float64, sides []i
 				cols[o+i], vals[o+i] = en.col, en.val
 			}
 			pr.b[r] = rhs
+			pr.diag[r] = diag
+			if sides[2*r+1] < 0 {
+				pr.x[r] = c[0]
+			} else {
+				pr.x[r] = (w[0]*c[0] + w[1]*c[1]) / (w[0] + w[1])
+			}
 		}
 		return nil
 	})
 	pr.a = &sparse.CSR{Rows: n, Cols: n, RowPtr: rowPtr, Col: cols, Val: vals}
-}
-
-// guessP1 is guess for RT_0.
-func (pr *projection) guessP1(sides []int32) {
-	_ = parallel.For(pr.n, 4096, func(lo, hi int) error {
-		for r := lo; r < hi; r++ {
-			if pr.fixed[r] != 0 {
-				continue
-			}
-			s1, s2 := sides[2*r], sides[2*r+1]
-			l1 := pr.loc[12*(s1/3) : 12*(s1/3)+12]
-			w1, c1 := l1[4*(s1%3)], l1[9+s1%3]
-			if s2 < 0 {
-				pr.x[r] = c1
-				continue
-			}
-			l2 := pr.loc[12*(s2/3) : 12*(s2/3)+12]
-			w2, c2 := l2[4*(s2%3)], l2[9+s2%3]
-			pr.x[r] = (w1*c1 + w2*c2) / (w1 + w2)
-		}
-		return nil
-	})
 }
 
 // localP1 is local for RT_0.

@@ -12,8 +12,10 @@ import (
 // Indicators holds the error indicators of a discrete solution, one per
 // triangle, stored squared. Used as the dst of an Estimator, it also keeps
 // the estimator's scratch arrays (up to about 50 bytes per triangle for
-// Residual and Recovery, 440 (P1) and 650 (P2) for Equilibrated), so that
-// the next estimate into it does not allocate.
+// Residual and Recovery; 295 (P1) and 1,583 (P2) for FluxRecovery, 754
+// (P1) and 979 (P2) for Equilibrated, measured on a uniform mesh of 20,000
+// triangles), so that the next estimate into it allocates little or
+// nothing.
 type Indicators struct {
 	Eta2 []float64 // η_T² per triangle
 	Osc2 []float64 // osc_T² per triangle: data oscillation h_T² ‖f − Π_{p−1} f‖²_T

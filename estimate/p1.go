@@ -123,16 +123,42 @@ func oscP0(rule *quadrature.Triangle, f []float64) float64 {
 // that names the triangle and the point (the caller adds its context).
 func osc2P0(p *fem.Problem, rule *quadrature.Triangle, xs, ys *[3]float64, region int32, k int, area float64) (float64, error) {
 	var fq [quadrature.MaxTrianglePoints]float64
+	sf := 0.0 // not finite if some f is not (or the sum overflows)
 	for q := range rule.Len() {
 		l0, l1, l2 := rule.Bary[3*q], rule.Bary[3*q+1], rule.Bary[3*q+2]
 		px, py := l0*xs[0]+l1*xs[1]+l2*xs[2], l0*ys[0]+l1*ys[1]+l2*ys[2]
 		fq[q] = p.Source(px, py, region)
-		if math.IsNaN(fq[q]) || math.IsInf(fq[q], 0) {
-			return 0, fmt.Errorf("triangle %d at (%g, %g): source f = %g: %w", k, px, py, fq[q], ErrNotFinite)
+		sf += fq[q]
+	}
+	if sf-sf != 0 {
+		if err := sourceNotFinite("", rule, fq[:rule.Len()], xs, ys, k); err != nil {
+			return 0, err
 		}
 	}
 	h := diameter(xs, ys)
 	return h * h * (oscP0(rule, fq[:rule.Len()]) * area), nil
+}
+
+// sourceNotFinite returns the error for the first value of f that is not
+// finite among the values fq at the points of rule on triangle k with
+// vertices xs, ys, or nil if all are finite. The callers sum the values
+// and look here only when the sum is not finite, so that the common case
+// costs one check per triangle. The message starts with the estimator's
+// name if it is not empty.
+func sourceNotFinite(name string, rule *quadrature.Triangle, fq []float64, xs, ys *[3]float64, k int) error {
+	for q, f := range fq {
+		if !math.IsNaN(f) && !math.IsInf(f, 0) {
+			continue
+		}
+		l0, l1, l2 := rule.Bary[3*q], rule.Bary[3*q+1], rule.Bary[3*q+2]
+		px, py := l0*xs[0]+l1*xs[1]+l2*xs[2], l0*ys[0]+l1*ys[1]+l2*ys[2]
+		err := fmt.Errorf("triangle %d at (%g, %g): source f = %g: %w", k, px, py, f, ErrNotFinite)
+		if name != "" {
+			err = fmt.Errorf("estimate: %s: %w", name, err)
+		}
+		return err
+	}
+	return nil
 }
 
 // localEdge returns i such that edge e is edge i (opposite vertex i) of

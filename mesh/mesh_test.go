@@ -3,6 +3,7 @@ package mesh
 import (
 	"errors"
 	"math"
+	"slices"
 	"testing"
 )
 
@@ -175,6 +176,18 @@ func TestVertexTriangles(t *testing.T) {
 	}
 	if int(start[m.NumVertices()]) != 3*m.NumTriangles() {
 		t.Fatalf("%d entries, want %d", start[m.NumVertices()], 3*m.NumTriangles())
+	}
+	// Into buffers with room and stale values: the same lists.
+	s2, t2 := make([]int32, m.NumVertices()+9), make([]int32, 3*m.NumTriangles()+5)
+	for i := range s2 {
+		s2[i] = -7
+	}
+	for i := range t2 {
+		t2[i] = 99
+	}
+	s2, t2 = m.VertexTrianglesTo(s2, t2)
+	if !slices.Equal(s2, start) || !slices.Equal(t2, tri) {
+		t.Fatalf("VertexTrianglesTo into used buffers: start %v, tri %v; want %v, %v", s2, t2, start, tri)
 	}
 	// Boundary vertices, by the geometry of the L-shape.
 	bv := m.BoundaryVertices()

@@ -4,23 +4,40 @@ package mesh
 // form: the triangles that contain vertex v are tri[start[v]:start[v+1]],
 // in ascending order. It is linear in the size of the mesh.
 func (m *Mesh) VertexTriangles() (start, tri []int32) {
+	return m.VertexTrianglesTo(nil, nil)
+}
+
+// VertexTrianglesTo is VertexTriangles writing into start and tri, which
+// it resizes to NumVertices()+1 and 3 NumTriangles(), reusing their
+// storage where it has room, and returns; it allocates nothing when both
+// have room.
+func (m *Mesh) VertexTrianglesTo(start, tri []int32) ([]int32, []int32) {
 	nv, nt := m.NumVertices(), m.NumTriangles()
-	start = make([]int32, nv+1)
+	if cap(start) < nv+2 {
+		start = make([]int32, nv+2)
+	}
+	start = start[:nv+2]
+	clear(start)
+	// Counts at v+2, offsets at v+1 after the prefix sums, and start[v+1]
+	// advanced past the triangles of v by the fill, which leaves the
+	// offsets at v.
 	for _, v := range m.Tri {
-		start[v+1]++
+		start[v+2]++
 	}
 	for v := range nv {
-		start[v+1] += start[v]
+		start[v+2] += start[v+1]
 	}
-	tri = make([]int32, 3*nt)
-	fill := append([]int32(nil), start[:nv]...)
+	if cap(tri) < 3*nt {
+		tri = make([]int32, 3*nt)
+	}
+	tri = tri[:3*nt]
 	for k := range nt {
 		for _, v := range m.Tri[3*k : 3*k+3] {
-			tri[fill[v]] = int32(k)
-			fill[v]++
+			tri[start[v+1]] = int32(k)
+			start[v+1]++
 		}
 	}
-	return start, tri
+	return start[:nv+1], tri
 }
 
 // BoundaryVertices reports, for each vertex, whether it lies on a boundary

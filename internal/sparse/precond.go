@@ -41,21 +41,36 @@ func NewJacobi(m *CSR) (_ *Jacobi, err error) {
 	if m.Rows != m.Cols {
 		return nil, fmt.Errorf("%w: Jacobi needs a square matrix, have %dx%d", ErrDims, m.Rows, m.Cols)
 	}
-	inv := m.Diagonal(nil)
-	for i, d := range inv {
+	return jacobiOf(m.Diagonal(nil))
+}
+
+// NewJacobiDiag returns the Jacobi preconditioner of a matrix whose
+// diagonal entries are diag, for a caller that has them at hand (and a
+// buffer to spare): it overwrites diag with their reciprocals and keeps
+// it, so it allocates nothing but the Jacobi value. Its errors are those
+// of NewJacobi for the diagonal entries.
+func NewJacobiDiag(diag []float64) (_ *Jacobi, err error) {
+	defer inContext("NewJacobiDiag", &err)
+	return jacobiOf(diag)
+}
+
+// jacobiOf checks the diagonal entries d and replaces them with their
+// reciprocals.
+func jacobiOf(d []float64) (*Jacobi, error) {
+	for i, v := range d {
 		switch {
-		case math.IsNaN(d) || math.IsInf(d, 0):
-			return nil, &EntryError{Row: i, Col: i, Err: fmt.Errorf("%w: diagonal entry of row %d is %g", ErrNotFinite, i, d)}
-		case d <= 0:
-			return nil, &EntryError{Row: i, Col: i, Err: fmt.Errorf("%w: diagonal entry of row %d is %g", ErrNotPositive, i, d)}
+		case math.IsNaN(v) || math.IsInf(v, 0):
+			return nil, &EntryError{Row: i, Col: i, Err: fmt.Errorf("%w: diagonal entry of row %d is %g", ErrNotFinite, i, v)}
+		case v <= 0:
+			return nil, &EntryError{Row: i, Col: i, Err: fmt.Errorf("%w: diagonal entry of row %d is %g", ErrNotPositive, i, v)}
 		}
-		r := 1 / d
+		r := 1 / v
 		if math.IsInf(r, 0) {
-			return nil, &EntryError{Row: i, Col: i, Err: fmt.Errorf("%w: reciprocal of diagonal entry %g of row %d overflows", ErrNotFinite, d, i)}
+			return nil, &EntryError{Row: i, Col: i, Err: fmt.Errorf("%w: reciprocal of diagonal entry %g of row %d overflows", ErrNotFinite, v, i)}
 		}
-		inv[i] = r
+		d[i] = r
 	}
-	return &Jacobi{inv: inv}, nil
+	return &Jacobi{inv: d}, nil
 }
 
 // Len returns the number of unknowns the preconditioner is built for. CG
