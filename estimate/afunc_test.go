@@ -228,3 +228,39 @@ func TestAFuncNotFinite(t *testing.T) {
 		}
 	}
 }
+
+// A source whose values are finite but whose squares are beyond the range
+// of float64 (its largest finite value is about 1.8e308, IEEE 754) is an
+// error wrapping ErrNotFinite from every estimator, never an estimate of
+// +Inf; a source of 1e150, whose squares fit, gives finite estimates.
+func TestSourceSquaresOverflow(t *testing.T) {
+	t.Parallel()
+	m, _ := mesh.Rectangle(0, 0, 1, 1, 4, 4)
+	type named struct {
+		name string
+		est  Estimator
+	}
+	var ests []named
+	for _, tc := range estimators {
+		ests = append(ests, named{tc.name, tc.est})
+	}
+	ests = append(ests, named{"flux", FluxRecovery{}}, named{"equilibrated", Equilibrated{}})
+	for _, deg := range []int{1, 2} {
+		u := noisy(t, m, deg, rand.New(rand.NewPCG(5, 2)))
+		for _, big := range []float64{1e308, 1e150} {
+			_, p := sine()
+			p.F = func(x, y float64) float64 { return big / 2 * (1 + x*y) } // finite values
+			for _, tc := range ests {
+				in, err := tc.est.Estimate(nil, u, p)
+				switch {
+				case big > 1e200 && (!errors.Is(err, ErrNotFinite) || in != nil):
+					t.Errorf("P%d %s, f ~ %g: got %v, %v; want nil, ErrNotFinite", deg, tc.name, big, in, err)
+				case big < 1e200 && err != nil:
+					t.Errorf("P%d %s, f ~ %g: %v", deg, tc.name, big, err)
+				case big < 1e200 && !(in.Total() < math.Inf(1)):
+					t.Errorf("P%d %s, f ~ %g: total %g", deg, tc.name, big, in.Total())
+				}
+			}
+		}
+	}
+}

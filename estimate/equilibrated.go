@@ -273,6 +273,9 @@ func (q Equilibrated) EstimateParts(dst *Indicators, u *fem.Function, p *fem.Pro
 	if err != nil {
 		return nil, EquilibratedParts{}, err
 	}
+	if err := finiteIndicators("Equilibrated", dst); err != nil {
+		return nil, EquilibratedParts{}, err
+	}
 	dst.Algebraic = parts.Algebraic
 	return dst, parts, nil
 }

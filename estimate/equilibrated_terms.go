@@ -67,6 +67,9 @@ func (eq *equilibration) indicators(dst *Indicators) (EquilibratedParts, error) 
 	parts.Neumann = math.Sqrt(parts.Neumann)
 	parts.Residual = math.Sqrt(parts.Residual)
 	parts.Dirichlet = math.Sqrt(parts.Dirichlet)
+	if rho2-rho2 != 0 {
+		return EquilibratedParts{}, fmt.Errorf("estimate: Equilibrated: the algebraic residual ‖ρ‖² = %g is beyond the range of float64 (the data or the solution are too large): %w", rho2, ErrNotFinite)
+	}
 	var tshare []float64 // the tree bound's shares, when it is the smaller
 	if rho2 > 0 {
 		best := math.Inf(1)
@@ -91,7 +94,7 @@ func (eq *equilibration) indicators(dst *Indicators) (EquilibratedParts, error) 
 		case tshare != nil:
 			e2 += share * tshare[t]
 		case rho2 > 0:
-			e2 += share * v[5] / rho2
+			e2 += share * (v[5] / rho2) // the ratio first: share·v[5] may overflow
 		}
 		dst.Eta2[t] = e2
 		dst.Osc2[t] = v[6]

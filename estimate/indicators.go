@@ -32,6 +32,9 @@ type Indicators struct {
 	// same dst do not allocate.
 	work  []float64
 	iwork []int32
+	// checked is set by a path that checked its values as it wrote them
+	// (see finiteIndicators); prepare clears it.
+	checked bool
 }
 
 // scratch returns n float64s of scratch, not cleared.
@@ -104,7 +107,47 @@ func estimateBy(name string, dst *Indicators, u *fem.Function, p *fem.Problem, r
 	if err := run(dst, u, p); err != nil {
 		return nil, err
 	}
+	if err := finiteIndicators(name, dst); err != nil {
+		return nil, err
+	}
 	return dst, nil
+}
+
+// finiteIndicators returns an error wrapping ErrNotFinite, naming the
+// first triangle, if an indicator η_T² or an oscillation term is not
+// finite: data whose terms are finite can still have squares beyond the
+// range of float64 (a source of 1e308 gives η_T² = +Inf), and such a value
+// must not be returned as an estimate. The triangles are checked in
+// parallel chunks (see finiteChunk); the lowest bad one is reported. A
+// path that checks its chunks as it writes them sets dst.checked, and then
+// the scan is skipped.
+func finiteIndicators(name string, dst *Indicators) error {
+	if dst.checked {
+		return nil
+	}
+	return parallel.For(len(dst.Eta2), 1<<15, func(lo, hi int) error {
+		return finiteChunk(name, dst, lo, hi)
+	})
+}
+
+// finiteChunk is the check of finiteIndicators for triangles lo to hi−1:
+// one sum, and a search for the culprit only if the sum is not finite.
+func finiteChunk(name string, dst *Indicators, lo, hi int) error {
+	e2, o2 := dst.Eta2[lo:hi], dst.Osc2[lo:hi]
+	o2 = o2[:len(e2)]
+	s := 0.0
+	for k, v := range e2 {
+		s += v + o2[k]
+	}
+	if s-s == 0 {
+		return nil // every term is finite (and their sum too)
+	}
+	for k, v := range e2 {
+		if v-v != 0 || o2[k]-o2[k] != 0 {
+			return fmt.Errorf("estimate: %s: triangle %d: η² = %g, oscillation %g (the data are too large for the squares of float64): %w", name, lo+k, v, o2[k], ErrNotFinite)
+		}
+	}
+	return fmt.Errorf("estimate: %s: the indicators of triangles %d to %d sum beyond the range of float64: %w", name, lo, hi-1, ErrNotFinite)
 }
 
 // prepare checks the arguments and sizes dst for u's mesh.
@@ -149,5 +192,6 @@ func prepare(name string, dst *Indicators, u *fem.Function, p *fem.Problem) (*In
 	dst.Eta2 = resize(dst.Eta2, nt)
 	dst.Osc2 = resize(dst.Osc2, nt)
 	dst.Algebraic = 0
+	dst.checked = false
 	return dst, nil
 }

@@ -116,6 +116,7 @@ func residualP1(dst *Indicators, u *fem.Function, p *fem.Problem) error {
 		return err
 	}
 	triEdge := m.TriEdge
+	dst.checked = true // each chunk below, while in cache
 	return parallel.For(nt, 4096, func(lo, hi int) error {
 		for k := lo; k < hi; k++ {
 			t := triEdge[3*k : 3*k+3 : 3*k+3]
@@ -125,7 +126,7 @@ func residualP1(dst *Indicators, u *fem.Function, p *fem.Problem) error {
 			}
 			dst.Eta2[k] = eta + jump[t[0]] + jump[t[1]] + jump[t[2]]
 		}
-		return nil
+		return finiteChunk("Residual", dst, lo, hi)
 	})
 }
 
