@@ -223,11 +223,12 @@
 // only where the new matrix needs more room, and then by one with half as
 // much room again (spare.Headroom), so that a sequence of matrices growing
 // by about 1.3 times per step reallocates at about every other step. New
-// allocates 453 MB on the P1 Laplacian of the unit square with 10⁶
-// unknowns, a Reset for the same matrix 0.8 MB; on a quiet two-core
-// machine (three runs each) New took 333–388 ns/row (median 347; 73–110
-// products with the matrix timed in the same run) and Reset 327–382
-// (median 330; 67–77 products):
+// allocates 413 MB on the P1 Laplacian of the unit square with 10⁶
+// unknowns (the filtered matrix of its finest level is the matrix itself,
+// see strength), a Reset for the same matrix 0.8 MB; on the two-core
+// machine with no other work (six runs each) New took 404–594 ns/row
+// (median 488; 74–102 products with the matrix timed in the same run) and
+// Reset 384–399 (median 388; 67–73 products):
 //
 //	go test -run XXX -bench 'New/square/n=1e\+06' -benchtime 3x -count 3 ./internal/amg
 //
