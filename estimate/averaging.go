@@ -127,7 +127,9 @@ func averagingP1(dst *Indicators, u *fem.Function, p *fem.Problem) error {
 	if several {
 		sides = interfaceSides(region, tg, slices.Concat(over...))
 	}
-	// 3. η_T² and the oscillation.
+	// 3. η_T² and the oscillation, each chunk checked while in cache (see
+	// finiteIndicators).
+	dst.checked = true
 	return parallel.For(nt, 2048, func(lo, hi int) error {
 		for k := lo; k < hi; k++ {
 			area, gx, gy := tg[3*k], tg[3*k+1], tg[3*k+2]
@@ -164,7 +166,7 @@ func averagingP1(dst *Indicators, u *fem.Function, p *fem.Problem) error {
 			}
 			dst.Osc2[k] = o
 		}
-		return nil
+		return finiteChunk("Recovery", dst, lo, hi)
 	})
 }
 
