@@ -161,6 +161,9 @@ func (d DualWeighted) Estimate(dst *GoalIndicators, u, z *fem.Function, p *fem.P
 		if err := goalFast(dst, u, y, p, rec, rule, line); err != nil {
 			return nil, err
 		}
+		if err := finiteGoal(dst); err != nil {
+			return nil, err
+		}
 		return dst, nil
 	}
 	w := goalWeights{deg: deg, rec: rec}
@@ -178,7 +181,18 @@ func (d DualWeighted) Estimate(dst *GoalIndicators, u, z *fem.Function, p *fem.P
 	if err != nil {
 		return nil, err
 	}
+	if err := finiteGoal(dst); err != nil {
+		return nil, err
+	}
 	return dst, nil
+}
+
+// finiteGoal returns an error wrapping ErrNotFinite, naming the first
+// triangle, if a ρ_T or ι_T² is not finite (see finiteIndicators).
+func finiteGoal(dst *GoalIndicators) error {
+	return parallel.For(len(dst.Rho), 1<<15, func(lo, hi int) error {
+		return finiteTerms("DualWeighted", "ρ", "ι²", dst.Rho, dst.Mark2, lo, hi)
+	})
 }
 
 // goalWeights evaluates ζ = y⁺ − I_h y⁺ on a triangle.

@@ -1,6 +1,7 @@
 package estimate
 
 import (
+	"errors"
 	"fmt"
 	"math"
 	"runtime"
@@ -141,6 +142,39 @@ func TestDualWeightedFastProcs(t *testing.T) {
 					if in.Rho[k] != ref.Rho[k] || in.Mark2[k] != ref.Mark2[k] {
 						t.Fatalf("%s P%d GOMAXPROCS=%d: triangle %d: (%g, %g), GOMAXPROCS=1 (%g, %g)", c.name, deg, procs, k, in.Rho[k], in.Mark2[k], ref.Rho[k], ref.Mark2[k])
 					}
+				}
+			}
+		}
+	}
+}
+
+// A source whose values are finite but whose squares are beyond the range
+// of float64 (IEEE 754: about 1.8e308) is an error wrapping ErrNotFinite
+// from both paths of DualWeighted, with no indicators; a source of 1e150
+// gives finite ones.
+func TestDualWeightedSquaresOverflow(t *testing.T) {
+	t.Parallel()
+	m, _ := mesh.Rectangle(0, 0, 1, 1, 4, 4)
+	g := fem.BoxMean{X0: 0.3, Y0: 0.1, X1: 0.8, Y1: 0.45}
+	for _, deg := range []int{1, 2} {
+		s, _ := fem.NewSpace(m, deg)
+		for _, big := range []float64{1e308, 1e150} {
+			_, p := known.Sine()
+			p.F = func(x, y float64) float64 { return big / 2 * (1 + x*y) }
+			u, _, err := fem.Solve(s, fem.Dual(p, g)) // any finite u_h will do
+			if err != nil {
+				t.Fatal(err)
+			}
+			z, _ := fem.Interpolate(s, func(x, y float64) float64 { return x * (1 - x) * y * (1 - y) })
+			for _, general := range []bool{false, true} {
+				gi, err := DualWeighted{Goal: g, general: general}.Estimate(nil, u, z, p)
+				switch {
+				case big > 1e200 && (!errors.Is(err, ErrNotFinite) || gi != nil):
+					t.Errorf("P%d general=%v f ~ %g: got %v; want ErrNotFinite", deg, general, big, err)
+				case big < 1e200 && err != nil:
+					t.Errorf("P%d general=%v f ~ %g: %v", deg, general, big, err)
+				case big < 1e200 && !(math.Abs(gi.Total()) < math.Inf(1)):
+					t.Errorf("P%d general=%v f ~ %g: total %g", deg, general, big, gi.Total())
 				}
 			}
 		}

@@ -130,24 +130,31 @@ func finiteIndicators(name string, dst *Indicators) error {
 	})
 }
 
-// finiteChunk is the check of finiteIndicators for triangles lo to hi−1:
-// one sum, and a search for the culprit only if the sum is not finite.
+// finiteChunk is the check of finiteIndicators for triangles lo to hi−1.
 func finiteChunk(name string, dst *Indicators, lo, hi int) error {
-	e2, o2 := dst.Eta2[lo:hi], dst.Osc2[lo:hi]
-	o2 = o2[:len(e2)]
+	return finiteTerms(name, "η²", "oscillation", dst.Eta2, dst.Osc2, lo, hi)
+}
+
+// finiteTerms returns an error wrapping ErrNotFinite if x[k] or y[k] (the
+// terms called xName and yName) is not finite for some triangle k in
+// [lo, hi): one sum, and a search for the culprit only if the sum is not
+// finite.
+func finiteTerms(name, xName, yName string, x, y []float64, lo, hi int) error {
+	xs, ys := x[lo:hi], y[lo:hi]
+	ys = ys[:len(xs)]
 	s := 0.0
-	for k, v := range e2 {
-		s += v + o2[k]
+	for k, v := range xs {
+		s += v + ys[k]
 	}
 	if s-s == 0 {
 		return nil // every term is finite (and their sum too)
 	}
-	for k, v := range e2 {
-		if v-v != 0 || o2[k]-o2[k] != 0 {
-			return fmt.Errorf("estimate: %s: triangle %d: η² = %g, oscillation %g (the data are too large for the squares of float64): %w", name, lo+k, v, o2[k], ErrNotFinite)
+	for k, v := range xs {
+		if v-v != 0 || ys[k]-ys[k] != 0 {
+			return fmt.Errorf("estimate: %s: triangle %d: %s = %g, %s %g (the data are too large for the squares of float64): %w", name, lo+k, xName, v, yName, ys[k], ErrNotFinite)
 		}
 	}
-	return fmt.Errorf("estimate: %s: the indicators of triangles %d to %d sum beyond the range of float64: %w", name, lo, hi-1, ErrNotFinite)
+	return fmt.Errorf("estimate: %s: the terms of triangles %d to %d sum beyond the range of float64: %w", name, lo, hi-1, ErrNotFinite)
 }
 
 // prepare checks the arguments and sizes dst for u's mesh.
