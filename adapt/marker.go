@@ -3,6 +3,8 @@ package adapt
 import (
 	"math"
 	"sync"
+
+	"github.com/posteriori-fem/posteriori/internal/spare"
 )
 
 // Marker selects triangles for refinement from squared error indicators
@@ -44,10 +46,10 @@ func precedes(a float64, i int32, b float64, j int32) bool {
 
 // resize returns dst with length n and every entry false.
 func resize(dst []bool, n int) []bool {
-	if cap(dst) < n || dst == nil {
+	if dst == nil {
 		return make([]bool, n)
 	}
-	dst = dst[:n]
+	dst = spare.Resize(dst, n)
 	clear(dst)
 	return dst
 }

@@ -7,6 +7,7 @@ import (
 
 	"github.com/posteriori-fem/posteriori/fem"
 	"github.com/posteriori-fem/posteriori/internal/parallel"
+	"github.com/posteriori-fem/posteriori/internal/spare"
 )
 
 // Indicators holds the error indicators of a discrete solution, one per
@@ -84,14 +85,9 @@ func sum(v []float64) float64 {
 	return s
 }
 
-// resize returns dst with length n, reusing its storage if it has room;
-// the values are not cleared.
-func resize[T any](dst []T, n int) []T {
-	if cap(dst) < n {
-		return make([]T, n)
-	}
-	return dst[:n]
-}
+// resize is spare.Resize: dst with length n, reusing its storage if it
+// has room; the values are not cleared.
+func resize[T any](dst []T, n int) []T { return spare.Resize(dst, n) }
 
 // path is one implementation of an estimator, run on arguments that
 // prepare has checked: it fills dst for u and p.

@@ -6,6 +6,7 @@ import (
 
 	"github.com/posteriori-fem/posteriori/internal/parallel"
 	"github.com/posteriori-fem/posteriori/internal/quadrature"
+	"github.com/posteriori-fem/posteriori/internal/spare"
 )
 
 // Exact is a known solution for measuring true errors.
@@ -337,12 +338,9 @@ func (u *Function) energyNorm(p *Problem, general bool) (float64, error) {
 	return math.Sqrt(max(n2, 0)), nil
 }
 
-func resize(dst []float64, n int) []float64 {
-	if cap(dst) < n {
-		return make([]float64, n)
-	}
-	return dst[:n]
-}
+// resize is spare.Resize: dst with length n, reusing its storage if it
+// has room; the values are not cleared.
+func resize(dst []float64, n int) []float64 { return spare.Resize(dst, n) }
 
 // bary returns the barycentric coordinates of (x, y) in the triangle of g.
 func (g *geometry) bary(x, y float64) [3]float64 {

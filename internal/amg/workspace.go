@@ -7,21 +7,9 @@ import (
 	"github.com/posteriori-fem/posteriori/internal/sparse"
 )
 
-// resize returns s[:n], reusing the array of s if its capacity suffices,
-// else a new array: of capacity n for an s without one (a first build),
-// of capacity n·(1 + spare.Headroom) for an s that had one (a Reset for a
-// larger matrix, which an adaptive loop follows with larger ones still,
-// about 1.3 times per step). The contents are not cleared.
-func resize[T any](s []T, n int) []T {
-	if n <= cap(s) {
-		return s[:n]
-	}
-	c := n
-	if cap(s) > 0 {
-		c += int(spare.Headroom * float64(n))
-	}
-	return make([]T, n, c)
-}
+// resize is spare.ResizeRoom: the hierarchy's arrays are reused by Reset
+// for the next, larger matrix of an adaptive loop.
+func resize[T any](s []T, n int) []T { return spare.ResizeRoom(s, n) }
 
 // resizeCSR returns m (a new matrix if m is nil) as a rows × cols matrix
 // with room for nnz entries, reusing its arrays (see resize). RowPtr,

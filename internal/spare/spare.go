@@ -82,3 +82,29 @@ func (b *Bin[T]) Len() int {
 	}
 	return len(b.free)
 }
+
+// Resize returns s with length n, reusing its array if its capacity is at
+// least n, else a new array of capacity n. The values are not cleared: the
+// caller sets each of them, or clears the result.
+func Resize[T any](s []T, n int) []T {
+	if n <= cap(s) {
+		return s[:n]
+	}
+	return make([]T, n)
+}
+
+// ResizeRoom is Resize for an array that is resized again and again for
+// growing uses (the setup arrays of a solver reused from step to step of
+// an adaptive loop): a new array replacing one that had a capacity gets
+// capacity n·(1 + Headroom), so that it serves the next, larger use too; a
+// first array (s without capacity) gets exactly n.
+func ResizeRoom[T any](s []T, n int) []T {
+	if n <= cap(s) {
+		return s[:n]
+	}
+	c := n
+	if cap(s) > 0 {
+		c += int(Headroom * float64(n))
+	}
+	return make([]T, n, c)
+}

@@ -50,3 +50,25 @@ func TestTakeGive(t *testing.T) {
 		t.Error("nil bin")
 	}
 }
+
+// TestResize checks that Resize and ResizeRoom reuse an array with room,
+// and otherwise allocate exactly n (Resize, and ResizeRoom for a first
+// array) or n·(1 + Headroom) (ResizeRoom replacing an array).
+func TestResize(t *testing.T) {
+	s := make([]int, 3, 10)
+	if r := Resize(s, 8); len(r) != 8 || &r[0] != &s[0] {
+		t.Errorf("Resize(cap 10, 8): len %d, same array %v", len(r), &r[0] == &s[0])
+	}
+	if r := Resize(s, 11); len(r) != 11 || cap(r) != 11 {
+		t.Errorf("Resize(cap 10, 11): len %d cap %d, want 11 11", len(r), cap(r))
+	}
+	if r := ResizeRoom(s, 9); len(r) != 9 || &r[0] != &s[0] {
+		t.Errorf("ResizeRoom(cap 10, 9): len %d, same array %v", len(r), &r[0] == &s[0])
+	}
+	if r := ResizeRoom(s, 20); len(r) != 20 || cap(r) != 30 {
+		t.Errorf("ResizeRoom(cap 10, 20): len %d cap %d, want 20 30", len(r), cap(r))
+	}
+	if r := ResizeRoom[int](nil, 20); len(r) != 20 || cap(r) != 20 {
+		t.Errorf("ResizeRoom(nil, 20): len %d cap %d, want 20 20", len(r), cap(r))
+	}
+}
