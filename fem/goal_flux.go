@@ -174,7 +174,6 @@ func (g Flux) robinEdges(phi *Function, p *Problem, each func(ds []int32, me *[3
 // data returns the data part −(f, φ) − ∫_{Γ_N∖Γ} g_N φ ds − ∫_{Γ_R∖Γ} g_R φ ds.
 func (g Flux) data(phi *Function, p *Problem) (float64, error) {
 	s := phi.Space
-	m := s.Mesh
 	d := 0.0
 	if p == nil {
 		return 0, nil
@@ -206,40 +205,58 @@ func (g Flux) data(phi *Function, p *Problem) (float64, error) {
 	if len(p.Neumann) == 0 {
 		return d, nil
 	}
+	v, err := g.boundaryIntegral(phi, func(tag int32) bool {
+		gn, ok := p.Neumann[tag]
+		return ok && gn != nil
+	}, func(tag int32, x, y float64) (float64, error) {
+		v := p.Neumann[tag](x, y)
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return 0, atTag(tag, fmt.Errorf("%w: Neumann data %g at (%g, %g)", ErrNotFinite, v, x, y))
+		}
+		return v, nil
+	})
+	return d - v, err
+}
+
+// boundaryIntegral returns Σ_E ∫_E w φ ds over the boundary edges E whose
+// tag is not g.Tag and passes use, by a 20-point Gauss–Legendre rule per
+// edge, with w(tag, x, y) evaluated only where φ is not zero.
+func (g Flux) boundaryIntegral(phi *Function, use func(tag int32) bool, w func(tag int32, x, y float64) (float64, error)) (float64, error) {
 	rule, err := quadrature.GaussLegendre(20)
 	if err != nil {
 		return 0, err
 	}
-	nv := int32(m.NumVertices())
+	s := phi.Space
+	m := s.Mesh
+	v := 0.0
 	var sh []float64
 	for _, e := range boundaryEdges(m) {
 		tag := m.EdgeTag[e]
-		gn, ok := p.Neumann[tag]
-		if !ok || gn == nil || tag == g.Tag {
+		if tag == g.Tag || !use(tag) {
 			continue
 		}
-		dofs := [3]int32{m.Edge[2*e], m.Edge[2*e+1], nv + e}
-		ax, ay := m.Vertex(int(dofs[0]))
-		bx, by := m.Vertex(int(dofs[1]))
+		ds := edgeDOFs(s, int(e))
+		ax, ay := m.Vertex(int(ds[0]))
+		bx, by := m.Vertex(int(ds[1]))
 		length := m.EdgeLength(int(e))
 		for q, t := range rule.X {
 			sh = edgeShape(s.Degree, t, sh)
 			ph := 0.0
-			for i, v := range sh {
-				ph += v * phi.U[dofs[i]]
+			for i, c := range sh {
+				ph += c * phi.U[ds[i]]
 			}
 			if ph == 0 {
 				continue
 			}
 			x, y := ax+t*(bx-ax), ay+t*(by-ay)
-			v := gn(x, y)
-			if math.IsNaN(v) || math.IsInf(v, 0) {
-				return 0, atTag(tag, fmt.Errorf("%w: Neumann data %g at (%g, %g)", ErrNotFinite, v, x, y))
+			wq, err := w(tag, x, y)
+			if err != nil {
+				return 0, err
 			}
-			d -= rule.W[q] * length * v * ph
+			v += rule.W[q] * length * wq * ph
 		}
 	}
-	return d, nil
+	return v, nil
 }
 
 // Value returns J(u_h) = a(u_h, φ) + (c u_h, φ) + ∫_{Γ_R∖Γ} α u_h φ − (f, φ)
@@ -300,40 +317,11 @@ func (g Flux) robinExact(phi *Function, ex Exact, p *Problem) (float64, error) {
 	if len(p.Robin) == 0 {
 		return 0, nil
 	}
-	rule, err := quadrature.GaussLegendre(20)
-	if err != nil {
-		return 0, err
-	}
-	s := phi.Space
-	m := s.Mesh
-	v := 0.0
-	var sh []float64
-	for _, e := range boundaryEdges(m) {
-		tag := m.EdgeTag[e]
-		r, ok := p.Robin[tag]
-		if !ok || tag == g.Tag {
-			continue
-		}
-		ds := edgeDOFs(s, int(e))
-		ax, ay := m.Vertex(int(ds[0]))
-		bx, by := m.Vertex(int(ds[1]))
-		length := m.EdgeLength(int(e))
-		for q, t := range rule.X {
-			sh = edgeShape(s.Degree, t, sh)
-			ph := 0.0
-			for i, w := range sh {
-				ph += w * phi.U[ds[i]]
-			}
-			if ph == 0 {
-				continue
-			}
-			x, y := ax+t*(bx-ax), ay+t*(by-ay)
-			alpha, _, err := r.Values(tag, x, y)
-			if err != nil {
-				return 0, err
-			}
-			v += rule.W[q] * length * alpha * ex.U(x, y) * ph
-		}
-	}
-	return v, nil
+	return g.boundaryIntegral(phi, func(tag int32) bool {
+		_, ok := p.Robin[tag]
+		return ok
+	}, func(tag int32, x, y float64) (float64, error) {
+		alpha, _, err := p.Robin[tag].Values(tag, x, y)
+		return alpha * ex.U(x, y), err
+	})
 }
