@@ -1,5 +1,7 @@
 package mesh
 
+import "slices"
+
 // Outcomes of insertSegment.
 const (
 	segOK       = iota
@@ -200,4 +202,22 @@ func (c *cdt) cut() {
 		}
 	}
 	c.last = c.anyLive()
+}
+
+// unbounded returns the first of the ns segments that no live triangle
+// has on its side, or −1 if every segment bounds a live triangle. Called
+// after cut, whose live triangles are the domain's.
+func (c *cdt) unbounded(ns int) int {
+	bounded := make([]bool, ns)
+	for t := range int32(len(c.state)) {
+		if c.state[t] != live {
+			continue
+		}
+		for j := range int32(3) {
+			if s := c.seg[3*t+j]; s >= 0 {
+				bounded[s] = true
+			}
+		}
+	}
+	return slices.Index(bounded, false)
 }

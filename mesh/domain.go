@@ -26,7 +26,12 @@ import (
 // holes. A hole is the part reached from its point without crossing a
 // segment. A region seed gives its tag to the part reached from it in the
 // same way; triangles that no seed reaches get region 0. A point of a
-// hole or seed that lies on a segment belongs to one of its sides.
+// hole or seed that lies on a segment belongs to one of its sides. Every
+// segment must have the domain on at least one side (ErrDetached): a
+// loop drawn outside the domain, or wholly inside a hole, is an error
+// rather than a boundary that silently does not exist (a coolant channel
+// placed outside the body, its hole point with it, would otherwise leave
+// the body without the channel and its boundary tag unused).
 //
 // Tags gives a boundary tag (≥ 0) to each segment, which the mesh edges
 // on that segment carry where it bounds the domain; the tags of interface
@@ -97,6 +102,7 @@ var (
 	ErrUnclosed     = errors.New("boundary is not closed")
 	ErrIntersect    = errors.New("segments cross or overlap")
 	ErrOutside      = errors.New("point lies outside the domain")
+	ErrDetached     = errors.New("segment bounds no part of the domain")
 	ErrSeedConflict = errors.New("one region has seeds with different tags")
 	ErrVertexLimit  = errors.New("refinement needs more vertices than allowed")
 )

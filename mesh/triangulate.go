@@ -187,6 +187,9 @@ func Triangulate(d *Domain, o Options) (*Mesh, *Report, error) {
 	if c.anyLive() < 0 {
 		return nil, nil, domErr(-1, -1, -1, -1, ErrEmpty, "no part of the plane is enclosed")
 	}
+	if s := c.unbounded(ns); s >= 0 {
+		return nil, nil, domErr(-1, int(segOrig[s]), -1, -1, ErrDetached, "the domain lies on neither side (a loop outside the domain, or inside a hole?)")
+	}
 	rep := &Report{}
 	r := newDelaunayRefiner(c, d, pv, &o)
 	if !o.NoRefinement {

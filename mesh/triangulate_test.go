@@ -366,6 +366,17 @@ func TestTriangulateRejects(t *testing.T) {
 			d.Seeds, d.SeedRegion = []float64{0.5, 0.5, 0.2, 0.3}, []int32{1, 2}
 		}), Options{}, ErrSeedConflict, -1, -1, -1, 1},
 		{"all a hole", with(func(d *Domain) { d.Holes = []float64{0.5, 0.5} }), Options{}, ErrEmpty, -1, -1, -1, -1},
+		// A channel (a loop with its hole point) placed beside the body,
+		// not in it: its segments would bound nothing.
+		{"hole loop outside", with(func(d *Domain) {
+			d.Points = append(d.Points, 2, 2, 3, 2, 2.5, 3)
+			d.Segments = append(d.Segments, 4, 5, 5, 6, 6, 4)
+			d.Holes = []float64{2.5, 2.3}
+		}), Options{}, ErrDetached, -1, 4, -1, -1},
+		// A loop drawn inside a hole: the hole reaches around it.
+		{"loop inside a hole", &Domain{Points: []float64{0, 0, 4, 0, 4, 4, 0, 4, 1, 1, 3, 1, 3, 3, 1, 3, 1.5, 1.5, 2.5, 1.5, 2, 2.5},
+			Segments: []int32{0, 1, 1, 2, 2, 3, 3, 0, 4, 5, 5, 6, 6, 7, 7, 4, 8, 9, 9, 10, 10, 8},
+			Holes:    []float64{1.2, 2.8, 2, 1.8}}, Options{}, ErrDetached, -1, 8, -1, -1},
 		{"vertex limit", square(), Options{H: 1e-3, MaxVertices: 1000}, ErrVertexLimit, -2, -2, -2, -2},
 		{"bad angle", square(), Options{MinAngle: 45}, ErrArgument, -2, -2, -2, -2},
 		{"bad H", square(), Options{H: math.NaN()}, ErrArgument, -2, -2, -2, -2},

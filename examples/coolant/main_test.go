@@ -2,6 +2,7 @@ package main
 
 import (
 	"bytes"
+	"errors"
 	"image/png"
 	"io"
 	"math"
@@ -287,5 +288,18 @@ func TestBoundAgainstReference(t *testing.T) {
 				t.Errorf("P%d step %d: η = %v below the error against the reference, %v", deg, sn.step, sn.eta, e)
 			}
 		}
+	}
+}
+
+// A channel placed outside the body is an error naming the channel (the
+// mesher's ErrDetached), not a body meshed without it. Not parallel: it
+// changes the channel data.
+func TestChannelOutside(t *testing.T) {
+	old := channels[0]
+	defer func() { channels[0] = old }()
+	channels[0].X = 100
+	_, err := initialMesh()
+	if !errors.Is(err, mesh.ErrDetached) || !strings.Contains(err.Error(), "channel 0 at (100, 12) mm") {
+		t.Fatalf("err = %v, want the channel named and mesh.ErrDetached", err)
 	}
 }

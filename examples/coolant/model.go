@@ -1,6 +1,7 @@
 package main
 
 import (
+	"errors"
 	"fmt"
 
 	"github.com/posteriori-fem/posteriori/estimate"
@@ -49,19 +50,14 @@ func domain() *mesh.Domain {
 // initialMesh triangulates the part with edges no longer than initialSize.
 func initialMesh() (*mesh.Mesh, error) {
 	m, _, err := mesh.Triangulate(domain(), mesh.Options{H: initialSize * mm})
+	var de *mesh.DomainError
+	if errors.Is(err, mesh.ErrDetached) && errors.As(err, &de) && de.Segment >= len(segments) {
+		// The segments after the straight ones are the channels' quarter arcs.
+		i := (de.Segment - len(segments)) / 4
+		return nil, fmt.Errorf("channel %d at (%g, %g) mm: its wall bounds no part of the body: is it outside? (%w)", i, channels[i].X, channels[i].Y, err)
+	}
 	if err != nil {
 		return nil, err
-	}
-	walls := make([]int, len(channels))
-	for e, c := range m.EdgeCurve {
-		if c >= 0 && m.IsBoundary(e) {
-			walls[c]++
-		}
-	}
-	for i, n := range walls {
-		if n == 0 {
-			return nil, fmt.Errorf("channel %d at (%g, %g) mm: its wall bounds no part of the body: is it outside?", i, channels[i].X, channels[i].Y)
-		}
 	}
 	for k := range m.NumTriangles() {
 		if _, ok := materials[m.Region[k]]; !ok {
