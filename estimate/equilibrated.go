@@ -201,6 +201,13 @@ import (
 // arXiv:1812.06678) show that weighted patch problems are
 // needed for robustness there; they are not implemented.
 //
+// Geometry: the domain of the theorem is the mesh's polygon, with a and c
+// those of its regions. Where the mesh follows curves (mesh.Mesh.EdgeCurve,
+// on the boundary or on an interface), refinement moves the polygon towards
+// them, but the difference between the polygon's problem and the curved
+// one is not part of the bound (see TestCurvedInterfaceRates in package
+// adapt for how large it can be on a coarse polygon).
+//
 // Diffusion given by AFunc and pure Neumann problems without reaction (no
 // Dirichlet edge, no Robin edge with α > 0, c = 0; fem.Problem.IsPureNeumann)
 // are not supported and return an error wrapping ErrUnsupported.

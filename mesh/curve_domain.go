@@ -150,9 +150,10 @@ func (d *Domain) presplit(o *Options) (d2 *Domain, segOrig, ptSeg []int32, err e
 
 // followCurves moves the vertices that the refinement added on curved
 // segments (on their chords) onto the curves, under the rule of
-// MinCurveArea, and returns how many stayed on the chord. A curve on a
-// segment with the domain on both sides is an error. segOrig maps the
-// segments of r.d to the caller's.
+// MinCurveArea, and returns how many stayed on the chord: on boundary
+// segments and on interfaces alike (the check of MinCurveArea covers the
+// triangles on both sides). segOrig maps the segments of r.d to the
+// caller's.
 func (r *delaunayRefiner) followCurves(segOrig []int32) (offCurve int, err error) {
 	c := r.c
 	if r.d.SegCurve == nil {
@@ -164,12 +165,6 @@ func (r *delaunayRefiner) followCurves(segOrig []int32) (offCurve int, err error
 			continue
 		}
 		tri = append(tri, c.tri[3*t:3*t+3]...)
-		for j := range int32(3) {
-			s := c.seg[3*t+j]
-			if u := c.nbr[3*t+j]; s >= 0 && r.d.SegCurve[s] >= 0 && u >= 0 && c.state[u] == live {
-				return 0, domErr(-1, int(segOrig[s]), -1, -1, ErrCurve, "a curve on a segment with the domain on both sides (curves follow the boundary only)")
-			}
-		}
 	}
 	nv := len(c.vt)
 	moved := make([]bool, nv)

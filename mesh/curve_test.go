@@ -378,11 +378,6 @@ func TestCurveErrors(t *testing.T) {
 			d.Segments = []int32{0, 1, 1, 2, 2, 0}
 			d.SegCurve = []int32{0, 0, 0}
 		}, mesh.ErrNotFinite, -1, 0},
-		{"interface", func(d *mesh.Domain) { // a curved segment inside the domain
-			d.Points = append(d.Points, -2, -2, 2, -2, 2, 2, -2, 2)
-			d.Segments = append(d.Segments, 4, 5, 5, 6, 6, 7, 7, 4)
-			d.SegCurve = []int32{-1, -1, 0, -1, -1, -1, -1, -1}
-		}, mesh.ErrCurve, -1, 2},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			t.Parallel()

@@ -125,8 +125,6 @@ func checkShape(m *Mesh, who string) error {
 		switch {
 		case c < -1 || int(c) >= len(m.Curves):
 			return fmt.Errorf("mesh: %s: edge %d: curve %d of %d: %w", who, e, c, len(m.Curves), ErrIndex)
-		case c >= 0 && m.EdgeTri[2*e+1] >= 0:
-			return fmt.Errorf("mesh: %s: edge %d: %w: a curve on an interior edge", who, e, ErrCurve)
 		case c >= 0:
 			if err := checkCurve(m.Curves[c]); err != nil {
 				return fmt.Errorf("mesh: %s: edge %d: %w", who, e, err)

@@ -30,9 +30,10 @@
 // was given); an interior edge carries Interior (-1). A region is an
 // arbitrary int32 per triangle, 0 by default.
 //
-// A boundary edge may follow a curve (a Circle, or a caller's
-// ProjectFunc): Mesh.EdgeCurve names it, WithCurves attaches curves by
-// boundary tag, and Triangulate by Domain.SegCurve. Bisection puts the new
+// A boundary edge, or an interface edge between two regions, may follow
+// a curve (a Circle, or a caller's ProjectFunc): Mesh.EdgeCurve names it,
+// WithCurves attaches curves to boundary edges by tag, and Triangulate to
+// boundary and interface edges by Domain.SegCurve. Bisection puts the new
 // vertex of a curved edge on the curve (the projection of the chord
 // midpoint; for a circle the arc midpoint) instead of at the chord
 // midpoint, unless that would leave a new triangle with less than

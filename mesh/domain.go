@@ -38,11 +38,12 @@ import (
 // segments are not kept (an interior edge carries Interior). A nil Tags
 // gives every segment tag 0.
 //
-// SegCurve lets a boundary segment follow a curve of Curves (an arc of a
-// Circle, or a caller's ProjectFunc): its ends must lie on the curve, the
-// mesh edges along it carry the curve (Mesh.EdgeCurve), and the vertices
-// that Triangulate adds on it lie on the curve (see Triangulate). A nil
-// SegCurve makes every segment straight.
+// SegCurve lets a segment follow a curve of Curves (an arc of a Circle,
+// or a caller's ProjectFunc): a boundary segment, or an interface between
+// two materials (a circular fibre in a matrix). Its ends must lie on the
+// curve, the mesh edges along it carry the curve (Mesh.EdgeCurve), and
+// the vertices that Triangulate adds on it lie on the curve (see
+// Triangulate). A nil SegCurve makes every segment straight.
 type Domain struct {
 	Points     []float64 // 2 per point: x, y
 	Segments   []int32   // 2 per segment: indices into Points

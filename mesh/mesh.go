@@ -28,9 +28,10 @@ type Mesh struct {
 	EdgeTri []int32 // 2 per edge: the triangles on each side; EdgeTri[2e+1] is -1 on the boundary
 	EdgeTag []int32 // 1 per edge: Interior for an interior edge, else the boundary tag (0 where none was given)
 
-	// Curved boundary edges (see WithCurves and Refine); both nil when
-	// every edge is straight.
-	Curves    []Curve // the curves that boundary edges follow
+	// Curved edges, on the boundary or on an interface between regions
+	// (see Triangulate, WithCurves and Refine); both nil when every edge
+	// is straight.
+	Curves    []Curve // the curves that edges follow
 	EdgeCurve []int32 // 1 per edge: the index into Curves of the curve the edge follows, or -1 (straight)
 
 	pieces int // number of connected pieces, 0 if not known

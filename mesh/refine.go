@@ -24,12 +24,15 @@ import (
 // number; the other halves and the new interior edges are appended.
 // Regions, boundary tags and curves are inherited.
 //
-// # Curved boundary edges
+// # Curved edges
 //
-// The new vertex of a boundary edge that follows a curve (EdgeCurve ≥ 0,
-// see WithCurves) goes on the curve: at the curve's projection of the
-// chord midpoint, which for a Circle is the midpoint of the arc. Both
-// halves follow the same curve. The triangles stay straight: the mesh is
+// The new vertex of an edge that follows a curve (EdgeCurve ≥ 0, see
+// WithCurves and Triangulate: a boundary edge, or an interface edge
+// between two regions) goes on the curve: at the curve's projection of
+// the chord midpoint, which for a Circle is the midpoint of the arc. Both
+// halves follow the same curve. On an interface the triangles of both
+// sides follow the curve, so the regions approach the curved pieces
+// they stand for, with an area error of order h² along the curve. The triangles stay straight: the mesh is
 // a polygon inscribed in the curve, and its area approaches the enclosed
 // area as h², as for the regular n-gon, whose area is (n/2) R² sin(2π/n).
 // The geometry error of such a polygon is of order h in the energy norm,

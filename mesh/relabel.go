@@ -137,6 +137,7 @@ func (r *delaunayRefiner) output(rep *Report) (*Mesh, error) {
 		}
 	}
 	var bndCurve []int32 // per entry of a.Bnd: its curve
+	var ifCurve []int32  // curved interface sides: 3 per side, its ends and its curve
 	theta := math.Asin(math.Sqrt(r.sin2) / 2)
 	rep.MinAngle, rep.ShelterMin = math.Inf(1), math.Inf(1)
 	for t := range int32(len(c.state)) {
@@ -149,6 +150,11 @@ func (r *delaunayRefiner) output(rep *Report) (*Mesh, error) {
 		a.Region = append(a.Region, c.reg[t])
 		for j := range 3 {
 			if c.nbr[3*t+int32(j)] >= 0 {
+				// An interface side that follows a curve, once (from the
+				// triangle of lower number).
+				if s := c.seg[3*t+int32(j)]; s >= 0 && r.d.SegCurve != nil && r.d.SegCurve[s] >= 0 && c.nbr[3*t+int32(j)] > t {
+					ifCurve = append(ifCurve, v[next3(j)], v[prev3(j)], r.d.SegCurve[s])
+				}
 				continue
 			}
 			s := c.seg[3*t+int32(j)]
@@ -193,6 +199,9 @@ func (r *delaunayRefiner) output(rep *Report) (*Mesh, error) {
 		}
 		for b, k := range bndCurve {
 			m.EdgeCurve[m.findEdge(a.Bnd[2*b], a.Bnd[2*b+1])] = k
+		}
+		for i := 0; i < len(ifCurve); i += 3 {
+			m.EdgeCurve[m.findEdge(ifCurve[i], ifCurve[i+1])] = ifCurve[i+2]
 		}
 	}
 	_, unmatched := countUnmatched(m)

@@ -61,12 +61,12 @@ import (
 // segments, and the vertices the refinement adds on them are moved from
 // the chord onto the curve at the end, under Refine's rule for curved
 // edges (MinCurveArea; Report.OffCurve counts the vertices left on the
-// chord). The angles in Report are those after the move. The boundary
-// edges along the segment carry its curve (Mesh.EdgeCurve). The ends of a
-// curved segment must lie on its curve within CurveTol times the size of
-// the domain (ErrOffCurve), its curve must be usable (ErrCurve), its
-// projections finite (ErrNotFinite), and it must bound the domain, not
-// separate two parts of it (ErrCurve).
+// chord). The angles in Report are those after the move. The edges along
+// the segment carry its curve (Mesh.EdgeCurve), boundary edges and
+// interface edges alike. The ends of a curved segment must lie on its
+// curve within CurveTol times the size of the domain (ErrOffCurve), its
+// curve must be usable (ErrCurve) and its projections finite
+// (ErrNotFinite).
 //
 // Bad input gives a *DomainError located at the point, segment, hole or
 // seed: see Domain and the Err values.

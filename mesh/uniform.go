@@ -16,7 +16,7 @@ import (
 // so child 4k+c of the new mesh lies in triangle k. The midpoint of old edge
 // e is new vertex NumVertices()+e. Regions, boundary tags and curves are
 // inherited; the new vertex of a curved edge goes on its curve by Refine's
-// rule (see Refine, "Curved boundary edges"), and then child 4k+c lies in
+// rule (see Refine, "Curved edges"), and then child 4k+c lies in
 // triangle k only up to the bulge of the curve. RefineUniform is linear in
 // the size of the mesh.
 func (m *Mesh) RefineUniform() (*Mesh, *Parents, error) {
