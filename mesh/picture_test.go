@@ -424,3 +424,25 @@ func TestWritePNGExtremes(t *testing.T) {
 		}
 	}
 }
+
+// Every glyph of the pictures' font is a bitmap of glyphH rows of glyphW
+// pixels, each '.' or '#', and the characters the examples' labels use
+// (degrees, primes, brackets) have one.
+func TestGlyphs(t *testing.T) {
+	for r, g := range glyphs {
+		rows := strings.Split(g, "|")
+		if len(rows) != glyphH {
+			t.Errorf("%q: %d rows, want %d", r, len(rows), glyphH)
+		}
+		for i, row := range rows {
+			if len(row) != glyphW || strings.Trim(row, ".#") != "" {
+				t.Errorf("%q: row %d is %q, want %d of '.' and '#'", r, i, row, glyphW)
+			}
+		}
+	}
+	for _, r := range "°'[]*!;<>ασ" {
+		if _, ok := glyphs[r]; !ok {
+			t.Errorf("no glyph for %q", r)
+		}
+	}
+}

@@ -80,7 +80,7 @@ func write(dir string, res *outcome) error {
 	for k := range temp {
 		temp[k] = u.Local(k, [3]float64{1.0 / 3, 1.0 / 3, 1.0 / 3})
 	}
-	return mesh.SavePNG(path(temperatureFile), m, &mesh.PictureOptions{Cell: temp, Label: "T (degC)",
+	return mesh.SavePNG(path(temperatureFile), m, &mesh.PictureOptions{Cell: temp, Label: "T (°C)",
 		Title: "coolant: temperature", EdgePixels: -1})
 }
 
