@@ -79,7 +79,12 @@
 // error of the given u_h), not modelling error: even the guaranteed bound
 // says nothing about whether the equation, its coefficients and its data
 // describe the physical system; engineering use
-// follows local codes and licensed practice.
+// follows local codes and licensed practice. The stated problem is posed
+// on the mesh: its polygon and the coefficients of its regions. Where the
+// mesh follows curves (mesh.Mesh.EdgeCurve: curved boundaries and
+// interfaces), refinement brings the polygon to the curve, but no
+// estimator here, the goal estimate included, sees the difference between
+// the polygon's problem and the curved one.
 //
 // Every estimator is a fixed number of passes over the triangles, edges and
 // vertices, split over GOMAXPROCS goroutines; results do not depend on
