@@ -87,13 +87,14 @@ import (
 // for P1 and by the Dunavant rule of degree 2k + 2 (exact) for P2.
 //
 // Cost, measured (BenchmarkFluxRecovery, the sine problem, uniform meshes,
-// a two-core machine shared with other work, six runs of go test -run XXX
-// -bench 'FluxRecovery/(P1|spmv)/n=(100000|1000000)$' -benchtime 4x, whose
-// timings include the first call, which allocates dst's scratch): P1
-// 344–582 ns per triangle at 1e6 triangles (median 475: about 190 products
-// with the P1 stiffness matrix of the same mesh, which took 1.97–2.59 ns
-// per triangle, median 2.5) and 379–1,063 at 1e5 (median 592); P2
-// 6,354 ns per triangle at 1e4 (one run, -benchtime 1x). The P1 path
+// a two-core machine, three runs of go test -run XXX -bench
+// 'FluxRecovery/(P1|spmv)/n=(100000|1000000)$' -benchtime 4x, timing
+// calls that reuse dst's scratch, as the adaptive loop does): P1 191–279
+// ns per triangle at 1e6 triangles (median 201: about 71 products with
+// the P1 stiffness matrix of the same mesh, which took 2.68–2.98 ns per
+// triangle, median 2.84) and 199–280 at 1e5 (median 208), 5 CG
+// iterations; P2 6,354 ns per triangle at 1e4 (one run of an earlier
+// version, -benchtime 1x, timing the first call). The P1 path
 // assembles the system, its diagonal and the local guess in one pass over
 // the edges, from the two triangles of each edge (flux_p1.go). The source f
 // at six points per triangle for the oscillation is about a fifth of the
@@ -102,7 +103,8 @@ import (
 // triangle for P1 (element data, matrix, the sides of the edges, the
 // diagonal and CG's vectors) and 1,604 for P2, allocated by the first call
 // with a dst (-benchtime 1x, 100352 and 10082 triangles) and kept in its
-// scratch; a dst used again allocates about 4 kB per call.
+// scratch; a dst used again allocates about 6 kB per call (5672 B/op at
+// 1e5 triangles, -benchmem).
 //
 // The data oscillation is computed as by Residual and Osc2 holds it, by the
 // package convention. The reaction term c u is not part of the flux: with
