@@ -106,29 +106,36 @@ func TestCurvedRates(t *testing.T) {
 		t.Run(tc.name, func(t *testing.T) {
 			t.Parallel()
 			pr := probs[tc.domain]
-			m := pr.m
-			if !tc.curved {
-				var err error
-				if m, err = m.WithCurves(nil); err != nil {
-					t.Fatal(err)
-				}
-			}
-			ex := pr.ex
-			res, err := Run(context.Background(), Problem{Mesh: m, Degree: tc.deg, Data: pr.p, Exact: &ex},
-				Settings{MaxDOFs: maxDOFs}, Method{Estimator: estimate.Residual{}, Marker: Dorfler{Theta: 0.5}})
-			if err != nil {
-				t.Fatal(err)
-			}
-			if len(res.Steps) < 8 {
-				t.Fatalf("%d steps, want at least 8 to fit a rate", len(res.Steps))
-			}
-			re, rh := rates(t, res.Steps)
-			t.Logf("%s: %d steps to %d DOFs, error %.4g, rate of the error %.3g, of the estimate %.3g",
-				tc.name, len(res.Steps), res.Steps[len(res.Steps)-1].DOFs, res.Steps[len(res.Steps)-1].Error, re, rh)
-			if re < tc.lo || re > tc.hi {
-				t.Errorf("rate of the true error %.3g, want in [%g, %g]", re, tc.lo, tc.hi)
-			}
+			curvedRate(t, tc.name, pr.m, tc.curved, tc.deg, pr.ex, pr.p, maxDOFs, tc.lo, tc.hi)
 		})
+	}
+}
+
+// curvedRate runs the adaptive loop (residual estimator, Dörfler θ = 0.5)
+// from m, or from m without its curves, to maxDOFs, and checks that the
+// fitted rate of the true error lies in [lo, hi].
+func curvedRate(t *testing.T, name string, m *mesh.Mesh, curved bool, deg int, ex fem.Exact, p *fem.Problem, maxDOFs int, lo, hi float64) {
+	t.Helper()
+	if !curved {
+		var err error
+		if m, err = m.WithCurves(nil); err != nil {
+			t.Fatal(err)
+		}
+	}
+	res, err := Run(context.Background(), Problem{Mesh: m, Degree: deg, Data: p, Exact: &ex},
+		Settings{MaxDOFs: maxDOFs}, Method{Estimator: estimate.Residual{}, Marker: Dorfler{Theta: 0.5}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(res.Steps) < 8 {
+		t.Fatalf("%d steps, want at least 8 to fit a rate", len(res.Steps))
+	}
+	re, rh := rates(t, res.Steps)
+	last := res.Steps[len(res.Steps)-1]
+	t.Logf("%s: %d steps to %d DOFs, error %.4g, estimate %.4g, rate of the error %.3g, of the estimate %.3g",
+		name, len(res.Steps), last.DOFs, last.Error, last.Estimate, re, rh)
+	if re < lo || re > hi {
+		t.Errorf("rate of the true error %.3g, want in [%g, %g]", re, lo, hi)
 	}
 }
 
@@ -221,28 +228,7 @@ func TestCurvedInterfaceRates(t *testing.T) {
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			t.Parallel()
-			m := m0
-			if !tc.curved {
-				var err error
-				if m, err = m.WithCurves(nil); err != nil {
-					t.Fatal(err)
-				}
-			}
-			res, err := Run(context.Background(), Problem{Mesh: m, Degree: tc.deg, Data: p, Exact: &ex},
-				Settings{MaxDOFs: maxDOFs}, Method{Estimator: estimate.Residual{}, Marker: Dorfler{Theta: 0.5}})
-			if err != nil {
-				t.Fatal(err)
-			}
-			if len(res.Steps) < 8 {
-				t.Fatalf("%d steps, want at least 8 to fit a rate", len(res.Steps))
-			}
-			re, rh := rates(t, res.Steps)
-			last := res.Steps[len(res.Steps)-1]
-			t.Logf("%s: %d steps to %d DOFs, error %.4g, estimate %.4g, rate of the error %.3g, of the estimate %.3g",
-				tc.name, len(res.Steps), last.DOFs, last.Error, last.Estimate, re, rh)
-			if re < tc.lo || re > tc.hi {
-				t.Errorf("rate of the true error %.3g, want in [%g, %g]", re, tc.lo, tc.hi)
-			}
+			curvedRate(t, tc.name, m0, tc.curved, tc.deg, ex, p, maxDOFs, tc.lo, tc.hi)
 		})
 	}
 }

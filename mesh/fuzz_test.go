@@ -17,14 +17,7 @@ func arraysFrom(data []byte) Arrays {
 	}
 	nv, nt, nb := int(data[0]%16), int(data[1]%24), int(data[2]%6)
 	data = data[3:]
-	next := func() byte {
-		if len(data) == 0 {
-			return 0
-		}
-		b := data[0]
-		data = data[1:]
-		return b
-	}
+	next := (*fuzzBytes)(&data).next
 	for range nv {
 		a.X = append(a.X, float64(int8(next()))/8, float64(int8(next()))/8)
 	}

@@ -11,14 +11,7 @@ import (
 // common), a closed loop through the first points, further segments,
 // holes and seeds, and a size bound.
 func domainFrom(data []byte) (*Domain, Options) {
-	next := func() byte {
-		if len(data) == 0 {
-			return 0
-		}
-		b := data[0]
-		data = data[1:]
-		return b
-	}
+	next := (*fuzzBytes)(&data).next
 	d := &Domain{}
 	np := int(next()%10) + 3
 	loop := int(next()%byte(np-2)) + 3
@@ -41,16 +34,54 @@ func domainFrom(data []byte) (*Domain, Options) {
 	for s := range len(d.Segments) / 2 {
 		d.Tags = append(d.Tags, int32(s%3))
 	}
+	return d, fuzzOptions(next(), 32)
+}
+
+// fuzzBytes hands out fuzz bytes one at a time, and 0 once they run out.
+type fuzzBytes []byte
+
+func (b *fuzzBytes) next() byte {
+	if len(*b) == 0 {
+		return 0
+	}
+	v := (*b)[0]
+	*b = (*b)[1:]
+	return v
+}
+
+// fuzzOptions decodes the Options of a fuzzed Triangulate from one byte:
+// the defaults, a size bound H of 4 to 35 units of 1/scale, no
+// refinement, or a smallest angle of 25°; at most 20000 vertices.
+func fuzzOptions(b byte, scale float64) Options {
 	o := Options{MaxVertices: 20000}
-	switch b := next(); {
-	case b%4 == 1:
-		o.H = float64(b%32+4) / 32
-	case b%4 == 2:
+	switch b % 4 {
+	case 1:
+		o.H = float64(b%32+4) / scale
+	case 2:
 		o.NoRefinement = true
-	case b%4 == 3:
+	case 3:
 		o.MinAngle = 25
 	}
-	return d, o
+	return o
+}
+
+// triangulateFailed checks the result of a fuzzed Triangulate that
+// failed: the error is a *DomainError or wraps ErrArgument, ErrVertexLimit
+// or ErrZeroArea, and comes without a mesh or report. It reports whether
+// Triangulate failed.
+func triangulateFailed(t *testing.T, m *Mesh, rep *Report, err error) bool {
+	t.Helper()
+	if err == nil {
+		return false
+	}
+	var de *DomainError
+	if !errors.As(err, &de) && !errors.Is(err, ErrArgument) && !errors.Is(err, ErrVertexLimit) && !errors.Is(err, ErrZeroArea) {
+		t.Fatalf("unexpected error %v", err)
+	}
+	if m != nil || rep != nil {
+		t.Fatal("a mesh with an error")
+	}
+	return true
 }
 
 // FuzzTriangulate meshes arbitrary small domains: Triangulate must never
@@ -65,14 +96,7 @@ func FuzzTriangulate(f *testing.F) {
 	f.Fuzz(func(t *testing.T, data []byte) {
 		d, o := domainFrom(data)
 		m, rep, err := Triangulate(d, o)
-		if err != nil {
-			var de *DomainError
-			if !errors.As(err, &de) && !errors.Is(err, ErrArgument) && !errors.Is(err, ErrVertexLimit) && !errors.Is(err, ErrZeroArea) {
-				t.Fatalf("unexpected error %v", err)
-			}
-			if m != nil || rep != nil {
-				t.Fatal("a mesh with an error")
-			}
+		if triangulateFailed(t, m, rep, err) {
 			return
 		}
 		x0, y0, x1, y1 := math.Inf(1), math.Inf(1), math.Inf(-1), math.Inf(-1)
