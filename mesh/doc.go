@@ -32,8 +32,9 @@
 //
 // A boundary edge, or an interface edge between two regions, may follow
 // a curve (a Circle, or a caller's ProjectFunc): Mesh.EdgeCurve names it,
-// WithCurves attaches curves to boundary edges by tag, and Triangulate to
-// boundary and interface edges by Domain.SegCurve. Bisection puts the new
+// WithCurves attaches curves to boundary edges by tag,
+// WithInterfaceCurves to interface edges by the pair of regions they
+// separate, and Triangulate to both by Domain.SegCurve. Bisection puts the new
 // vertex of a curved edge on the curve (the projection of the chord
 // midpoint; for a circle the arc midpoint) instead of at the chord
 // midpoint, unless that would leave a new triangle with less than
@@ -41,7 +42,8 @@
 // interior vertex): then the vertex stays at the chord midpoint and
 // Parents.Chord lists it. Triangles stay straight. Relabel, TagBoundary,
 // MergeCoincident and the file formats do not keep curves: attach them
-// again with WithCurves.
+// again with WithCurves (boundary edges, by tag) and WithInterfaceCurves
+// (interface edges, by the pair of regions they separate).
 //
 // Refine and RefineUniform keep the indices of the old vertices and number
 // the new ones after them; Reorder renumbers a mesh for locality (vertices

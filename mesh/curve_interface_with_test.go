@@ -1,0 +1,101 @@
+package mesh_test
+
+import (
+	"bytes"
+	"errors"
+	"math"
+	"slices"
+	"testing"
+
+	"github.com/posteriori-fem/posteriori/mesh"
+)
+
+// A mesh with a curved interface, written to JSON and read back, has lost
+// its curve (the formats do not keep curves); WithInterfaceCurves by the
+// pair of regions attaches it again to exactly the interface edges, and
+// refining the two meshes with the same marks gives the same vertices,
+// bit for bit.
+func TestWithInterfaceCurves(t *testing.T) {
+	t.Parallel()
+	m, _, err := mesh.Triangulate(fibre(), mesh.Options{H: 0.5})
+	if err != nil {
+		t.Fatal(err)
+	}
+	var buf bytes.Buffer
+	if err := mesh.WriteJSON(&buf, m, nil); err != nil {
+		t.Fatal(err)
+	}
+	back, _, err := mesh.ReadJSON(&buf)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if back.EdgeCurve != nil {
+		t.Fatal("the file kept the curves; this test expects it not to")
+	}
+	// The file keeps the numbering, so the two meshes are comparable.
+	again, err := back.WithInterfaceCurves(map[[2]int32]mesh.Curve{{1, 0}: mesh.Circle{R: 1}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !slices.Equal(again.EdgeCurve, m.EdgeCurve) {
+		t.Fatal("the curve is on other edges than Triangulate put it")
+	}
+	checkInterface(t, again, nil, "reattached")
+	for range 2 {
+		marks := make([]bool, m.NumTriangles())
+		for k := range marks {
+			marks[k] = k%3 == 0
+		}
+		a, _, err := m.Refine(marks)
+		if err != nil {
+			t.Fatal(err)
+		}
+		b, _, err := again.Refine(marks)
+		if err != nil {
+			t.Fatal(err)
+		}
+		for i := range a.X {
+			if math.Float64bits(a.X[i]) != math.Float64bits(b.X[i]) {
+				t.Fatalf("vertex %d at %g, from the reattached curve at %g", i/2, a.X[i], b.X[i])
+			}
+		}
+		m, again = a, b
+	}
+}
+
+// WithInterfaceCurves rejects bad input with a *CurveError.
+func TestWithInterfaceCurvesErrors(t *testing.T) {
+	t.Parallel()
+	m, _, err := mesh.Triangulate(fibre(), mesh.Options{H: 0.5})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if m, err = m.WithCurves(nil); err != nil {
+		t.Fatal(err)
+	}
+	c := mesh.Circle{R: 1}
+	for _, tc := range []struct {
+		name string
+		by   map[[2]int32]mesh.Curve
+		want error
+	}{
+		{"nil curve", map[[2]int32]mesh.Curve{{0, 1}: nil}, mesh.ErrCurve},
+		{"zero radius", map[[2]int32]mesh.Curve{{0, 1}: mesh.Circle{}}, mesh.ErrCurve},
+		{"one region", map[[2]int32]mesh.Curve{{1, 1}: c}, mesh.ErrCurve},
+		{"both orders", map[[2]int32]mesh.Curve{{0, 1}: c, {1, 0}: c}, mesh.ErrCurve},
+		{"no such interface", map[[2]int32]mesh.Curve{{0, 1}: c, {1, 7}: c}, mesh.ErrCurve},
+		{"off the curve", map[[2]int32]mesh.Curve{{0, 1}: mesh.Circle{R: 1.1}}, mesh.ErrOffCurve},
+	} {
+		_, err := m.WithInterfaceCurves(tc.by)
+		var ce *mesh.CurveError
+		t.Logf("%s: %v", tc.name, err)
+		if !errors.Is(err, tc.want) || !errors.As(err, &ce) {
+			t.Errorf("%s: err = %v, want a *CurveError wrapping %v", tc.name, err, tc.want)
+		}
+	}
+	// Nothing to attach: the same mesh.
+	same, err := m.WithInterfaceCurves(nil)
+	if err != nil || same.EdgeCurve != nil {
+		t.Errorf("empty map: %v, curves %v", err, same.EdgeCurve != nil)
+	}
+}
