@@ -41,9 +41,10 @@
 // MinCurveArea of its straight area (the curve bending close to an
 // interior vertex): then the vertex stays at the chord midpoint and
 // Parents.Chord lists it. Triangles stay straight. Relabel, TagBoundary,
-// MergeCoincident and the file formats do not keep curves: attach them
-// again with WithCurves (boundary edges, by tag) and WithInterfaceCurves
-// (interface edges, by the pair of regions they separate).
+// MergeCoincident and VTU files do not keep curves, and JSON files keep
+// only circles (see ReadJSON): attach the others again with WithCurves
+// (boundary edges, by tag) and WithInterfaceCurves (interface edges, by
+// the pair of regions they separate).
 //
 // Refine and RefineUniform keep the indices of the old vertices and number
 // the new ones after them; Reorder renumbers a mesh for locality (vertices

@@ -66,8 +66,9 @@ func elem(name string, i int) string { return name + "[" + strconv.Itoa(i) + "]"
 
 // WriteJSON writes m, and the fields of d if d is not nil, as one JSON
 // object in the layout described at ReadJSON, compactly: no spaces, one
-// line per key. It writes the declared sizes, the regions and every
-// boundary edge with its tag (as m.BoundaryEdges gives them), and formats
+// line per key. It writes the declared sizes, the regions, every
+// boundary edge with its tag (as m.BoundaryEdges gives them) and the
+// edges that follow circles, with the circles (see ReadJSON), and formats
 // numbers in the shortest form that reads back exactly, so that ReadJSON
 // returns an identical mesh and identical fields. Fields are written in
 // sorted name order; Edge fields in the order of the edges' (low, high)
@@ -142,6 +143,7 @@ func WriteJSON(w io.Writer, m *Mesh, d *Data) error {
 		t.str("]")
 	}
 	t.str("]")
+	jsonCurves(t, m)
 	if d != nil {
 		jsonFields(t, keyVertexFields, d.Point, nil)
 		jsonFields(t, keyTriangleFields, d.Cell, nil)
@@ -165,6 +167,61 @@ const (
 	oldVertexFields   = "point_data"
 	oldTriangleFields = "cell_data"
 )
+
+// jsonCurves writes the circles that edges of m follow ("circles", in the
+// order of m.Curves, other curves left out) and those edges ("curved_edges":
+// the edge's ends, low first, and its circle, in the order of the edges'
+// (low, high) vertex pairs); nothing when no edge follows a circle.
+func jsonCurves(t *textWriter, m *Mesh) {
+	if m.EdgeCurve == nil {
+		return
+	}
+	circle := make([]int32, len(m.Curves)) // index among the circles, or -1
+	var circles []Circle
+	for i, c := range m.Curves {
+		circle[i] = -1
+		if ci, ok := c.(Circle); ok {
+			circle[i] = int32(len(circles))
+			circles = append(circles, ci)
+		}
+	}
+	var edges []int32
+	for _, e := range sortedEdges(m) {
+		if c := m.EdgeCurve[e]; c >= 0 && circle[c] >= 0 {
+			edges = append(edges, e)
+		}
+	}
+	if len(edges) == 0 {
+		return
+	}
+	t.str(",\n\"circles\":[")
+	for i, c := range circles {
+		if i > 0 {
+			t.str(",")
+		}
+		t.str("[")
+		t.float(c.X)
+		t.str(",")
+		t.float(c.Y)
+		t.str(",")
+		t.float(c.R)
+		t.str("]")
+	}
+	t.str("],\n\"curved_edges\":[")
+	for i, e := range edges {
+		if i > 0 {
+			t.str(",")
+		}
+		t.str("[")
+		t.int(int64(m.Edge[2*e]))
+		t.str(",")
+		t.int(int64(m.Edge[2*e+1]))
+		t.str(",")
+		t.int(int64(circle[m.EdgeCurve[e]]))
+		t.str("]")
+	}
+	t.str("]")
+}
 
 // jsonList writes an array of n numbers.
 func jsonList(t *textWriter, n int, write func(i int)) {
@@ -236,6 +293,8 @@ func sortedEdges(m *Mesh) []int32 {
 //	"triangles":       [[a, b, c], ...]         M vertex triples, counter-clockwise
 //	"regions":         [r, ...]                 optional, M int32 region tags
 //	"boundary":        [[a, b, tag], ...]       optional, tagged boundary edges
+//	"circles":         [[x, y, r], ...]         optional, circles that edges follow
+//	"curved_edges":    [[a, b, k], ...]         optional, edges that follow circle k
 //	"vertex_fields":   {"name": [v, ...], ...}  optional, N values per field
 //	"triangle_fields": {"name": [v, ...], ...}  optional, M values per field
 //	"edge_fields":     {"name": [v, ...], ...}  optional, one value per edge
@@ -246,6 +305,15 @@ func sortedEdges(m *Mesh) []int32 {
 // vertex pairs, which is how New numbers them. Files of an earlier layout
 // named the vertex and triangle fields "point_data" and "cell_data"; those
 // names are read too (a file may not use both names of one kind).
+//
+// A curved edge (boundary or interface) follows its circle as if
+// attached by WithCurves or WithInterfaceCurves: refinement puts new
+// vertices on it. The circle must be usable and the projection of the
+// edge's midpoint finite; its ends need not lie on the circle, since a
+// refinement may have left a vertex on the chord (see Refine), which
+// later refinements try to move again. WriteJSON writes the
+// edges that follow a Circle; curves of other kinds (ProjectFunc) are not
+// written, and are attached again with WithCurves or WithInterfaceCurves.
 //
 // Vertex indices are integers in [0, 2³¹); regions and tags are int32. The
 // declared sizes, when present, must match the arrays; they let the reader
@@ -278,6 +346,8 @@ type jsonReader struct {
 	tri          []int32
 	region       []int32
 	bnd, tag     []int32
+	circle       []Circle
+	curved       []int32 // 3 per curved edge: its ends and its circle
 	point, cell  map[string][]float64
 	edge         map[string][]float64
 	pointKey     string // the key the vertex fields came under
@@ -324,6 +394,10 @@ func (r *jsonReader) read() error {
 			err = r.regions()
 		case "boundary":
 			err = r.boundary()
+		case "circles":
+			err = r.circles()
+		case "curved_edges":
+			err = r.curvedEdges()
 		case keyVertexFields, oldVertexFields:
 			if r.point != nil {
 				return formatErr(field, ErrFormat, "vertex fields given twice (as %s and %s)", keyVertexFields, oldVertexFields)
@@ -343,7 +417,7 @@ func (r *jsonReader) read() error {
 			}
 			r.edge, err = r.fields(key, 3*MaxReadTriangles, declE, "edges")
 		default:
-			return formatErr(field, ErrFormat, "unknown key (want num_vertices, num_triangles, vertices, triangles, regions, boundary, vertex_fields, triangle_fields or edge_fields)")
+			return formatErr(field, ErrFormat, "unknown key (want num_vertices, num_triangles, vertices, triangles, regions, boundary, circles, curved_edges, vertex_fields, triangle_fields or edge_fields)")
 		}
 		if err != nil {
 			return at(err, field)
@@ -400,6 +474,9 @@ func (r *jsonReader) build() (*Mesh, *Data, error) {
 		if n := len(d.Edge[name]); n != m.NumEdges() {
 			return nil, nil, formatErr(keyEdgeFields+"."+name, ErrFormat, "has %d values, want %d (one per edge)", n, m.NumEdges())
 		}
+	}
+	if m, err = r.attachCurves(m); err != nil {
+		return nil, nil, err
 	}
 	return m, d, nil
 }

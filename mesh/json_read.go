@@ -127,6 +127,94 @@ func (r *jsonReader) boundary() error {
 	return r.delim(']')
 }
 
+// circles reads the circles that curved edges follow.
+func (r *jsonReader) circles() error {
+	var buf [3]float64
+	if err := r.delim('['); err != nil {
+		return err
+	}
+	for i := 0; r.dec.More(); i++ {
+		if i >= 3*r.limitT() {
+			return formatErr("circles", ErrTooLarge, "more circles than edges")
+		}
+		if err := r.tuple(buf[:]); err != nil {
+			return at(err, elem("circles", i))
+		}
+		r.circle = append(r.circle, Circle{X: buf[0], Y: buf[1], R: buf[2]})
+	}
+	return r.delim(']')
+}
+
+// curvedEdges reads the edges that follow a circle.
+func (r *jsonReader) curvedEdges() error {
+	var buf [3]float64
+	if err := r.delim('['); err != nil {
+		return err
+	}
+	for b := 0; r.dec.More(); b++ {
+		if b >= 3*r.limitT() {
+			return formatErr("curved_edges", ErrTooLarge, "more than three curved edges per triangle")
+		}
+		if err := r.tuple(buf[:]); err != nil {
+			return at(err, elem("curved_edges", b))
+		}
+		for i, v := range buf {
+			if err := index(v); err != nil {
+				return at(err, elem(elem("curved_edges", b), i))
+			}
+		}
+		r.curved = append(r.curved, int32(buf[0]), int32(buf[1]), int32(buf[2]))
+	}
+	return r.delim(']')
+}
+
+// attachCurves gives the curved edges read their circles. Unlike
+// WithCurves it does not require the ends of an edge to lie on its
+// circle: a refinement may have left a vertex on the chord (see Refine).
+func (r *jsonReader) attachCurves(m *Mesh) (*Mesh, error) {
+	if len(r.curved) == 0 {
+		if len(r.circle) > 0 {
+			return nil, formatErr("circles", ErrFormat, "no curved_edges follow them")
+		}
+		return m, nil
+	}
+	for i, c := range r.circle {
+		if err := checkCurve(c); err != nil {
+			return nil, at(formatErr("", ErrFormat, "%v", err), elem("circles", i))
+		}
+	}
+	m.Curves = make([]Curve, len(r.circle))
+	for i, c := range r.circle {
+		m.Curves[i] = c
+	}
+	m.EdgeCurve = make([]int32, m.NumEdges())
+	for e := range m.EdgeCurve {
+		m.EdgeCurve[e] = -1
+	}
+	for b := 0; b < len(r.curved); b += 3 {
+		field := elem("curved_edges", b/3)
+		a, v, k := r.curved[b], r.curved[b+1], r.curved[b+2]
+		e := -1
+		if int(max(a, v)) < m.NumVertices() {
+			e = m.findEdge(a, v)
+		}
+		switch {
+		case e < 0:
+			return nil, formatErr(field, ErrFormat, "%d–%d is not an edge of the mesh", a, v)
+		case int(k) >= len(r.circle):
+			return nil, formatErr(field, ErrFormat, "circle %d of %d", k, len(r.circle))
+		case m.EdgeCurve[e] >= 0:
+			return nil, formatErr(field, ErrFormat, "edge %d–%d listed twice", a, v)
+		}
+		c := r.circle[k]
+		if _, _, err := project(c, 0.5*(m.X[2*a]+m.X[2*v]), 0.5*(m.X[2*a+1]+m.X[2*v+1])); err != nil {
+			return nil, &FormatError{Format: "json", Field: field, Err: fmt.Errorf("%w: edge %d–%d: %w", ErrFormat, a, v, err)}
+		}
+		m.EdgeCurve[e] = k
+	}
+	return m, nil
+}
+
 // fields reads an object of named arrays of at most limit numbers each, or
 // of at most declared if that is not negative.
 func (r *jsonReader) fields(key string, limit, declared int, what string) (map[string][]float64, error) {

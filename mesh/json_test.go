@@ -393,6 +393,7 @@ func FuzzReadJSON(f *testing.F) {
 	f.Add(buf.Bytes())
 	f.Add([]byte(`{` + okV + `, ` + okT + `, "regions": [3], "boundary": [[1, 2, 7]], "cell_data": {"e": [1]}}`))
 	f.Add([]byte(`{"num_vertices": 4, "vertices": [[0,0],[1,0],[0,1],[1,1]], "triangles": [[0,1,2],[1,3,2]]}`))
+	f.Add([]byte(`{"vertices":[[0,0],[1,0],[1,1],[0,1]],"triangles":[[0,1,2],[0,2,3]],"circles":[[0,1,1]],"curved_edges":[[0,2,0]]}`))
 	f.Add([]byte(`{"vertices": [[0,0],[1,0],[1,1],[0,1],[0.5,0.5]], "triangles": [[0,1,4],[1,2,4],[2,3,4],[3,0,4]], "boundary": [[0,1,1],[2,3,2]]}`))
 	f.Add([]byte(`{"vertices": [[0,0]], "triangles": [[0,0,0]]}`))
 	f.Add([]byte(`{"vertices":[[0,0],[1,0],[0,1]],"triangles":[[2,0,1]],"vertex_fields":{"u":[0,0,0]},"edge_fields":{"u":[1,2,12]}}`))
@@ -431,6 +432,9 @@ func FuzzReadJSON(f *testing.F) {
 		}
 		if !sameMesh(m, m2) || !sameData(m, m2, d, d2) {
 			t.Fatal("round trip changed the mesh or the fields")
+		}
+		if !slices.Equal(m.EdgeCurve, m2.EdgeCurve) || !slices.Equal(m.Curves, m2.Curves) {
+			t.Fatal("round trip changed the curves")
 		}
 	})
 }
