@@ -75,3 +75,40 @@ func ExampleMesh_WithCurves() {
 	// Output:
 	// 24 triangles; new boundary vertex 13 at radius 1, angle 30°
 }
+
+// A round fibre in a square matrix: the fibre's circle is an interface
+// between two regions and a curved segment, so refinement keeps its new
+// vertices on the circle and the fibre's area approaches π.
+func ExampleTriangulate_fibre() {
+	d := &mesh.Domain{
+		Points: []float64{-2, -2, 2, -2, 2, 2, -2, 2, // the matrix
+			1, 0, 0, 1, -1, 0, 0, -1}, // the fibre's circle, at its quarter points
+		Segments:   []int32{0, 1, 1, 2, 2, 3, 3, 0, 4, 5, 5, 6, 6, 7, 7, 4},
+		Curves:     []mesh.Curve{mesh.Circle{R: 1}},
+		SegCurve:   []int32{-1, -1, -1, -1, 0, 0, 0, 0},
+		Seeds:      []float64{0, 0}, // the fibre is region 1, the matrix region 0
+		SeedRegion: []int32{1},
+	}
+	m, _, err := mesh.Triangulate(d, mesh.Options{H: 0.5})
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	for range 3 {
+		fibre := 0.0
+		for k := range m.NumTriangles() {
+			if m.Region[k] == 1 {
+				fibre += m.Area(k)
+			}
+		}
+		fmt.Printf("%d triangles, π − fibre area = %.3g\n", m.NumTriangles(), math.Pi-fibre)
+		if m, _, err = m.RefineUniform(); err != nil {
+			fmt.Println(err)
+			return
+		}
+	}
+	// Output:
+	// 337 triangles, π − fibre area = 0.0726
+	// 1348 triangles, π − fibre area = 0.0183
+	// 5392 triangles, π − fibre area = 0.00457
+}
