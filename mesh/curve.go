@@ -195,15 +195,8 @@ func (m *Mesh) WithCurves(byTag map[int32]Curve) (*Mesh, error) {
 		}
 		used[i] = true
 		out.EdgeCurve[e] = i
-		c := out.Curves[i]
-		a, b := m.Edge[2*e], m.Edge[2*e+1]
-		for _, v := range [2]int32{a, b} {
-			if err := onCurve(c, m.X[2*v], m.X[2*v+1], tol); err != nil {
-				return nil, &CurveError{Tag: int(m.EdgeTag[e]), Edge: e, Vertex: int(v), Err: err}
-			}
-		}
-		if _, _, err := project(c, 0.5*(m.X[2*a]+m.X[2*b]), 0.5*(m.X[2*a+1]+m.X[2*b+1])); err != nil {
-			return nil, &CurveError{Tag: int(m.EdgeTag[e]), Edge: e, Vertex: -1, Err: err}
+		if v, err := m.edgeOnCurve(e, out.Curves[i], tol); err != nil {
+			return nil, &CurveError{Tag: int(m.EdgeTag[e]), Edge: e, Vertex: v, Err: err}
 		}
 	}
 	for i, u := range used {
@@ -212,6 +205,22 @@ func (m *Mesh) WithCurves(byTag map[int32]Curve) (*Mesh, error) {
 		}
 	}
 	return &out, nil
+}
+
+// edgeOnCurve checks that the ends of edge e lie on c within tol (see
+// onCurve) and that c projects the edge's midpoint to a finite point. On
+// an error it also returns the vertex at fault, or -1 for the midpoint.
+func (m *Mesh) edgeOnCurve(e int, c Curve, tol float64) (int, error) {
+	a, b := m.Edge[2*e], m.Edge[2*e+1]
+	for _, v := range [2]int32{a, b} {
+		if err := onCurve(c, m.X[2*v], m.X[2*v+1], tol); err != nil {
+			return int(v), err
+		}
+	}
+	if _, _, err := project(c, 0.5*(m.X[2*a]+m.X[2*b]), 0.5*(m.X[2*a+1]+m.X[2*b+1])); err != nil {
+		return -1, err
+	}
+	return -1, nil
 }
 
 // curvePoint returns where the new vertex of curved edge e goes: the

@@ -97,15 +97,8 @@ func (m *Mesh) WithInterfaceCurves(byRegions map[[2]int32]Curve) (*Mesh, error) 
 		}
 		used[q] = true
 		out.EdgeCurve[e] = i
-		c := out.Curves[i]
-		a, b := m.Edge[2*e], m.Edge[2*e+1]
-		for _, v := range [2]int32{a, b} {
-			if err := onCurve(c, m.X[2*v], m.X[2*v+1], tol); err != nil {
-				return nil, &CurveError{Tag: -1, Edge: e, Vertex: int(v), Err: fmt.Errorf("regions %d and %d: %w", q[0], q[1], err)}
-			}
-		}
-		if _, _, err := project(c, 0.5*(m.X[2*a]+m.X[2*b]), 0.5*(m.X[2*a+1]+m.X[2*b+1])); err != nil {
-			return nil, &CurveError{Tag: -1, Edge: e, Vertex: -1, Err: fmt.Errorf("regions %d and %d: %w", q[0], q[1], err)}
+		if v, err := m.edgeOnCurve(e, out.Curves[i], tol); err != nil {
+			return nil, &CurveError{Tag: -1, Edge: e, Vertex: v, Err: fmt.Errorf("regions %d and %d: %w", q[0], q[1], err)}
 		}
 	}
 	for _, q := range pairs {

@@ -31,25 +31,33 @@ func TestWithInterfaceCurves(t *testing.T) {
 		t.Fatal("the curve is on other edges than Triangulate put it")
 	}
 	checkInterface(t, again, nil, "reattached")
+	sameRefinements(t, m, again, 3, "from the reattached curve")
+}
+
+// sameRefinements refines a and b twice with the same marks (every
+// every-th triangle) and checks that they get the same vertices, bit for
+// bit; what names b in the message.
+func sameRefinements(t *testing.T, a, b *mesh.Mesh, every int, what string) {
+	t.Helper()
 	for range 2 {
-		marks := make([]bool, m.NumTriangles())
+		marks := make([]bool, a.NumTriangles())
 		for k := range marks {
-			marks[k] = k%3 == 0
+			marks[k] = k%every == 0
 		}
-		a, _, err := m.Refine(marks)
+		fa, _, err := a.Refine(marks)
 		if err != nil {
 			t.Fatal(err)
 		}
-		b, _, err := again.Refine(marks)
+		fb, _, err := b.Refine(marks)
 		if err != nil {
 			t.Fatal(err)
 		}
-		for i := range a.X {
-			if math.Float64bits(a.X[i]) != math.Float64bits(b.X[i]) {
-				t.Fatalf("vertex %d at %g, from the reattached curve at %g", i/2, a.X[i], b.X[i])
+		for i := range fa.X {
+			if math.Float64bits(fa.X[i]) != math.Float64bits(fb.X[i]) {
+				t.Fatalf("vertex %d at %g, %s at %g", i/2, fa.X[i], what, fb.X[i])
 			}
 		}
-		m, again = a, b
+		a, b = fa, fb
 	}
 }
 

@@ -44,26 +44,7 @@ func TestJSONCurves(t *testing.T) {
 	if !slices.Equal(back.EdgeCurve, m.EdgeCurve) || !slices.Equal(back.Curves, m.Curves) {
 		t.Fatalf("curves read back: %v on %d edges, want %v", back.Curves, len(back.EdgeCurve), m.Curves)
 	}
-	for range 2 {
-		marks := make([]bool, m.NumTriangles())
-		for k := range marks {
-			marks[k] = k%2 == 0
-		}
-		a, _, err := m.Refine(marks)
-		if err != nil {
-			t.Fatal(err)
-		}
-		b, _, err := back.Refine(marks)
-		if err != nil {
-			t.Fatal(err)
-		}
-		for i := range a.X {
-			if math.Float64bits(a.X[i]) != math.Float64bits(b.X[i]) {
-				t.Fatalf("vertex %d at %g, read back at %g", i/2, a.X[i], b.X[i])
-			}
-		}
-		m, back = a, b
-	}
+	sameRefinements(t, m, back, 2, "read back")
 	// A curve that is not a Circle is left out.
 	own, err := m.WithCurves(map[int32]mesh.Curve{2: mesh.ProjectFunc(func(x, y float64) (float64, float64) {
 		r := math.Hypot(x-1.5, y-1.5)
