@@ -100,72 +100,63 @@ func (r *jsonReader) regions() error {
 	return r.delim(']')
 }
 
-func (r *jsonReader) boundary() error {
-	var buf [3]float64
-	if err := r.delim('['); err != nil {
-		return err
-	}
-	for b := 0; r.dec.More(); b++ {
-		if b >= 3*r.limitT() {
-			return formatErr("boundary", ErrTooLarge, "more than three boundary edges per triangle")
-		}
-		if err := r.tuple(buf[:]); err != nil {
-			return at(err, elem("boundary", b))
-		}
-		for i, v := range buf {
-			err := index(v)
-			if i == 2 {
-				err = integer(v)
-			}
-			if err != nil {
-				return at(err, elem(elem("boundary", b), i))
-			}
-		}
-		r.bnd = append(r.bnd, int32(buf[0]), int32(buf[1]))
-		r.tag = append(r.tag, int32(buf[2]))
-	}
-	return r.delim(']')
-}
-
-// circles reads the circles that curved edges follow.
-func (r *jsonReader) circles() error {
+// triples reads the array under key of triples of numbers, at most three
+// per triangle (tooMany says so otherwise), and hands each to put.
+func (r *jsonReader) triples(key, tooMany string, put func(i int, v [3]float64) error) error {
 	var buf [3]float64
 	if err := r.delim('['); err != nil {
 		return err
 	}
 	for i := 0; r.dec.More(); i++ {
 		if i >= 3*r.limitT() {
-			return formatErr("circles", ErrTooLarge, "more circles than edges")
+			return formatErr(key, ErrTooLarge, "%s", tooMany)
 		}
 		if err := r.tuple(buf[:]); err != nil {
-			return at(err, elem("circles", i))
+			return at(err, elem(key, i))
 		}
-		r.circle = append(r.circle, Circle{X: buf[0], Y: buf[1], R: buf[2]})
+		if err := put(i, buf); err != nil {
+			return err
+		}
 	}
 	return r.delim(']')
 }
 
+func (r *jsonReader) boundary() error {
+	return r.triples("boundary", "more than three boundary edges per triangle", func(b int, v [3]float64) error {
+		for i, x := range v {
+			err := index(x)
+			if i == 2 {
+				err = integer(x)
+			}
+			if err != nil {
+				return at(err, elem(elem("boundary", b), i))
+			}
+		}
+		r.bnd = append(r.bnd, int32(v[0]), int32(v[1]))
+		r.tag = append(r.tag, int32(v[2]))
+		return nil
+	})
+}
+
+// circles reads the circles that curved edges follow.
+func (r *jsonReader) circles() error {
+	return r.triples("circles", "more circles than edges", func(_ int, v [3]float64) error {
+		r.circle = append(r.circle, Circle{X: v[0], Y: v[1], R: v[2]})
+		return nil
+	})
+}
+
 // curvedEdges reads the edges that follow a circle.
 func (r *jsonReader) curvedEdges() error {
-	var buf [3]float64
-	if err := r.delim('['); err != nil {
-		return err
-	}
-	for b := 0; r.dec.More(); b++ {
-		if b >= 3*r.limitT() {
-			return formatErr("curved_edges", ErrTooLarge, "more than three curved edges per triangle")
-		}
-		if err := r.tuple(buf[:]); err != nil {
-			return at(err, elem("curved_edges", b))
-		}
-		for i, v := range buf {
-			if err := index(v); err != nil {
+	return r.triples("curved_edges", "more than three curved edges per triangle", func(b int, v [3]float64) error {
+		for i, x := range v {
+			if err := index(x); err != nil {
 				return at(err, elem(elem("curved_edges", b), i))
 			}
 		}
-		r.curved = append(r.curved, int32(buf[0]), int32(buf[1]), int32(buf[2]))
-	}
-	return r.delim(']')
+		r.curved = append(r.curved, int32(v[0]), int32(v[1]), int32(v[2]))
+		return nil
+	})
 }
 
 // attachCurves gives the curved edges read their circles. Unlike
