@@ -40,11 +40,11 @@
 // midpoint, unless that would leave a new triangle with less than
 // MinCurveArea of its straight area (the curve bending close to an
 // interior vertex): then the vertex stays at the chord midpoint and
-// Parents.Chord lists it. Triangles stay straight. Relabel, TagBoundary,
-// MergeCoincident and VTU files do not keep curves, and JSON files keep
-// only circles (see ReadJSON): attach the others again with WithCurves
-// (boundary edges, by tag) and WithInterfaceCurves (interface edges, by
-// the pair of regions they separate).
+// Parents.Chord lists it. Triangles stay straight. Relabel, TagBoundary
+// and MergeCoincident do not keep curves, and JSON and VTU files keep only
+// circles (see ReadJSON and ReadVTU): attach the others again with
+// WithCurves (boundary edges, by tag) and WithInterfaceCurves (interface
+// edges, by the pair of regions they separate).
 //
 // Refine and RefineUniform keep the indices of the old vertices and number
 // the new ones after them; Reorder renumbers a mesh for locality (vertices

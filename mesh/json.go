@@ -173,26 +173,15 @@ const (
 // the edge's ends, low first, and its circle, in the order of the edges'
 // (low, high) vertex pairs); nothing when no edge follows a circle.
 func jsonCurves(t *textWriter, m *Mesh) {
-	if m.EdgeCurve == nil {
+	circles, edgeCircle := circlesOf(m)
+	if circles == nil {
 		return
-	}
-	circle := make([]int32, len(m.Curves)) // index among the circles, or -1
-	var circles []Circle
-	for i, c := range m.Curves {
-		circle[i] = -1
-		if ci, ok := c.(Circle); ok {
-			circle[i] = int32(len(circles))
-			circles = append(circles, ci)
-		}
 	}
 	var edges []int32
 	for _, e := range sortedEdges(m) {
-		if c := m.EdgeCurve[e]; c >= 0 && circle[c] >= 0 {
+		if edgeCircle[e] >= 0 {
 			edges = append(edges, e)
 		}
-	}
-	if len(edges) == 0 {
-		return
 	}
 	t.str(",\n\"circles\":[")
 	for i, c := range circles {
@@ -217,7 +206,7 @@ func jsonCurves(t *textWriter, m *Mesh) {
 		t.str(",")
 		t.int(int64(m.Edge[2*e+1]))
 		t.str(",")
-		t.int(int64(circle[m.EdgeCurve[e]]))
+		t.int(int64(edgeCircle[e]))
 		t.str("]")
 	}
 	t.str("]")

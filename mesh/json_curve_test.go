@@ -17,22 +17,7 @@ import (
 // vertices, bit for bit. A curve of another kind is not written.
 func TestJSONCurves(t *testing.T) {
 	t.Parallel()
-	d := fibre()
-	// A channel: a hole of radius 0.25 at (1.5, 1.5) in the matrix.
-	first := int32(len(d.Points) / 2)
-	for q := range 4 {
-		c, s := [4]float64{1, 0, -1, 0}[q], [4]float64{0, 1, 0, -1}[q]
-		d.Points = append(d.Points, 1.5+0.25*c, 1.5+0.25*s)
-		d.Segments = append(d.Segments, first+int32(q), first+int32((q+1)%4))
-		d.Tags = append(d.Tags, 2)
-		d.SegCurve = append(d.SegCurve, 1)
-	}
-	d.Curves = append(d.Curves, mesh.Circle{X: 1.5, Y: 1.5, R: 0.25})
-	d.Holes = []float64{1.5, 1.5}
-	m, _, err := mesh.Triangulate(d, mesh.Options{H: 0.5})
-	if err != nil {
-		t.Fatal(err)
-	}
+	m := channelFibre(t)
 	var buf bytes.Buffer
 	if err := mesh.WriteJSON(&buf, m, nil); err != nil {
 		t.Fatal(err)
@@ -60,6 +45,29 @@ func TestJSONCurves(t *testing.T) {
 	if strings.Contains(buf.String(), "circles") {
 		t.Error("a ProjectFunc curve was written")
 	}
+}
+
+// channelFibre meshes fibre() with a channel: a hole of radius 0.25 at
+// (1.5, 1.5) in the matrix, tagged 2; the fibre's interface and the
+// channel's boundary follow circles 0 and 1.
+func channelFibre(t *testing.T) *mesh.Mesh {
+	t.Helper()
+	d := fibre()
+	first := int32(len(d.Points) / 2)
+	for q := range 4 {
+		c, s := [4]float64{1, 0, -1, 0}[q], [4]float64{0, 1, 0, -1}[q]
+		d.Points = append(d.Points, 1.5+0.25*c, 1.5+0.25*s)
+		d.Segments = append(d.Segments, first+int32(q), first+int32((q+1)%4))
+		d.Tags = append(d.Tags, 2)
+		d.SegCurve = append(d.SegCurve, 1)
+	}
+	d.Curves = append(d.Curves, mesh.Circle{X: 1.5, Y: 1.5, R: 0.25})
+	d.Holes = []float64{1.5, 1.5}
+	m, _, err := mesh.Triangulate(d, mesh.Options{H: 0.5})
+	if err != nil {
+		t.Fatal(err)
+	}
+	return m
 }
 
 // ReadJSON rejects curves that do not fit the mesh.

@@ -159,51 +159,13 @@ func (r *jsonReader) curvedEdges() error {
 	})
 }
 
-// attachCurves gives the curved edges read their circles. Unlike
-// WithCurves it does not require the ends of an edge to lie on its
-// circle: a refinement may have left a vertex on the chord (see Refine).
+// attachCurves gives the curved edges read their circles (see
+// curveReading.attach).
 func (r *jsonReader) attachCurves(m *Mesh) (*Mesh, error) {
-	if len(r.curved) == 0 {
-		if len(r.circle) > 0 {
-			return nil, formatErr("circles", ErrFormat, "no curved_edges follow them")
-		}
-		return m, nil
-	}
-	for i, c := range r.circle {
-		if err := checkCurve(c); err != nil {
-			return nil, at(formatErr("", ErrFormat, "%v", err), elem("circles", i))
-		}
-	}
-	m.Curves = make([]Curve, len(r.circle))
-	for i, c := range r.circle {
-		m.Curves[i] = c
-	}
-	m.EdgeCurve = make([]int32, m.NumEdges())
-	for e := range m.EdgeCurve {
-		m.EdgeCurve[e] = -1
-	}
-	for b := 0; b < len(r.curved); b += 3 {
-		field := elem("curved_edges", b/3)
-		a, v, k := r.curved[b], r.curved[b+1], r.curved[b+2]
-		e := -1
-		if int(max(a, v)) < m.NumVertices() {
-			e = m.findEdge(a, v)
-		}
-		switch {
-		case e < 0:
-			return nil, formatErr(field, ErrFormat, "%d–%d is not an edge of the mesh", a, v)
-		case int(k) >= len(r.circle):
-			return nil, formatErr(field, ErrFormat, "circle %d of %d", k, len(r.circle))
-		case m.EdgeCurve[e] >= 0:
-			return nil, formatErr(field, ErrFormat, "edge %d–%d listed twice", a, v)
-		}
-		c := r.circle[k]
-		if _, _, err := project(c, 0.5*(m.X[2*a]+m.X[2*v]), 0.5*(m.X[2*a+1]+m.X[2*v+1])); err != nil {
-			return nil, &FormatError{Format: "json", Field: field, Err: fmt.Errorf("%w: edge %d–%d: %w", ErrFormat, a, v, err)}
-		}
-		m.EdgeCurve[e] = k
-	}
-	return m, nil
+	c := &curveReading{format: "json", circles: r.circle, curved: r.curved, emptyField: "circles",
+		circleField: func(i int) string { return elem("circles", i) },
+		edgeField:   func(i int) string { return elem("curved_edges", i) }}
+	return c.attach(m)
 }
 
 // fields reads an object of named arrays of at most limit numbers each, or

@@ -17,9 +17,14 @@ const (
 // Names of the cell arrays that WriteVTU writes from the mesh itself; Cell
 // fields may not use them.
 const (
-	vtuRegion  = "region"
-	vtuEdgeTag = "edge_tag"
+	vtuRegion    = "region"
+	vtuEdgeTag   = "edge_tag"
+	vtuEdgeCurve = "edge_curve"
 )
+
+// vtuCircles is the name of the FieldData array of the circles that edges
+// follow.
+const vtuCircles = "circles"
 
 // VTUEncoding selects how WriteVTU stores the arrays of a VTU file.
 type VTUEncoding int
@@ -82,6 +87,15 @@ type VTUOptions struct {
 // Cell fields of d as Float64. The point data hold the Point fields as
 // Float64. Fields are written in sorted name order.
 //
+// When edges of m follow circles (Circle values of m.Curves), the
+// UnstructuredGrid's FieldData holds a Float64 array "circles" of 3
+// components (x and y of the centre, and the radius; NumberOfTuples the
+// number of circles, in the order of m.Curves), and the cell data an Int32
+// array "edge_curve" of 3 components holding, for the cell's edges 0–1,
+// 1–2 and 2–0, the index of the circle the edge follows, or -1; ReadVTU
+// attaches them again. Curves of other kinds (ProjectFunc) are not
+// written.
+//
 // Binary data are compressed by default in blocks of 64 KiB with
 // compress/zlib at its fastest level, the blocks in parallel; the output
 // does not depend on GOMAXPROCS. WriteVTU holds the compressed data of the
@@ -96,7 +110,7 @@ type VTUOptions struct {
 // two-core machine).
 //
 // d is checked with Data.Check before anything is written; a Cell field may
-// not be called "region" or "edge_tag". Errors from w are returned wrapped.
+// not be called "region", "edge_tag" or "edge_curve". Errors from w are returned wrapped.
 func WriteVTU(w io.Writer, m *Mesh, d *Data, opt *VTUOptions) error {
 	if err := checkShape(m, "vtu"); err != nil {
 		return err
@@ -114,7 +128,7 @@ func WriteVTU(w io.Writer, m *Mesh, d *Data, opt *VTUOptions) error {
 	if d == nil {
 		d = &Data{}
 	}
-	for _, name := range []string{vtuRegion, vtuEdgeTag} {
+	for _, name := range []string{vtuRegion, vtuEdgeTag, vtuEdgeCurve} {
 		if _, ok := d.Cell[name]; ok {
 			return fmt.Errorf("mesh: vtu: cell field name %q is reserved for the mesh's own array: %w", name, ErrArgument)
 		}
@@ -148,15 +162,21 @@ func WriteVTU(w io.Writer, m *Mesh, d *Data, opt *VTUOptions) error {
 	return nil
 }
 
-// Sections of a Piece, in the order in which WriteVTU writes them.
+// Sections of a Piece, in the order in which WriteVTU writes them, and
+// then the FieldData of the UnstructuredGrid, which WriteVTU writes before
+// the Piece.
 const (
 	inPointData = iota
 	inCellData
 	inPoints
 	inCells
+	inFieldData
 )
 
-var sectionNames = [...]string{"PointData", "CellData", "Points", "Cells"}
+var sectionNames = [...]string{"PointData", "CellData", "Points", "Cells", "FieldData"}
+
+// pieceSections is the number of sections of a Piece.
+const pieceSections = inFieldData
 
 // vtuArray describes one DataArray to write: n values (components
 // counted), of width bytes each, given by f for a Float64 array and by k
@@ -182,6 +202,14 @@ func vtuArrays(m *Mesh, d *Data) []*vtuArray {
 		np, npc, typ = nv+m.NumEdges(), 6, vtkQuadraticTriangle
 	}
 	var out []*vtuArray
+	circles, edgeCircle := circlesOf(m)
+	if circles != nil {
+		out = append(out, &vtuArray{section: inFieldData, typ: "Float64", name: vtuCircles, ncomp: 3, n: 3 * len(circles), width: 8,
+			f: func(i int) float64 {
+				c := circles[i/3]
+				return [3]float64{c.X, c.Y, c.R}[i%3]
+			}})
+	}
 	for _, name := range sortedNames(d.Point) {
 		v, ev := d.Point[name], d.Edge[name]
 		f := func(i int) float64 {
@@ -200,6 +228,10 @@ func vtuArrays(m *Mesh, d *Data) []*vtuArray {
 		k: func(k int) int64 { return int64(m.Region[k]) }})
 	out = append(out, &vtuArray{section: inCellData, typ: "Int32", name: vtuEdgeTag, ncomp: 3, n: 3 * nt, width: 4,
 		k: func(i int) int64 { return int64(m.EdgeTag[m.TriEdge[vtkEdge(i)]]) }})
+	if circles != nil {
+		out = append(out, &vtuArray{section: inCellData, typ: "Int32", name: vtuEdgeCurve, ncomp: 3, n: 3 * nt, width: 4,
+			k: func(i int) int64 { return int64(edgeCircle[m.TriEdge[vtkEdge(i)]]) }})
+	}
 	for _, name := range sortedNames(d.Cell) {
 		v := d.Cell[name]
 		out = append(out, &vtuArray{section: inCellData, typ: "Float64", name: name, n: nt, width: 8,
@@ -272,36 +304,11 @@ func (e *vtuEncoder) write(m *Mesh) {
 			np = a.n / 3
 		}
 	}
-	t.printf("    <Piece NumberOfPoints=\"%d\" NumberOfCells=\"%d\">\n", np, m.NumTriangles())
 	offset := 0
-	for s := range sectionNames {
-		t.str("      <" + sectionNames[s] + ">\n")
-		for _, a := range e.arrays {
-			if a.section != s {
-				continue
-			}
-			t.str("        <DataArray type=\"" + a.typ + "\"")
-			if a.name != "" {
-				t.str(" Name=\"" + a.name + "\"")
-			}
-			if a.ncomp > 0 {
-				t.str(" NumberOfComponents=\"" + strconv.Itoa(a.ncomp) + "\"")
-			}
-			switch e.o.Encoding {
-			case VTUASCII:
-				t.str(" format=\"ascii\">\n")
-				e.ascii(a)
-				t.str("        </DataArray>\n")
-			case VTUInline:
-				t.str(" format=\"binary\">\n          ")
-				e.binary(a, true)
-				t.str("\n        </DataArray>\n")
-			default:
-				t.str(" format=\"appended\" offset=\"" + strconv.Itoa(offset) + "\"/>\n")
-				offset += e.encodedSize(a)
-			}
-		}
-		t.str("      </" + sectionNames[s] + ">\n")
+	e.section(inFieldData, "    ", &offset)
+	t.printf("    <Piece NumberOfPoints=\"%d\" NumberOfCells=\"%d\">\n", np, m.NumTriangles())
+	for s := range pieceSections {
+		e.section(s, "      ", &offset)
 	}
 	t.str("    </Piece>\n  </UnstructuredGrid>\n")
 	if e.o.Encoding == VTUAppendedRaw || e.o.Encoding == VTUAppendedBase64 {
@@ -317,6 +324,51 @@ func (e *vtuEncoder) write(m *Mesh) {
 		t.str("\n  </AppendedData>\n")
 	}
 	t.str("</VTKFile>\n")
+}
+
+// section writes the DataArray elements of section s, with the given
+// indentation, advancing offset by the appended size of each. A FieldData
+// section is left out when it has no arrays; its arrays carry
+// NumberOfTuples, as the format requires there.
+func (e *vtuEncoder) section(s int, indent string, offset *int) {
+	t := e.t
+	some := false
+	for _, a := range e.arrays {
+		some = some || a.section == s
+	}
+	if s == inFieldData && !some {
+		return
+	}
+	t.str(indent + "<" + sectionNames[s] + ">\n")
+	for _, a := range e.arrays {
+		if a.section != s {
+			continue
+		}
+		t.str(indent + "  <DataArray type=\"" + a.typ + "\"")
+		if a.name != "" {
+			t.str(" Name=\"" + a.name + "\"")
+		}
+		if a.ncomp > 0 {
+			t.str(" NumberOfComponents=\"" + strconv.Itoa(a.ncomp) + "\"")
+		}
+		if s == inFieldData {
+			t.str(" NumberOfTuples=\"" + strconv.Itoa(a.n/max(a.ncomp, 1)) + "\"")
+		}
+		switch e.o.Encoding {
+		case VTUASCII:
+			t.str(" format=\"ascii\">\n")
+			e.ascii(a)
+			t.str(indent + "  </DataArray>\n")
+		case VTUInline:
+			t.str(" format=\"binary\">\n" + indent + "    ")
+			e.binary(a, true)
+			t.str("\n" + indent + "  </DataArray>\n")
+		default:
+			t.str(" format=\"appended\" offset=\"" + strconv.Itoa(*offset) + "\"/>\n")
+			*offset += e.encodedSize(a)
+		}
+	}
+	t.str(indent + "</" + sectionNames[s] + ">\n")
 }
 
 // ascii writes the values of a as text, a few to a line.

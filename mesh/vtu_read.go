@@ -41,8 +41,17 @@ import (
 // is read as a Point field alone, which is the same function up to the
 // rounding of that mean). Two midpoint points of one edge must carry equal
 // values. Field names follow the rules of Data; arrays of several
-// components other than "edge_tag" are refused, and FieldData and other
-// elements are ignored.
+// components other than "edge_tag" and "edge_curve" are refused.
+//
+// Circles, as WriteVTU writes them: a FieldData array "circles" of the
+// UnstructuredGrid (3 components, x, y and r, and NumberOfTuples) and a
+// CellData array "edge_curve" of 3 components (for each cell edge in the
+// order of "edge_tag", the index of its circle or -1; the two cells of an
+// interior edge must agree) give the mesh's Curves and EdgeCurve. As in
+// ReadJSON, the ends of a curved edge need not lie on its circle (a vertex
+// that Refine left on a chord), but the midpoint of its chord must not be
+// the centre (ErrNotFinite). Other FieldData arrays, and other elements,
+// are ignored.
 //
 // Malformed input gives a *FormatError wrapping ErrFormat (and ErrNotFinite
 // for a NaN or infinite field value), or ErrTooLarge for more than
@@ -76,6 +85,7 @@ type vtuInput struct {
 	typ     string
 	name    string
 	ncomp   int
+	tuples  int    // NumberOfTuples, for a FieldData array
 	format  string // ascii, binary or appended
 	offset  int
 	text    []byte
@@ -95,9 +105,16 @@ type vtuParser struct {
 	appEnc     string // raw or base64
 }
 
+// isCircles tells whether a DataArray of FieldData is the one ReadVTU
+// reads (the others are ignored).
+func isCircles(se xml.StartElement) bool {
+	name, _ := attr(se, "Name")
+	return name == vtuCircles
+}
+
 // Sections of a Piece that hold DataArrays: the order of sectionNames.
 func sectionOf(name string) int {
-	for s, n := range sectionNames {
+	for s, n := range sectionNames[:pieceSections] {
 		if n == name {
 			return s
 		}
@@ -119,7 +136,7 @@ func (p *vtuParser) parse() error {
 	p.appended = -1
 	dec := xml.NewDecoder(bytes.NewReader(p.src))
 	var stack []string
-	section := -1
+	section, sectionDepth := -1, -1
 	for {
 		tok, err := dec.Token()
 		if err == io.EOF {
@@ -147,9 +164,11 @@ func (p *vtuParser) parse() error {
 				if err := p.piece(t); err != nil {
 					return err
 				}
+			case depth == 2 && name == "FieldData" && stack[1] == "UnstructuredGrid":
+				section, sectionDepth = inFieldData, depth
 			case depth == 3 && stack[2] == "Piece" && sectionOf(name) >= 0:
-				section = sectionOf(name)
-			case depth == 4 && section >= 0 && name == "DataArray":
+				section, sectionDepth = sectionOf(name), depth
+			case depth == sectionDepth+1 && section >= 0 && name == "DataArray" && (section != inFieldData || isCircles(t)):
 				a, err := p.dataArray(dec, t, section)
 				if err != nil {
 					return err
@@ -164,8 +183,8 @@ func (p *vtuParser) parse() error {
 			}
 		case xml.EndElement:
 			stack = stack[:len(stack)-1]
-			if len(stack) == 3 {
-				section = -1
+			if len(stack) == sectionDepth {
+				section, sectionDepth = -1, -1
 			}
 		}
 	}
@@ -257,6 +276,14 @@ func (p *vtuParser) dataArray(dec *xml.Decoder, se xml.StartElement, section int
 	}
 	if _, ok := typeWidth(a.typ); !ok {
 		return nil, vtuErr(a.field, ErrFormat, "type %q is not a numeric type of the format", a.typ)
+	}
+	if section == inFieldData {
+		s, _ := attr(se, "NumberOfTuples")
+		n, err := strconv.ParseUint(s, 10, 31)
+		if err != nil {
+			return nil, vtuErr(a.field, ErrFormat, "NumberOfTuples %q is not a count", s)
+		}
+		a.tuples = int(n)
 	}
 	switch a.format {
 	case "ascii", "binary":
@@ -374,9 +401,19 @@ func (p *vtuParser) expected(a *vtuInput) (n int, exact bool, err error) {
 			return 0, false, vtuErr(a.field, ErrFormat, "%d components: only arrays of one component are read", a.ncomp)
 		}
 		return p.np, true, nil
+	case inFieldData:
+		// The circles: at most one per cell edge, since each must be
+		// followed by an edge.
+		if a.ncomp != 3 {
+			return 0, false, vtuErr(a.field, ErrFormat, "%d components, want 3 (x, y and r of each circle)", a.ncomp)
+		}
+		if a.tuples > 3*p.nc {
+			return 0, false, vtuErr(a.field, ErrFormat, "%d circles, more than the %d cell edges", a.tuples, 3*p.nc)
+		}
+		return 3 * a.tuples, true, nil
 	case inCellData:
 		want := 1
-		if a.name == vtuEdgeTag {
+		if a.name == vtuEdgeTag || a.name == vtuEdgeCurve {
 			want = 3
 		}
 		if a.ncomp != want {
@@ -506,9 +543,12 @@ func (p *vtuParser) build() (*Mesh, *Data, error) {
 	if err != nil {
 		return nil, nil, within("vtu", err)
 	}
+	if m, err = p.attachCurves(m, tri); err != nil {
+		return nil, nil, err
+	}
 	d := &Data{}
 	for _, f := range p.arrays {
-		if f.section != inCellData || f.name == vtuRegion || f.name == vtuEdgeTag {
+		if f.section != inCellData || f.name == vtuRegion || f.name == vtuEdgeTag || f.name == vtuEdgeCurve {
 			continue
 		}
 		if d.Cell == nil {
@@ -578,4 +618,49 @@ func (p *vtuParser) build() (*Mesh, *Data, error) {
 		}
 	}
 	return m, d, nil
+}
+
+// attachCurves gives the mesh the circles of the FieldData array "circles"
+// on the edges that the CellData array "edge_curve" names (see ReadVTU).
+func (p *vtuParser) attachCurves(m *Mesh, tri []int32) (*Mesh, error) {
+	ca, ec := p.find(inFieldData, vtuCircles), p.find(inCellData, vtuEdgeCurve)
+	c := &curveReading{format: "vtu", emptyField: "FieldData." + vtuCircles,
+		circleField: func(i int) string { return elem("FieldData."+vtuCircles, i) }}
+	if ca != nil {
+		for i := 0; i < len(ca.values); i += 3 {
+			c.circles = append(c.circles, Circle{X: ca.values[i], Y: ca.values[i+1], R: ca.values[i+2]})
+		}
+	}
+	if ec == nil {
+		return c.attach(m)
+	}
+	// Each curved edge once, from the first cell that names it; the other
+	// cell of an interior edge must give the same value.
+	const unseen = -2
+	circle := make([]int32, m.NumEdges())
+	for e := range circle {
+		circle[e] = unseen
+	}
+	var first []int // the place in edge_curve of each curved edge
+	for i, v := range ec.values {
+		field := elem("CellData."+vtuEdgeCurve, i)
+		if err := integer(v); err != nil || v < -1 {
+			return nil, vtuErr(field, ErrFormat, "%v is not a circle index or -1", v)
+		}
+		k, j := i/3, i%3
+		a, b := tri[3*k+j], tri[3*k+(j+1)%3]
+		e := m.findEdge(a, b)
+		switch {
+		case circle[e] == unseen:
+			circle[e] = int32(v)
+			if v >= 0 {
+				c.curved = append(c.curved, a, b, int32(v))
+				first = append(first, i)
+			}
+		case float64(circle[e]) != v:
+			return nil, vtuErr(field, ErrFormat, "%v, but another cell gives edge %d–%d the value %d", v, a, b, circle[e])
+		}
+	}
+	c.edgeField = func(i int) string { return elem("CellData."+vtuEdgeCurve, first[i]) }
+	return c.attach(m)
 }

@@ -511,9 +511,10 @@ func TestReadVTUHostileHeaders(t *testing.T) {
 
 // FuzzReadVTU reads arbitrary bytes: ReadVTU must never panic, must
 // return a *FormatError or a *ValidationError on failure, and on success
-// give a valid mesh and fields that WriteVTU writes and ReadVTU reads back
-// unchanged. The seeds are files of WriteVTU in every encoding, linear and
-// quadratic, and the hand-built files of TestReadVTUSpecFiles.
+// give a valid mesh, fields and curves that WriteVTU writes and ReadVTU
+// reads back unchanged. The seeds are files of WriteVTU in every encoding,
+// linear and quadratic, with and without circles, and the hand-built files
+// of TestReadVTUSpecFiles.
 func FuzzReadVTU(f *testing.F) {
 	m, err := Rectangle(0, 0, 1, 1, 1, 1)
 	if err != nil {
@@ -527,6 +528,17 @@ func FuzzReadVTU(f *testing.F) {
 			}
 			f.Add(buf.Bytes())
 		}
+	}
+	curved, err := m.WithCurves(map[int32]Curve{SideBottom: Circle{X: 0.5, Y: 0.5, R: math.Sqrt(0.5)}})
+	if err != nil {
+		f.Fatal(err)
+	}
+	for _, o := range vtuEncodings() {
+		var buf bytes.Buffer
+		if err := WriteVTU(&buf, curved, nil, &o); err != nil {
+			f.Fatal(err)
+		}
+		f.Add(buf.Bytes())
 	}
 	for _, o := range specEncodings() {
 		f.Add(specFile(o, 4, 2, specLinear()))
@@ -558,6 +570,9 @@ func FuzzReadVTU(f *testing.F) {
 		}
 		if !sameMesh(m, m2) || !sameData(m, m2, d, d2) {
 			t.Fatal("round trip changed the mesh or the fields")
+		}
+		if !slices.Equal(m.EdgeCurve, m2.EdgeCurve) || !slices.Equal(m.Curves, m2.Curves) {
+			t.Fatalf("round trip changed the curves: %v on %v, then %v on %v", m.Curves, m.EdgeCurve, m2.Curves, m2.EdgeCurve)
 		}
 	})
 }
