@@ -125,8 +125,10 @@ func circlesField(n, values string) string {
 }
 
 // ReadVTU reads the circles of a file written by hand after the layout of
-// the VTK XML format (FieldData with NumberOfTuples), ignores other
-// FieldData arrays, and rejects curves that do not fit the mesh.
+// the VTK XML format (a FieldData element in the UnstructuredGrid element,
+// before the Piece, its DataArrays with NumberOfTuples: from memory of the
+// format), ignores other FieldData arrays, and rejects curves that do not
+// fit the mesh.
 func TestReadVTUCurves(t *testing.T) {
 	t.Parallel()
 	good := circlesField("1", "0 1 1")
