@@ -89,10 +89,11 @@ import (
 // Cost, measured (BenchmarkFluxRecovery, the sine problem, uniform meshes,
 // a two-core machine, three runs of go test -run XXX -bench
 // 'FluxRecovery/(P1|spmv)/n=(100000|1000000)$' -benchtime 4x, timing
-// calls that reuse dst's scratch, as the adaptive loop does): P1 191–279
-// ns per triangle at 1e6 triangles (median 201: about 71 products with
-// the P1 stiffness matrix of the same mesh, which took 2.68–2.98 ns per
-// triangle, median 2.84) and 199–280 at 1e5 (median 208), 5 CG
+// calls that reuse dst's scratch, as the adaptive loop does): P1 189–196
+// ns per triangle at 1e6 triangles (median 193: about 100 products with
+// the P1 stiffness matrix of the same mesh, which took 1.92–1.94 ns per
+// triangle in these runs, median 1.93; in an earlier set of runs the
+// product took 2.68–2.98), and 234–264 at 1e5 (median 237), 5 CG
 // iterations; P2 6,354 ns per triangle at 1e4 (one run of an earlier
 // version, -benchtime 1x, timing the first call). The P1 path
 // assembles the system, its diagonal and the local guess in one pass over
