@@ -18,6 +18,14 @@ import (
 // with 16, 3.6–4.9 s and 892–914 MB; with a new hierarchy at every step,
 // 5.8–6.9 s and 938–942 MB. Every solve took at most 5 iterations (199 in
 // all) in each case.
+//
+// Memory: the base is kept from one Prepare to the next, so the peak of a
+// sequence grows by the base's hierarchy, which right after the base has
+// moved on is that of the previous system. On the adaptive loop (unknowns
+// growing about 1.3 times a step) that is within the figures above, which
+// depend on where the loop stops; on a loop that bisects every triangle
+// (unknowns doubling at each step, to 788,481) the peak was 1.00 GB
+// against 0.66 GB with a new hierarchy at every step (one run each).
 const DefaultNestedRatio = 8
 
 // Nested prepares multigrid preconditioners for a sequence of P1 systems
