@@ -31,13 +31,7 @@ func TestJSONCurves(t *testing.T) {
 	}
 	sameRefinements(t, m, back, 2, "read back")
 	// A curve that is not a Circle is left out.
-	own, err := m.WithCurves(map[int32]mesh.Curve{2: mesh.ProjectFunc(func(x, y float64) (float64, float64) {
-		r := math.Hypot(x-1.5, y-1.5)
-		return 1.5 + 0.25*(x-1.5)/r, 1.5 + 0.25*(y-1.5)/r
-	})})
-	if err != nil {
-		t.Fatal(err)
-	}
+	own := projectFuncChannel(t, m)
 	buf.Reset()
 	if err := mesh.WriteJSON(&buf, own, nil); err != nil {
 		t.Fatal(err)
@@ -68,6 +62,20 @@ func channelFibre(t *testing.T) *mesh.Mesh {
 		t.Fatal(err)
 	}
 	return m
+}
+
+// projectFuncChannel returns m with its channel (tag 2) following the
+// same circle given as a ProjectFunc, a curve that files do not keep.
+func projectFuncChannel(t *testing.T, m *mesh.Mesh) *mesh.Mesh {
+	t.Helper()
+	own, err := m.WithCurves(map[int32]mesh.Curve{2: mesh.ProjectFunc(func(x, y float64) (float64, float64) {
+		r := math.Hypot(x-1.5, y-1.5)
+		return 1.5 + 0.25*(x-1.5)/r, 1.5 + 0.25*(y-1.5)/r
+	})})
+	if err != nil {
+		t.Fatal(err)
+	}
+	return own
 }
 
 // ReadJSON rejects curves that do not fit the mesh.

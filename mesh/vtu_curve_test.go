@@ -3,7 +3,6 @@ package mesh_test
 import (
 	"bytes"
 	"errors"
-	"math"
 	"slices"
 	"strings"
 	"testing"
@@ -67,13 +66,7 @@ func TestVTUCurves(t *testing.T) {
 		t.Error("refined mesh: curves differ after the round trip")
 	}
 	// A curve that is not a Circle is left out.
-	own, err := m.WithCurves(map[int32]mesh.Curve{2: mesh.ProjectFunc(func(x, y float64) (float64, float64) {
-		r := math.Hypot(x-1.5, y-1.5)
-		return 1.5 + 0.25*(x-1.5)/r, 1.5 + 0.25*(y-1.5)/r
-	})})
-	if err != nil {
-		t.Fatal(err)
-	}
+	own := projectFuncChannel(t, m)
 	buf.Reset()
 	if err := mesh.WriteVTU(&buf, own, nil, &mesh.VTUOptions{Encoding: mesh.VTUASCII}); err != nil {
 		t.Fatal(err)
