@@ -34,5 +34,5 @@ func ExampleRun() {
 	last := res.Steps[len(res.Steps)-1]
 	fmt.Printf("%v after %d steps: %d triangles, %d DOFs, estimate %.4g\n", res.Status, len(res.Steps), last.Triangles, last.DOFs, last.Estimate)
 	// Output:
-	// converged after 21 steps: 8854 triangles, 4527 DOFs, estimate 0.0437
+	// converged after 21 steps: 8864 triangles, 4532 DOFs, estimate 0.04368
 }

@@ -102,12 +102,10 @@ func compareGoalRuns(t *testing.T, what string, got, want map[string]*Result, to
 // dual solutions and indicators to within 1e-10 relative (an arithmetic
 // identity; common practice, no source). The estimator's own fast path is
 // checked against its general path in package estimate
-// (TestDualWeightedFastPath). FEMSolver builds a new hierarchy at every
-// step here, as the plain Solver does (the loop's default reuses the
-// hierarchies of earlier steps, see fem.Nested, which gives other iterates).
+// (TestDualWeightedFastPath).
 func TestGoalSolverReuse(t *testing.T) {
 	t.Parallel()
-	compareGoalRuns(t, "FEMSolver vs plain Solver", goalRuns(t, FEMSolver{fresh: true}), goalRuns(t, plainSolver{}), 1e-10)
+	compareGoalRuns(t, "FEMSolver vs plain Solver", goalRuns(t, FEMSolver{}), goalRuns(t, plainSolver{}), 1e-10)
 }
 
 // TestGoalDeterminism checks that the goal-oriented runs are bit-identical

@@ -157,16 +157,9 @@ type TargetSolver interface {
 }
 
 // FEMSolver is the default Solver: fem.Assemble and System.Solve with the
-// given settings (X0 is replaced by the guess). In the loop of Run, with
-// the Multigrid preconditioner, the multigrid hierarchy of each P1 step is
-// built on the levels of an earlier step's (fem.Nested, carried through
-// each refinement's parent map) instead of anew: the results are those of
-// a solve to the same tolerance with another preconditioner, not the same
-// bits as with a new hierarchy.
+// given settings (X0 is replaced by the guess).
 type FEMSolver struct {
 	Settings fem.SolveSettings
-
-	fresh bool // test hook: a new multigrid hierarchy at every step of the loop
 }
 
 var _ TargetSolver = FEMSolver{}
@@ -175,25 +168,18 @@ var _ TargetSolver = FEMSolver{}
 // error is at most energyTol (fem.SolveSettings.EnergyTol; 0 leaves the
 // settings' own value), and returns the solver's stats.
 func (f FEMSolver) SolveTo(s *fem.Space, p *fem.Problem, guess []float64, energyTol float64) ([]float64, fem.SolveStats, error) {
-	u, stats, _, err := f.solve(s, p, guess, energyTol, nil)
+	u, stats, _, err := f.solve(s, p, guess, energyTol)
 	return u, stats, err
 }
 
 // solve is SolveTo, also returning the system with its preconditioner,
-// from which the loop solves a goal's dual problem (goalState.step). With
-// nested not nil and the Multigrid preconditioner, the preconditioner is
-// nested's (see fem.Nested).
-func (f FEMSolver) solve(s *fem.Space, p *fem.Problem, guess []float64, energyTol float64, nested *fem.Nested) ([]float64, fem.SolveStats, *fem.Prepared, error) {
+// from which the loop solves a goal's dual problem (goalState.step).
+func (f FEMSolver) solve(s *fem.Space, p *fem.Problem, guess []float64, energyTol float64) ([]float64, fem.SolveStats, *fem.Prepared, error) {
 	sys, err := fem.Assemble(s, p)
 	if err != nil {
 		return nil, fem.SolveStats{}, nil, err
 	}
-	var ps *fem.Prepared
-	if nested != nil && f.Settings.Preconditioner == fem.Multigrid {
-		ps, err = nested.Prepare(sys)
-	} else {
-		ps, err = sys.Prepare(f.Settings.Preconditioner)
-	}
+	ps, err := sys.Prepare(f.Settings.Preconditioner)
 	if err != nil {
 		return nil, fem.SolveStats{}, nil, err
 	}
@@ -348,7 +334,6 @@ func Run(ctx context.Context, p Problem, s Settings, meth Method) (*Result, erro
 	var err2 []float64
 	var gs *goalState
 	var dualGuess []float64
-	var nested fem.Nested // the multigrid hierarchies of FEMSolver, reused from step to step
 	if meth.Goal != nil {
 		gs = &goalState{goal: meth.Goal, dual: fem.Dual(p.Data, meth.Goal)}
 	}
@@ -381,11 +366,7 @@ func Run(ctx context.Context, p Problem, s Settings, meth Method) (*Result, erro
 		if fs, ok := meth.Solver.(FEMSolver); ok {
 			// The library's solver keeps the system for the dual solve.
 			var ps *fem.Prepared
-			nm := &nested
-			if fs.fresh {
-				nm = nil
-			}
-			uv, st, ps, err = fs.solve(sp, p.Data, g, etol, nm)
+			uv, st, ps, err = fs.solve(sp, p.Data, g, etol)
 			if gs != nil {
 				gs.primal = ps
 			}
@@ -489,9 +470,6 @@ func Run(ctx context.Context, p Problem, s Settings, meth Method) (*Result, erro
 			next, parents, err = m.Refine(marks)
 			if err == nil && !s.KeepOrder {
 				next, parents, err = reorder(next, parents)
-			}
-			if err == nil {
-				nested.Refine(m, parents)
 			}
 			collectGarbage(rec.Triangles)
 			rec.RefineTime = time.Since(t)

@@ -50,7 +50,7 @@ func Example() {
 	}
 	// Output:
 	// smooth, residual P1: 19 steps, 1881 DOFs, effectivity 5.704 (4.927 to 6.08), error rate 0.479
-	// smooth, jumps P1: 18 steps, 1471 DOFs, effectivity 3.267 (3.115 to 3.433), error rate 0.527
-	// lshape, residual P1: 18 steps, 1873 DOFs, effectivity 3.399 (2.978 to 3.399), error rate 0.541
-	// lshape, jumps P1: 18 steps, 1873 DOFs, effectivity 3.399 (2.978 to 3.399), error rate 0.541
+	// smooth, jumps P1: 18 steps, 1465 DOFs, effectivity 3.272 (3.115 to 3.431), error rate 0.527
+	// lshape, residual P1: 18 steps, 1874 DOFs, effectivity 3.399 (2.978 to 3.399), error rate 0.541
+	// lshape, jumps P1: 18 steps, 1874 DOFs, effectivity 3.399 (2.978 to 3.399), error rate 0.541
 }

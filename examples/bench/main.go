@@ -13,9 +13,6 @@
 //	spmv-p1       one product with the P1 stiffness matrix (the unit)
 //	loop          the whole adaptive loop that made the mesh, from the coarse mesh
 //	last-step     its last step: solve, estimate, mark, refine
-//	last-solve    the solve of that step as the loop does it: assembly, a multigrid
-//	              hierarchy on the levels of an earlier step's (fem.Nested), and CG
-//	              from the previous solution to a tenth of the previous estimate
 //	peak-rss      the process's peak resident memory after the loop (bytes per triangle)
 //	peak-go       the most memory the Go runtime held during the loop (bytes per triangle)
 //	loop-p2       the same loop with P2 elements until at least n P2 DOFs (unit: its P2 SpMV)
@@ -28,8 +25,7 @@
 //	flux-p1       the interface-robust flux recovery estimator
 //	dorfler       Dörfler marking, θ = 0.5, of the residual indicators
 //	refine        newest-vertex bisection of that marking, with the new topology
-//	solve-p1      solver setup (a new multigrid hierarchy) and a solve from zero to
-//	              relative residual 1e-8
+//	solve-p1      solver setup and a solve from zero to relative residual 1e-8
 //
 // and prints a table (stage, size, time, cost per element, ratio to the
 // unit) and, with -csv FILE, the same as CSV. The unit is timed between
@@ -373,7 +369,6 @@ func measure(n, reps int, sysDir string) ([]Row, error) {
 		{Stage: "spmv-p1", Size: size, Elems: size, Per: "row", Seconds: u1.best, Unit: u1.best},
 		{Stage: "loop", Size: size, Elems: size, Per: "DOF", Seconds: loop, Unit: u1.best},
 		{Stage: "last-step", Size: size, Elems: ls.DOFs, Per: "DOF", Seconds: step, Unit: u1.best},
-		{Stage: "last-solve", Size: size, Elems: ls.DOFs, Per: "DOF", Seconds: ls.SolveTime.Seconds(), Unit: u1.best},
 		{Stage: "spmv-p2", Size: size, Elems: s2.NumDOF(), Per: "row", Seconds: u2.best, Unit: u1.best},
 	}
 	if rss > 0 {

@@ -126,7 +126,6 @@ type Hierarchy struct {
 	sweeps   int
 	team     team
 	ws       workspace // scratch of the setup, kept for Reset
-	on       bool      // built by NewOn: the levels after the first are another hierarchy's
 
 	// Kernels of the V-cycle, reused so that Apply does not allocate.
 	kRes    residualKernel
@@ -212,9 +211,6 @@ func New(a *sparse.CSR, s Settings) (*Hierarchy, error) {
 // only empty vectors) until a Reset succeeds, and it keeps its memory.
 // A Reset must not run concurrently with Apply on the same h.
 func (h *Hierarchy) Reset(a *sparse.CSR, s Settings) error {
-	if h.on {
-		return fmt.Errorf("amg: %w: Reset of a hierarchy built by NewOn, whose coarse levels are another's", sparse.ErrSettings)
-	}
 	s, err := s.resolve()
 	if err != nil {
 		return err
