@@ -3,6 +3,7 @@ package adapt
 import (
 	"context"
 	"fmt"
+	"runtime/metrics"
 	"testing"
 	"time"
 
@@ -18,7 +19,10 @@ import (
 // coarse mesh until the next step would pass 1e4, 1e5 or 1e6 DOFs. It
 // reports the cost per DOF of the final mesh (ns/DOF), the loop's time in
 // units of one product with the final P1 stiffness matrix (SpMV, timed
-// after the loop) and the cost per DOF of the last step (step-ns/DOF).
+// after the loop) and the cost per DOF of the last step (step-ns/DOF), and
+// the bytes the last step allocated (solve, estimate, mark and refine, read
+// from runtime/metrics' /gc/heap/allocs:bytes between its record and the
+// one before), per DOF of its mesh (step-alloc-B/DOF).
 func BenchmarkLoop(b *testing.B) {
 	for _, n := range []int{1e4, 1e5, 1e6} {
 		b.Run(fmt.Sprintf("dofs=%.0e", float64(n)), func(b *testing.B) {
@@ -28,8 +32,16 @@ func BenchmarkLoop(b *testing.B) {
 			}
 			_, p := known.LShape()
 			var res *Result
+			sample := []metrics.Sample{{Name: "/gc/heap/allocs:bytes"}}
+			var prev, stepAlloc uint64
+			onStep := func(Step) error {
+				metrics.Read(sample)
+				a := sample[0].Value.Uint64()
+				stepAlloc, prev = a-prev, a
+				return nil
+			}
 			for b.Loop() {
-				res, err = Run(context.Background(), Problem{Mesh: m0, Degree: 1, Data: p}, Settings{MaxDOFs: n, AlgebraicFraction: 0.1}, Method{})
+				res, err = Run(context.Background(), Problem{Mesh: m0, Degree: 1, Data: p}, Settings{MaxDOFs: n, AlgebraicFraction: 0.1, OnStep: onStep}, Method{})
 				if err != nil {
 					b.Fatal(err)
 				}
@@ -56,6 +68,7 @@ func BenchmarkLoop(b *testing.B) {
 			b.ReportMetric(loop*1e9/float64(s.NumDOF()), "ns/DOF")
 			b.ReportMetric(loop/spmv, "SpMV")
 			b.ReportMetric(step*1e9/float64(last.DOFs), "step-ns/DOF")
+			b.ReportMetric(float64(stepAlloc)/float64(last.DOFs), "step-alloc-B/DOF")
 		})
 	}
 }
