@@ -201,6 +201,17 @@ func (t *textWriter) int(v int64) {
 	t.bytes(t.buf)
 }
 
+// intTriple writes the JSON array [a,b,c].
+func (t *textWriter) intTriple(a, b, c int64) {
+	t.str("[")
+	t.int(a)
+	t.str(",")
+	t.int(b)
+	t.str(",")
+	t.int(c)
+	t.str("]")
+}
+
 func (t *textWriter) printf(format string, args ...any) {
 	if t.err == nil {
 		_, t.err = fmt.Fprintf(t.w, format, args...)

@@ -113,13 +113,7 @@ func WriteJSON(w io.Writer, m *Mesh, d *Data) error {
 		if k > 0 {
 			t.str(",")
 		}
-		t.str("[")
-		t.int(int64(m.Tri[3*k]))
-		t.str(",")
-		t.int(int64(m.Tri[3*k+1]))
-		t.str(",")
-		t.int(int64(m.Tri[3*k+2]))
-		t.str("]")
+		t.intTriple(int64(m.Tri[3*k]), int64(m.Tri[3*k+1]), int64(m.Tri[3*k+2]))
 	}
 	t.str("],\n")
 	if slices.ContainsFunc(m.Region, func(r int32) bool { return r != 0 }) {
@@ -134,13 +128,7 @@ func WriteJSON(w io.Writer, m *Mesh, d *Data) error {
 		if b > 0 {
 			t.str(",")
 		}
-		t.str("[")
-		t.int(int64(ab[2*b]))
-		t.str(",")
-		t.int(int64(ab[2*b+1]))
-		t.str(",")
-		t.int(int64(tag[b]))
-		t.str("]")
+		t.intTriple(int64(ab[2*b]), int64(ab[2*b+1]), int64(tag[b]))
 	}
 	t.str("]")
 	jsonCurves(t, m)
@@ -201,13 +189,7 @@ func jsonCurves(t *textWriter, m *Mesh) {
 		if i > 0 {
 			t.str(",")
 		}
-		t.str("[")
-		t.int(int64(m.Edge[2*e]))
-		t.str(",")
-		t.int(int64(m.Edge[2*e+1]))
-		t.str(",")
-		t.int(int64(edgeCircle[e]))
-		t.str("]")
+		t.intTriple(int64(m.Edge[2*e]), int64(m.Edge[2*e+1]), int64(edgeCircle[e]))
 	}
 	t.str("]")
 }
